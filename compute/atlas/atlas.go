@@ -1,0 +1,178 @@
+// Package atlas holds the in-memory form of a single-cell atlas: a matrix of
+// cells by genes (sparse counts) or by features (a dense numeric table), the
+// cell and gene identifiers, and per-cell annotation columns.
+//
+// Every stage after reading works on these types; none of them depends on a
+// file format.
+package atlas
+
+import (
+	"fmt"
+	"lodestone/compute/sparse"
+	"math"
+)
+
+// Dense is a row-major matrix of float32: element (i, j) is Data[i*Cols+j].
+type Dense struct {
+	Rows, Cols int
+	Data       []float32
+}
+
+// NewDense returns a zeroed rows × cols matrix.
+func NewDense(rows, cols int) *Dense {
+	return &Dense{Rows: rows, Cols: cols, Data: make([]float32, rows*cols)}
+}
+
+// Row returns row i; the slice aliases m.
+func (m *Dense) Row(i int) []float32 { return m.Data[i*m.Cols : (i+1)*m.Cols] }
+
+// At returns element (i, j).
+func (m *Dense) At(i, j int) float32 { return m.Data[i*m.Cols+j] }
+
+// Kind says how the values of an annotation column are to be read.
+type Kind uint8
+
+const (
+	// Categorical columns hold a small set of labels (sample, day, state).
+	Categorical Kind = iota + 1
+	// Continuous columns hold real numbers (a score, a count).
+	Continuous
+)
+
+// String returns "categorical" or "continuous".
+func (k Kind) String() string {
+	switch k {
+	case Categorical:
+		return "categorical"
+	case Continuous:
+		return "continuous"
+	}
+	return fmt.Sprintf("Kind(%d)", uint8(k))
+}
+
+// Missing is the code of a missing value in a categorical column.
+const Missing = -1
+
+// Column is one per-cell annotation. A categorical column stores for each cell
+// an index into Levels (Missing when absent); a continuous column stores a
+// value per cell (NaN when absent).
+type Column struct {
+	Name   string
+	Kind   Kind
+	Levels []string  // categorical: the distinct labels
+	Codes  []int32   // categorical: per cell, index into Levels or Missing
+	Values []float64 // continuous: per cell, NaN when missing
+}
+
+// Len returns the number of cells the column describes.
+func (c *Column) Len() int {
+	if c.Kind == Categorical {
+		return len(c.Codes)
+	}
+	return len(c.Values)
+}
+
+// MissingCount returns how many cells have no value.
+func (c *Column) MissingCount() int {
+	n := 0
+	if c.Kind == Categorical {
+		for _, v := range c.Codes {
+			if v == Missing {
+				n++
+			}
+		}
+		return n
+	}
+	for _, v := range c.Values {
+		if math.IsNaN(v) {
+			n++
+		}
+	}
+	return n
+}
+
+// Counts returns, for a categorical column, the number of cells in each level.
+func (c *Column) Counts() []int {
+	out := make([]int, len(c.Levels))
+	for _, v := range c.Codes {
+		if v >= 0 {
+			out[v]++
+		}
+	}
+	return out
+}
+
+// Label returns the text of cell i's value ("" when missing).
+func (c *Column) Label(i int) string {
+	if c.Kind == Categorical {
+		if v := c.Codes[i]; v >= 0 {
+			return c.Levels[v]
+		}
+		return ""
+	}
+	if v := c.Values[i]; !math.IsNaN(v) {
+		return fmt.Sprintf("%.4g", v)
+	}
+	return ""
+}
+
+// Dataset is an atlas in memory. Exactly one of Counts and Table is set:
+// Counts for a sparse counts matrix (cells × genes), Table for a dense numeric
+// table (cells × features).
+type Dataset struct {
+	Name        string      // a short name for display, e.g. the file's base name
+	Sources     []string    // the files it was read from
+	CellIDs     []string    // one per row
+	GeneIDs     []string    // one per column: gene identifiers or feature names
+	GeneSymbols []string    // one per column; equal to GeneIDs when the input has no symbols
+	Counts      *sparse.CSR // cells × genes
+	Table       *Dense      // cells × features
+	Annotations []Column    // per-cell annotation columns
+	Join        *JoinReport // how the annotation table matched the cells; nil when none was read
+}
+
+// JoinReport says how the rows of an annotation table matched the cells of a
+// matrix.
+type JoinReport struct {
+	Matched         int      // cells that found a row
+	Unmatched       int      // cells without a row (their annotations are missing)
+	Extra           int      // annotation rows naming no cell
+	Duplicated      []string // IDs that occur more than once in the annotation table (first kept), at most 20 listed
+	DuplicatedCount int      // how many duplicated IDs in all
+}
+
+// Cells returns the number of cells.
+func (d *Dataset) Cells() int { return len(d.CellIDs) }
+
+// Features returns the number of genes or feature columns.
+func (d *Dataset) Features() int { return len(d.GeneIDs) }
+
+// Column returns the annotation column with the given name, or nil.
+func (d *Dataset) Column(name string) *Column {
+	for i := range d.Annotations {
+		if d.Annotations[i].Name == name {
+			return &d.Annotations[i]
+		}
+	}
+	return nil
+}
+
+// Bytes returns the approximate memory held by the dataset's arrays.
+func (d *Dataset) Bytes() int64 {
+	var b int64
+	if d.Counts != nil {
+		b += d.Counts.Bytes()
+	}
+	if d.Table != nil {
+		b += int64(len(d.Table.Data)) * 4
+	}
+	for _, s := range [][]string{d.CellIDs, d.GeneIDs, d.GeneSymbols} {
+		for _, x := range s {
+			b += int64(len(x)) + 16
+		}
+	}
+	for i := range d.Annotations {
+		b += int64(len(d.Annotations[i].Codes))*4 + int64(len(d.Annotations[i].Values))*8
+	}
+	return b
+}
