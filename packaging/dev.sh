@@ -1,0 +1,87 @@
+#!/bin/sh
+# dev.sh — set up a fresh Debian 12 / Ubuntu machine for Lodestone, then run
+# the program or its tests.
+#
+#   sh packaging/dev.sh run    install what is missing, build, open the example atlas
+#   sh packaging/dev.sh test   install what is missing, run every test
+#
+# It installs Debian packages with apt-get (through sudo when not root) and,
+# when no Go 1.21 or newer is on PATH, the Go toolchain into ~/.local/go.
+set -eu
+
+cd "$(dirname "$0")/.."
+
+SUDO=""
+if [ "$(id -u)" -ne 0 ]; then SUDO=sudo; fi
+
+# Build needs: a C compiler and the GLFW/GTK headers Fyne and the native
+# file dialog link against.
+BUILD_PKGS="ca-certificates curl gcc libc6-dev make pkg-config libgl1-mesa-dev xorg-dev libgtk-3-dev"
+# Tests also need: Xvfb for the real-window test, the reference libraries the
+# numerical checks compare against, an SVG renderer, and the packaging tools.
+TEST_PKGS="xvfb x11-utils imagemagick python3 python3-scipy python3-sklearn python3-networkx librsvg2-bin desktop-file-utils dpkg-dev fakeroot file xz-utils zip gcc-mingw-w64-x86-64"
+
+GO_VERSION=1.26.8
+
+missing_pkgs() {
+	for p in "$@"; do
+		dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || printf '%s ' "$p"
+	done
+}
+
+install_pkgs() {
+	m=$(missing_pkgs "$@")
+	[ -z "$m" ] && return 0
+	echo "dev.sh: installing $m"
+	$SUDO apt-get update
+	DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y --no-install-recommends $m
+}
+
+ensure_go() {
+	if command -v go >/dev/null 2>&1; then
+		minor=$(go env GOVERSION | sed -n 's/^go1\.\([0-9]*\).*/\1/p')
+		# Go 1.21+ fetches the toolchain go.mod asks for by itself.
+		if [ -n "$minor" ] && [ "$minor" -ge 21 ]; then return 0; fi
+	fi
+	if [ -x "$HOME/.local/go/bin/go" ]; then
+		PATH="$HOME/.local/go/bin:$PATH"; export PATH; return 0
+	fi
+	echo "dev.sh: installing Go $GO_VERSION into $HOME/.local/go"
+	mkdir -p "$HOME/.local"
+	curl -fsSL "https://go.dev/dl/go$GO_VERSION.linux-amd64.tar.gz" | tar -C "$HOME/.local" -xz
+	PATH="$HOME/.local/go/bin:$PATH"; export PATH
+}
+
+run_fuzz_briefly() {
+	# Each fuzz target for a few seconds from its committed seed corpus.
+	for pkg in $(go list ./...); do
+		for f in $(go test -list '^Fuzz' "$pkg" | grep '^Fuzz' || true); do
+			echo "fuzz $pkg $f"
+			go test -run='^$' -fuzz="^$f\$" -fuzztime="${FUZZTIME:-5s}" "$pkg"
+		done
+	done
+}
+
+case "${1:-}" in
+run)
+	install_pkgs $BUILD_PKGS
+	ensure_go
+	go build -o lodestone .
+	exec ./lodestone --example
+	;;
+test)
+	install_pkgs $BUILD_PKGS $TEST_PKGS
+	ensure_go
+	export LANG=C.UTF-8 GSETTINGS_BACKEND=memory
+	go vet ./...
+	go test -count=1 ./...
+	go test -count=1 -race ./compute/parallel/... ./compute/embed/... ./app/...
+	run_fuzz_briefly
+	if [ -f packaging/build.sh ]; then sh packaging/build.sh --check; fi
+	echo "dev.sh: all tests passed"
+	;;
+*)
+	echo "usage: sh packaging/dev.sh run|test" >&2
+	exit 2
+	;;
+esac
