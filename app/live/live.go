@@ -1,0 +1,250 @@
+// Package live runs the embedding optimiser in the background for the window
+// and hands its newest layout over to the UI.
+//
+// An Engine owns at most one run at a time. Turning the attraction dial
+// cancels the run in flight and starts a new one from the newest layout, the
+// one on screen; the new run waits for the old goroutine to return before it
+// begins, so two runs never overlap. Everything shared with the UI is behind
+// one mutex, and layouts are handed over as fresh slices that nobody writes
+// after publication.
+package live
+
+import (
+	"context"
+	"errors"
+	"math"
+	"sync"
+	"time"
+)
+
+// Frame is one published state of a run.
+type Frame struct {
+	Layout     []float32 // interleaved x,y; never modified after publication
+	Iteration  int       // iterations done in this run
+	Iterations int       // iterations planned for this run
+	KL         float64   // estimated KL divergence of the layout (NaN when unknown)
+	Settled    bool      // the layout has stopped moving
+}
+
+// Optimizer is what an Engine drives: the t-SNE optimiser with its affinities
+// and the spectral layout of the same graph.
+type Optimizer interface {
+	// Run optimises from init (not modified) with the given attraction for
+	// iterations iterations, with an early-exaggeration phase first when early
+	// is true, calling publish with frames from the calling goroutine. It
+	// returns the final layout, or the last one and ctx.Err() when cancelled.
+	Run(ctx context.Context, init []float32, attraction float64, iterations int, early bool, publish func(Frame)) ([]float32, error)
+	// Spectral returns the spectral (Laplacian-eigenmap) layout, scaled and
+	// turned to match like as closely as a rotation, reflection and uniform
+	// scale allow.
+	Spectral(ctx context.Context, like []float32) ([]float32, error)
+}
+
+// Status describes the engine's current run.
+type Status struct {
+	Running    bool
+	Attraction float64
+	Iteration  int
+	Iterations int
+	KL         float64
+	Settled    bool
+	Started    time.Time     // when the current or last run started
+	Elapsed    time.Duration // how long it ran (so far)
+	Err        error         // the last run's error, other than cancellation
+	Runs       int           // how many runs were started
+}
+
+// Engine runs an Optimizer in the background. The zero value is not usable;
+// call New.
+type Engine struct {
+	opt     Optimizer
+	initial []float32
+	onFrame func()
+
+	mu     sync.Mutex
+	layout []float32
+	status Status
+	gen    uint64
+	cancel context.CancelFunc
+	done   chan struct{}
+}
+
+// New returns an engine showing initial until its first run. onFrame, when
+// not nil, is called from the run's goroutine after each new frame and after
+// a run ends; it must not block (the window schedules a redraw).
+func New(opt Optimizer, initial []float32, onFrame func()) *Engine {
+	done := make(chan struct{})
+	close(done)
+	return &Engine{opt: opt, initial: initial, layout: initial, onFrame: onFrame, done: done,
+		status: Status{KL: math.NaN()}}
+}
+
+// Latest returns the newest layout and the status. The layout must not be
+// modified.
+func (e *Engine) Latest() ([]float32, Status) {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	s := e.status
+	if s.Running {
+		s.Elapsed = time.Since(s.Started)
+	}
+	return e.layout, s
+}
+
+// Initial returns the layout fresh runs start from.
+func (e *Engine) Initial() []float32 { return e.initial }
+
+// SetLayout stops any run and shows layout (for example one read from a
+// session).
+func (e *Engine) SetLayout(layout []float32) {
+	e.mu.Lock()
+	e.stopLocked()
+	e.layout = layout
+	e.mu.Unlock()
+	e.notify()
+}
+
+// Turn starts a warm run at the given attraction from the layout on screen:
+// iterations iterations without early exaggeration. An attraction of +Inf
+// moves to the spectral layout instead.
+func (e *Engine) Turn(attraction float64, iterations int) {
+	e.start(attraction, iterations, false)
+}
+
+// Restart starts a fresh run from the initial layout, with early
+// exaggeration, at the given attraction.
+func (e *Engine) Restart(attraction float64, iterations int) {
+	e.start(attraction, iterations, true)
+}
+
+// Stop cancels the run in flight, keeping the layout it reached.
+func (e *Engine) Stop() {
+	e.mu.Lock()
+	e.stopLocked()
+	e.mu.Unlock()
+}
+
+// Wait blocks until the current run has returned.
+func (e *Engine) Wait() {
+	e.mu.Lock()
+	done := e.done
+	e.mu.Unlock()
+	<-done
+}
+
+func (e *Engine) stopLocked() {
+	e.gen++
+	if e.cancel != nil {
+		e.cancel()
+		e.cancel = nil
+	}
+	e.status.Running = false
+}
+
+func (e *Engine) notify() {
+	if e.onFrame != nil {
+		e.onFrame()
+	}
+}
+
+func (e *Engine) start(attraction float64, iterations int, fresh bool) {
+	e.mu.Lock()
+	e.stopLocked()
+	gen := e.gen
+	from := e.layout
+	if fresh {
+		from = e.initial
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	e.cancel = cancel
+	prev := e.done
+	done := make(chan struct{})
+	e.done = done
+	e.status = Status{Running: true, Attraction: attraction, Iterations: iterations, KL: math.NaN(),
+		Started: time.Now(), Runs: e.status.Runs + 1}
+	e.mu.Unlock()
+
+	go func() {
+		defer close(done)
+		defer cancel()
+		<-prev
+		if ctx.Err() != nil {
+			return
+		}
+		var err error
+		if math.IsInf(attraction, 1) {
+			err = e.toSpectral(ctx, gen, from)
+		} else {
+			_, err = e.opt.Run(ctx, from, attraction, iterations, fresh, func(f Frame) { e.publish(gen, f) })
+		}
+		e.finish(gen, err)
+	}()
+}
+
+// publish stores f when it belongs to the current run.
+func (e *Engine) publish(gen uint64, f Frame) {
+	e.mu.Lock()
+	if gen != e.gen {
+		e.mu.Unlock()
+		return
+	}
+	e.layout = f.Layout
+	e.status.Iteration = f.Iteration
+	e.status.Iterations = f.Iterations
+	if !math.IsNaN(f.KL) {
+		e.status.KL = f.KL
+	}
+	e.status.Settled = f.Settled
+	e.mu.Unlock()
+	e.notify()
+}
+
+func (e *Engine) finish(gen uint64, err error) {
+	e.mu.Lock()
+	if gen != e.gen {
+		e.mu.Unlock()
+		return
+	}
+	e.status.Running = false
+	e.status.Elapsed = time.Since(e.status.Started)
+	if err != nil && !errors.Is(err, context.Canceled) {
+		e.status.Err = err
+	}
+	e.cancel = nil
+	e.mu.Unlock()
+	e.notify()
+}
+
+// spectralGlide is how many frames the move to the spectral layout takes, so
+// that the map glides there instead of jumping.
+const spectralGlide = 15
+
+func (e *Engine) toSpectral(ctx context.Context, gen uint64, from []float32) error {
+	target, err := e.opt.Spectral(ctx, from)
+	if err != nil {
+		return err
+	}
+	if len(target) != len(from) {
+		return errors.New("live: spectral layout has the wrong length")
+	}
+	tick := time.NewTicker(time.Second / 30)
+	defer tick.Stop()
+	for s := 1; s <= spectralGlide; s++ {
+		t := float32(s) / spectralGlide
+		t = t * t * (3 - 2*t) // smoothstep
+		frame := make([]float32, len(from))
+		for i := range frame {
+			frame[i] = from[i] + t*(target[i]-from[i])
+		}
+		if s == spectralGlide {
+			frame = target
+		}
+		e.publish(gen, Frame{Layout: frame, Iteration: s, Iterations: spectralGlide, KL: math.NaN(), Settled: s == spectralGlide})
+		select {
+		case <-ctx.Done():
+			return ctx.Err()
+		case <-tick.C:
+		}
+	}
+	return nil
+}
