@@ -1,0 +1,330 @@
+// Package affinity turns a k-nearest-neighbour graph into the symmetric
+// affinity matrix P that neighbour embeddings attract along: Gaussian
+// affinities calibrated to a perplexity (van der Maaten & Hinton 2008), or
+// uniform weights on the k nearest neighbours.
+//
+// Both constructions return P as a symmetric *sparse.CSR with float32 values,
+// sorted columns, no diagonal, and entries summing to 1.
+package affinity
+
+import (
+	"context"
+	"math"
+	"slices"
+	"strconv"
+	"sync"
+	"sync/atomic"
+
+	"lodestone/compute/neighbors"
+	"lodestone/compute/parallel"
+	"lodestone/compute/sparse"
+)
+
+// EntropyTolerance is the largest difference, in bits, that Perplexity allows
+// between a point's entropy H(P_i) and log2(perplexity).
+const EntropyTolerance = 1e-5
+
+// maxSearchSteps bounds the binary search on one point's precision. Doubling
+// and halving from a scale-aware start reach any reachable entropy to
+// EntropyTolerance in far fewer steps.
+const maxSearchSteps = 200
+
+// chunkRows is the number of points handed to a worker at a time; small
+// enough that a cancelled context is noticed within a few milliseconds.
+const chunkRows = 512
+
+// Perplexity returns the symmetric Gaussian affinities of the points of g.
+//
+// Each point i uses its first k = min(g.K, ⌊3·perplexity⌋) neighbours
+// (van der Maaten 2014) and the conditional probabilities
+//
+//	p_j|i = exp(−β_i d_ij²) / Σ_l exp(−β_i d_il²)
+//
+// with the precision β_i found by binary search so that the entropy
+// H(P_i) = −Σ_j p_j|i log2 p_j|i equals log2(perplexity) within
+// EntropyTolerance (van der Maaten & Hinton 2008). The result is the
+// symmetrised matrix
+//
+//	p_ij = (p_j|i + p_i|j) / (2N),   Σ_ij p_ij = 1.
+//
+// Distances of zero (duplicate points) are allowed. A point whose k distances
+// are all equal gets uniform weights, and a point with more than perplexity
+// neighbours at its smallest distance, whose entropy cannot fall to the
+// target, ends with its weight spread evenly over those nearest ties.
+//
+// perplexity must be finite, at least 1 and at most k; a larger value cannot
+// be reached with the neighbours available and returns a *ParamError wrapping
+// ErrPerplexity (build the graph with at least ⌈perplexity⌉ neighbours, 3·perplexity
+// for the usual accuracy). A malformed graph returns a *GraphError naming the
+// first faulty point. threads < 1 means all processors. Perplexity returns
+// ctx.Err() when ctx is cancelled.
+func Perplexity(ctx context.Context, g *neighbors.Graph, perplexity float64, threads int) (*sparse.CSR, error) {
+	if err := checkShape(g); err != nil {
+		return nil, err
+	}
+	if math.IsNaN(perplexity) || math.IsInf(perplexity, 0) || perplexity < 1 {
+		return nil, &ParamError{Name: "perplexity", Value: perplexity, Reason: "must be finite and at least 1", Err: ErrPerplexity}
+	}
+	k := min(g.K, int(3*perplexity))
+	if perplexity > float64(k) {
+		return nil, &ParamError{Name: "perplexity", Value: perplexity,
+			Reason: "exceeds the " + strconv.Itoa(k) + " neighbours available per point", Err: ErrPerplexity}
+	}
+	target := math.Log2(perplexity)
+	weigh := func(p, d2 []float64) {
+		calibrate(p, d2, target)
+	}
+	return build(ctx, g, k, weigh, threads)
+}
+
+// Uniform returns the symmetric uniform affinities of the first k neighbours
+// of each point of g:
+//
+//	p_j|i = 1/k for the k nearest j of i, 0 otherwise,
+//	p_ij  = (p_j|i + p_i|j) / (2N),   Σ_ij p_ij = 1.
+//
+// k must lie in [1, g.K]; otherwise Uniform returns a *ParamError wrapping
+// ErrNeighborCount. A malformed graph returns a *GraphError. Uniform uses all
+// processors.
+func Uniform(g *neighbors.Graph, k int) (*sparse.CSR, error) {
+	if err := checkShape(g); err != nil {
+		return nil, err
+	}
+	if k < 1 || k > g.K {
+		return nil, &ParamError{Name: "k", Value: float64(k), Reason: "must lie in [1, " + strconv.Itoa(g.K) + "]", Err: ErrNeighborCount}
+	}
+	weigh := func(p, _ []float64) {
+		for j := range p {
+			p[j] = 1 / float64(len(p))
+		}
+	}
+	return build(context.Background(), g, k, weigh, 0)
+}
+
+// calibrate writes to p the Gaussian weights exp(−β d2_j) / Σ_l exp(−β d2_l)
+// of one point's neighbours, at squared distances d2, with β chosen by binary
+// search so that the entropy of p in bits is target within EntropyTolerance.
+// It returns the entropy reached. d2 is overwritten.
+func calibrate(p, d2 []float64, target float64) float64 {
+	// Shift by the smallest squared distance: p is unchanged and the largest
+	// weight is exp(0) = 1, so no weight underflows to give a zero sum.
+	lo := slices.Min(d2)
+	var mean float64
+	for j, v := range d2 {
+		d2[j] = v - lo
+		mean += d2[j]
+	}
+	mean /= float64(len(d2))
+	if mean == 0 {
+		for j := range p {
+			p[j] = 1 / float64(len(p))
+		}
+		return math.Log2(float64(len(p)))
+	}
+	beta, betaLo, betaHi := 1/mean, 0.0, math.Inf(1)
+	var sum, h float64
+	for step := 0; step < maxSearchSteps; step++ {
+		var sumE float64
+		sum = 0
+		for j, e := range d2 {
+			w := math.Exp(-beta * e)
+			p[j] = w
+			sum += w
+			sumE += w * e
+		}
+		// H = log Σw + β Σ w e / Σ w, in nats; converted to bits.
+		h = (math.Log(sum) + beta*sumE/sum) / math.Ln2
+		diff := h - target
+		if math.Abs(diff) < EntropyTolerance {
+			break
+		}
+		if diff > 0 {
+			betaLo = beta
+			if math.IsInf(betaHi, 1) {
+				beta *= 2
+			} else {
+				beta = (beta + betaHi) / 2
+			}
+		} else {
+			betaHi = beta
+			beta = (beta + betaLo) / 2
+		}
+	}
+	for j := range p {
+		p[j] /= sum
+	}
+	return h
+}
+
+// checkShape checks the sizes of g's arrays.
+func checkShape(g *neighbors.Graph) error {
+	if g == nil || g.N < 2 || g.K < 1 || len(g.Index) != g.N*g.K || len(g.Dist) != g.N*g.K {
+		return &GraphError{Point: -1, Neighbor: -1, Err: ErrShape}
+	}
+	return nil
+}
+
+// rowScratch is one worker's buffers for build.
+type rowScratch struct {
+	d2, p []float64
+	keys  []uint64
+}
+
+// build computes the conditional weights of each point's first k neighbours
+// with weigh (p receives the weights of the neighbours at squared distances
+// d2, nearest first), then symmetrises them:
+//
+//	p_ij = (p_j|i + p_i|j) / (2N).
+//
+// It checks every entry of g it reads and reports the faulty entry with the
+// smallest point index.
+func build(ctx context.Context, g *neighbors.Graph, k int, weigh func(p, d2 []float64), threads int) (*sparse.CSR, error) {
+	threads = parallel.Threads(threads)
+	n := g.N
+	// Conditional weights, each row sorted by neighbour id so that p_i|j can
+	// be found by binary search in row j.
+	cols := make([]int32, n*k)
+	vals := make([]float32, n*k)
+	scratch := make([]rowScratch, threads)
+	for w := range scratch {
+		scratch[w] = rowScratch{d2: make([]float64, k), p: make([]float64, k), keys: make([]uint64, k)}
+	}
+	var (
+		errMu    sync.Mutex
+		firstErr *GraphError
+	)
+	report := func(e *GraphError) {
+		errMu.Lock()
+		if firstErr == nil || e.Point < firstErr.Point || (e.Point == firstErr.Point && e.Neighbor < firstErr.Neighbor) {
+			firstErr = e
+		}
+		errMu.Unlock()
+	}
+	err := parallel.ForChunks(ctx, n, chunkRows, threads, func(lo, hi, w int) {
+		s := &scratch[w]
+	rows:
+		for i := lo; i < hi; i++ {
+			ids, dist := g.Neighbors(i)
+			for a := 0; a < k; a++ {
+				j, d := ids[a], float64(dist[a])
+				if j < 0 || int(j) >= n || int(j) == i {
+					report(&GraphError{Point: i, Neighbor: a, Err: ErrNeighbor})
+					continue rows
+				}
+				if !(d >= 0) || math.IsInf(d, 1) {
+					report(&GraphError{Point: i, Neighbor: a, Err: ErrDistance})
+					continue rows
+				}
+				s.d2[a] = d * d
+			}
+			weigh(s.p, s.d2)
+			// Sort (id, weight) pairs by id: pack the id above the weight's bits.
+			for a := 0; a < k; a++ {
+				s.keys[a] = uint64(ids[a])<<32 | uint64(math.Float32bits(float32(s.p[a])))
+			}
+			slices.Sort(s.keys)
+			row := cols[i*k : (i+1)*k]
+			for a, key := range s.keys {
+				row[a] = int32(key >> 32)
+				vals[i*k+a] = math.Float32frombits(uint32(key))
+				if a > 0 && row[a] == row[a-1] {
+					report(&GraphError{Point: i, Neighbor: slices.Index(ids[:k], row[a]), Err: ErrRepeated})
+					continue rows
+				}
+			}
+		}
+	})
+	if err != nil {
+		return nil, err
+	}
+	if firstErr != nil {
+		return nil, firstErr
+	}
+	return symmetrize(ctx, n, k, cols, vals, threads)
+}
+
+// symmetrize returns P = (C + Cᵀ)/(2n) for the conditional matrix C whose row
+// i holds the k entries cols[i*k:(i+1)*k] (strictly increasing) with values
+// vals[i*k:(i+1)*k].
+func symmetrize(ctx context.Context, n, k int, cols []int32, vals []float32, threads int) (*sparse.CSR, error) {
+	row := func(i int) []int32 { return cols[i*k : (i+1)*k] }
+	// find returns the position of j in row i, or -1.
+	find := func(i int, j int32) int {
+		if a, ok := slices.BinarySearch(row(i), j); ok {
+			return a
+		}
+		return -1
+	}
+	// An edge i→j whose reverse j→i is absent adds entry i to row j of P.
+	extra := make([]int32, n)
+	err := parallel.ForChunks(ctx, n, chunkRows, threads, func(lo, hi, _ int) {
+		for i := lo; i < hi; i++ {
+			for _, j := range row(i) {
+				if find(int(j), int32(i)) < 0 {
+					atomic.AddInt32(&extra[j], 1)
+				}
+			}
+		}
+	})
+	if err != nil {
+		return nil, err
+	}
+	extraPtr := make([]int64, n+1)
+	for i := 0; i < n; i++ {
+		extraPtr[i+1] = extraPtr[i] + int64(extra[i])
+	}
+	extraSrc := make([]int32, extraPtr[n])
+	fill := make([]int32, n) // next free slot per row, as an offset
+	err = parallel.ForChunks(ctx, n, chunkRows, threads, func(lo, hi, _ int) {
+		for i := lo; i < hi; i++ {
+			for _, j := range row(i) {
+				if find(int(j), int32(i)) < 0 {
+					slot := atomic.AddInt32(&fill[j], 1) - 1
+					extraSrc[extraPtr[j]+int64(slot)] = int32(i)
+				}
+			}
+		}
+	})
+	if err != nil {
+		return nil, err
+	}
+	p := &sparse.CSR{Rows: n, Cols: n, RowPtr: make([]int64, n+1)}
+	for i := 0; i < n; i++ {
+		p.RowPtr[i+1] = p.RowPtr[i] + int64(k) + int64(extra[i])
+	}
+	nnz := p.RowPtr[n]
+	p.ColIdx = make([]int32, nnz)
+	p.Val = make([]float32, nnz)
+	scale := 1 / (2 * float64(n))
+	err = parallel.ForChunks(ctx, n, chunkRows, threads, func(lo, hi, _ int) {
+		for i := lo; i < hi; i++ {
+			// The extra sources were placed in arbitrary order; sorting makes
+			// the result independent of scheduling.
+			src := extraSrc[extraPtr[i]:extraPtr[i+1]]
+			slices.Sort(src)
+			own, ownVal := row(i), vals[i*k:(i+1)*k]
+			out := p.ColIdx[p.RowPtr[i]:p.RowPtr[i+1]]
+			outVal := p.Val[p.RowPtr[i]:p.RowPtr[i+1]]
+			a, b := 0, 0
+			for o := range out {
+				if b == len(src) || (a < len(own) && own[a] < src[b]) {
+					j := own[a]
+					v := float64(ownVal[a])
+					if r := find(int(j), int32(i)); r >= 0 {
+						v += float64(vals[int(j)*k+r])
+					}
+					out[o], outVal[o] = j, float32(v*scale)
+					a++
+				} else {
+					j := src[b]
+					out[o], outVal[o] = j, float32(float64(vals[int(j)*k+find(int(j), int32(i))])*scale)
+					b++
+				}
+			}
+		}
+	})
+	if err != nil {
+		return nil, err
+	}
+	return p, nil
+}
