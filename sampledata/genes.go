@@ -1,0 +1,216 @@
+package sampledata
+
+import (
+	"math"
+	"slices"
+)
+
+// Stream purposes: each kind of random draw has its own family of streams.
+const (
+	purposeCells uint64 = iota + 1
+	purposeGenes
+	purposeNames
+)
+
+// Gene composition at the default size; other sizes scale these counts.
+const (
+	defaultGenes       = 2000
+	mitoGenes          = 12   // genes named with MitoPrefix
+	housekeepingShare  = 0.03 // share of genes with high, steady expression
+	programmeMin       = 30   // smallest state programme at the default size
+	programmeMax       = 60   // largest state programme at the default size
+	rampGenes          = 25   // genes rising along each lineage, default size
+	maturationGenes    = 20   // genes rising with maturation in every lineage
+	minProgrammeGenes  = 4    // floor of a state programme at small sizes
+	minRampGenes       = 2    // floor of a ramp at small sizes
+	foldMin, foldMax   = 1.5, 3.0
+	rampFoldMin        = 1.0
+	rampFoldMax        = 2.0
+	batchFactorSD      = 0.15      // sd of the log of run 2's per-gene factor
+	housekeepingShareC = 0.50      // expected share of nuclear counts in housekeeping genes
+	minSize, maxSize   = 0.25, 100 // range of the negative binomial size r
+	backgroundSD       = 2.8       // sd of the log abundance of background genes
+	backgroundMaxZ     = 1.3       // the normal behind it is truncated above here
+	programmeLogBase   = -2.0      // log abundance of programme genes relative to the background median
+)
+
+// Programme slots: one per state, then one ramp per lineage, then the ramp
+// shared by all lineages.
+const (
+	slotRamp0      = 9 // slot of the first lineage's ramp
+	slotMaturation = slotRamp0 + 3
+	slotCount      = slotMaturation + 1
+)
+
+// geneModel holds everything about the genes that does not change from cell
+// to cell.
+type geneModel struct {
+	genes   int
+	nuclear int // genes [0, nuclear) are nuclear, [nuclear, genes) mitochondrial-like
+
+	symbols []string
+	size    []float64 // negative binomial size r of each gene
+	slot    []int8    // programme slot of each nuclear gene, −1 when none
+	logFold []float64 // log fold change of each gene at full programme activity
+
+	abundance [2][]float64 // per run, relative abundance of each nuclear gene
+	total     [2]float64   // per run, sum of abundance
+	factor    []float64    // per gene, run 2's multiplicative factor
+	mitoShare []float64    // per mitochondrial-like gene, its share of their counts
+
+	active [4][]int32 // per lineage (0 = progenitor), genes whose programme can be on
+
+	programmes   [slotCount][]int // genes of each slot, ascending
+	housekeeping []int
+}
+
+// scaled returns n scaled from the default gene count to genes, at least lo.
+func scaled(n float64, genes, lo int) int {
+	return max(lo, int(math.Round(n*float64(genes)/defaultGenes)))
+}
+
+// newGeneModel draws the gene parameters from the gene stream of seed.
+func newGeneModel(seed int64, genes int) *geneModel {
+	m := &geneModel{genes: genes, nuclear: genes - mitoGenes}
+	s := newStream(seed, purposeGenes, 0)
+	m.symbols = geneSymbols(m.nuclear, mitoGenes)
+
+	// Roles: a random order of the nuclear genes is cut into housekeeping
+	// genes, state programmes, lineage ramps, the shared ramp and background.
+	order := make([]int, m.nuclear)
+	for i := range order {
+		order[i] = i
+	}
+	for i := len(order) - 1; i > 0; i-- {
+		j := int(s.uniform() * float64(i+1))
+		order[i], order[j] = order[j], order[i]
+	}
+	m.slot = make([]int8, genes)
+	for i := range m.slot {
+		m.slot[i] = -1
+	}
+	next := 0
+	take := func(n int) []int {
+		g := slices.Clone(order[next : next+n])
+		next += n
+		slices.Sort(g)
+		return g
+	}
+	m.housekeeping = take(scaled(housekeepingShare*defaultGenes, genes, 1))
+	for st := range states {
+		n := programmeMin + s.uniform()*(programmeMax-programmeMin)
+		m.programmes[st] = take(scaled(n, genes, minProgrammeGenes))
+	}
+	for l := range paths {
+		m.programmes[slotRamp0+l] = take(scaled(rampGenes, genes, minRampGenes))
+	}
+	m.programmes[slotMaturation] = take(scaled(maturationGenes, genes, minRampGenes))
+
+	// Log abundances: background genes spread widely around a low median,
+	// programme genes low until their programme switches on, housekeeping
+	// genes high and narrow. Each group is scaled to its share.
+	logAb := make([]float64, m.nuclear)
+	for g := range logAb {
+		z := s.normal()
+		for z > backgroundMaxZ {
+			z = s.normal()
+		}
+		logAb[g] = backgroundSD * z
+	}
+	m.logFold = make([]float64, genes)
+	for sl := range m.programmes {
+		lo, hi := foldMin, foldMax
+		if sl >= slotRamp0 {
+			lo, hi = rampFoldMin, rampFoldMax
+		}
+		for _, g := range m.programmes[sl] {
+			m.slot[g] = int8(sl)
+			m.logFold[g] = lo + s.uniform()*(hi-lo)
+			logAb[g] = programmeLogBase + 0.7*s.normal()
+		}
+	}
+	var other float64
+	isHK := make([]bool, m.nuclear)
+	for _, g := range m.housekeeping {
+		isHK[g] = true
+	}
+	for g, v := range logAb {
+		if !isHK[g] {
+			other += math.Exp(v)
+		}
+	}
+	hk := make([]float64, len(m.housekeeping))
+	var hkSum float64
+	for i := range hk {
+		hk[i] = math.Exp(0.5 * s.normal())
+		hkSum += hk[i]
+	}
+	// Housekeeping genes take housekeepingShareC of the nuclear counts of a
+	// cell whose programmes are all off.
+	hkScale := housekeepingShareC / (1 - housekeepingShareC) * other / hkSum
+	for i, g := range m.housekeeping {
+		logAb[g] = math.Log(hk[i] * hkScale)
+	}
+
+	// Dispersion: housekeeping genes are close to Poisson, the rest
+	// overdispersed, each gene with its own size, rounded to a quarter
+	// (which makes the sampler faster and changes nothing visible).
+	m.size = make([]float64, genes)
+	for g := range m.size {
+		mean := math.Log(1.5)
+		if g < m.nuclear && isHK[g] || g >= m.nuclear {
+			mean = math.Log(10)
+		}
+		r := min(maxSize, max(minSize, math.Exp(mean+0.6*s.normal())))
+		m.size[g] = math.Round(4*r) / 4
+	}
+
+	// Run 2 multiplies each nuclear gene by a log-normal factor.
+	m.factor = make([]float64, genes)
+	for g := range m.factor {
+		m.factor[g] = 1
+		if g < m.nuclear {
+			m.factor[g] = math.Exp(batchFactorSD * s.normal())
+		}
+	}
+	for b := range m.abundance {
+		m.abundance[b] = make([]float64, m.nuclear)
+		for g, v := range logAb {
+			a := math.Exp(v)
+			if b == 1 {
+				a *= m.factor[g]
+			}
+			m.abundance[b][g] = a
+			m.total[b] += a
+		}
+	}
+
+	m.mitoShare = make([]float64, mitoGenes)
+	var ms float64
+	for j := range m.mitoShare {
+		m.mitoShare[j] = math.Exp(0.8 * s.normal())
+		ms += m.mitoShare[j]
+	}
+	for j := range m.mitoShare {
+		m.mitoShare[j] /= ms
+	}
+
+	// Genes whose programme can be on in each lineage: the seedbed and the
+	// shared ramp everywhere, a lineage's states and ramp in that lineage.
+	for l := range m.active {
+		sl := []int{seedbedState, slotMaturation}
+		if l > 0 {
+			sl = append(sl, paths[l-1].states...)
+			sl = append(sl, slotRamp0+l-1)
+		}
+		var gs []int32
+		for _, x := range sl {
+			for _, g := range m.programmes[x] {
+				gs = append(gs, int32(g))
+			}
+		}
+		slices.Sort(gs)
+		m.active[l] = gs
+	}
+	return m
+}
