@@ -1,0 +1,319 @@
+// Package markers finds the genes that distinguish a group of cells from the
+// rest, or from a second group: the Wilcoxon rank-sum (Mann–Whitney U) test
+// of every gene, its fold change, the share of cells that express it, and
+// false-discovery-rate adjusted p-values.
+package markers
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"slices"
+
+	"lodestone/compute/parallel"
+	"lodestone/compute/progress"
+	"lodestone/compute/sparse"
+)
+
+// Options holds the settings of Rank. The zero value asks for the defaults.
+type Options struct {
+	// Threads is the number of goroutines; values < 1 mean all processors.
+	// The results do not depend on it.
+	Threads int
+
+	// Progress, when not nil, receives the number of genes done out of all.
+	Progress progress.Func
+
+	// NoContinuityCorrection drops the continuity correction of the normal
+	// approximation. By default |U − n₁n₂/2| is reduced by ½ before it is
+	// divided by σ, as scipy.stats.mannwhitneyu does with
+	// use_continuity=True.
+	NoContinuityCorrection bool
+
+	// Pseudocount is ε in the fold change (see Result). Zero means
+	// DefaultPseudocount; it must not be negative.
+	Pseudocount float64
+}
+
+// DefaultPseudocount is the ε added to both mean expressions in the fold
+// change: small enough not to shrink real fold changes, large enough to keep
+// the ratio finite when one side does not express the gene at all.
+const DefaultPseudocount = 1e-9
+
+// Result is the comparison of one gene between the group (n₁ cells) and the
+// reference (n₂ cells), with x the log-normalised expression (log(1+y) of
+// normalised counts y):
+//
+//	U             = R₁ − n₁(n₁+1)/2, R₁ the sum of the group's ranks among all n₁+n₂ cells (ties share mid-ranks)
+//	Z             = (U − n₁n₂/2 ∓ ½) / σ, the ½ shrinking |U − n₁n₂/2| (not below 0) unless NoContinuityCorrection
+//	σ²            = n₁n₂/12 · [(n+1) − Σ_t (t³ − t) / (n(n−1))], n = n₁+n₂, t the sizes of the tie blocks
+//	P             = 2 Φ(−|Z|), two-sided; Z = 0 and P = 1 when all values tie (σ = 0)
+//	Q             = P adjusted by BenjaminiHochberg over all genes
+//	LogFoldChange = log₂((mean₁(eˣ−1) + ε) / (mean₂(eˣ−1) + ε)), the fold change of mean normalised expression
+//	MeanIn        = mean₁(x), MeanOut = mean₂(x), means of the log-normalised values
+//	FractionIn    = share of group cells with x > 0, FractionOut likewise for the reference
+//
+// Z > 0 means higher expression in the group.
+type Result struct {
+	Gene                    int // column of the expression matrix
+	LogFoldChange           float64
+	U, Z, P, Q              float64
+	FractionIn, FractionOut float64
+	MeanIn, MeanOut         float64
+}
+
+// Expression is a cells × genes matrix of log-normalised expression held gene
+// by gene, ready to compare any number of groups of cells.
+type Expression struct {
+	cells, genes int
+	byGene       *sparse.CSR // genes × cells
+}
+
+// NewExpression checks x (cells × genes, log-normalised, non-negative) and
+// returns it in gene-major form; x is not modified or kept. It returns an
+// *InputError wrapping ErrMatrix when x is malformed, or ErrValue at the
+// first negative, NaN or infinite value.
+func NewExpression(x *sparse.CSR) (*Expression, error) {
+	if x == nil {
+		return nil, &InputError{What: "expression", Cell: -1, Gene: -1, Err: ErrMatrix}
+	}
+	if err := x.Validate(); err != nil {
+		return nil, &InputError{What: "expression", Cell: -1, Gene: -1, Err: fmt.Errorf("%w: %v", ErrMatrix, err)}
+	}
+	for c := 0; c < x.Rows; c++ {
+		genes, vals := x.Row(c)
+		for p, v := range vals {
+			if !(v >= 0) || math.IsInf(float64(v), 1) {
+				return nil, &InputError{What: "expression", Cell: c, Gene: int(genes[p]),
+					Err: fmt.Errorf("%w: %v", ErrValue, v)}
+			}
+		}
+	}
+	return &Expression{cells: x.Rows, genes: x.Cols, byGene: x.Transpose()}, nil
+}
+
+// Cells returns the number of cells.
+func (e *Expression) Cells() int { return e.cells }
+
+// Genes returns the number of genes.
+func (e *Expression) Genes() int { return e.genes }
+
+// Rank compares every gene of x (cells × genes, log-normalised, non-negative)
+// between the cells marked in inGroup and those marked in reference, or all
+// other cells when reference is nil. It is NewExpression followed by
+// Expression.Rank; to compare several groups, make the Expression once.
+func Rank(ctx context.Context, x *sparse.CSR, inGroup, reference []bool, opt Options) ([]Result, error) {
+	e, err := NewExpression(x)
+	if err != nil {
+		return nil, err
+	}
+	return e.Rank(ctx, inGroup, reference, opt)
+}
+
+// Rank compares every gene between the cells marked in inGroup and those
+// marked in reference (all other cells when reference is nil) by the
+// Wilcoxon rank-sum test (Mann & Whitney 1947) with tie correction and the
+// normal approximation, as described at Result, and adjusts the p-values for
+// the false discovery rate (Benjamini & Hochberg 1995).
+//
+// The zeros of a gene form one tie block with mid-rank (n₀+1)/2; only its
+// non-zero values are sorted. Genes are shared out over opt.Threads
+// goroutines.
+//
+// It returns one Result per gene sorted by descending Z (ties: larger
+// LogFoldChange, then smaller gene index), so the genes most raised in the
+// group come first and the most lowered last. Masks must have one entry per
+// cell; the group and the reference must each hold at least one cell and
+// share none. Otherwise Rank returns an *InputError wrapping ErrMaskLength,
+// ErrEmptyGroup, ErrEmptyReference or ErrOverlap. It returns ctx.Err() when
+// ctx is cancelled.
+func (e *Expression) Rank(ctx context.Context, inGroup, reference []bool, opt Options) ([]Result, error) {
+	if !(opt.Pseudocount >= 0) || math.IsInf(opt.Pseudocount, 1) {
+		return nil, fmt.Errorf("markers: Options.Pseudocount = %v: %w", opt.Pseudocount, ErrOption)
+	}
+	eps := opt.Pseudocount
+	if eps == 0 {
+		eps = DefaultPseudocount
+	}
+	side, n1, n2, err := e.sides(inGroup, reference)
+	if err != nil {
+		return nil, err
+	}
+	threads := parallel.Threads(opt.Threads)
+	widest := 0
+	for g := 0; g < e.genes; g++ {
+		widest = max(widest, int(e.byGene.RowPtr[g+1]-e.byGene.RowPtr[g]))
+	}
+	keys := make([][]uint64, threads)
+	for w := range keys {
+		keys[w] = make([]uint64, 0, widest)
+	}
+	t := test{n1: n1, n2: n2, continuity: !opt.NoContinuityCorrection, eps: eps}
+	res := make([]Result, e.genes)
+	counter := progress.NewCounter(opt.Progress, int64(e.genes), max(1, int64(e.genes)/100))
+	const chunk = 8
+	err = parallel.ForChunks(ctx, e.genes, chunk, threads, func(lo, hi, w int) {
+		for g := lo; g < hi; g++ {
+			cells, vals := e.byGene.Row(g)
+			keys[w] = t.gene(&res[g], cells, vals, side, keys[w])
+			res[g].Gene = g
+		}
+		counter.Add(int64(hi - lo))
+	})
+	if err != nil {
+		return nil, err
+	}
+	p := make([]float64, len(res))
+	for g := range res {
+		p[g] = res[g].P
+	}
+	for g, q := range BenjaminiHochberg(p, p) {
+		res[g].Q = q
+	}
+	slices.SortFunc(res, func(a, b Result) int {
+		switch {
+		case a.Z != b.Z:
+			return cmpDesc(a.Z, b.Z)
+		case a.LogFoldChange != b.LogFoldChange:
+			return cmpDesc(a.LogFoldChange, b.LogFoldChange)
+		}
+		return a.Gene - b.Gene
+	})
+	counter.Finish()
+	return res, nil
+}
+
+func cmpDesc(a, b float64) int {
+	if a > b {
+		return -1
+	}
+	return 1
+}
+
+// Sides of a cell in a comparison.
+const (
+	outside   = 0
+	group     = 1
+	reference = 2
+)
+
+// sides checks the masks and returns the side of every cell and the sizes of
+// the group and the reference.
+func (e *Expression) sides(inGroup, ref []bool) ([]uint8, int, int, error) {
+	if len(inGroup) != e.cells {
+		return nil, 0, 0, &InputError{What: "group", Cell: -1, Gene: -1,
+			Err: fmt.Errorf("%w: %d entries for %d cells", ErrMaskLength, len(inGroup), e.cells)}
+	}
+	if ref != nil && len(ref) != e.cells {
+		return nil, 0, 0, &InputError{What: "reference", Cell: -1, Gene: -1,
+			Err: fmt.Errorf("%w: %d entries for %d cells", ErrMaskLength, len(ref), e.cells)}
+	}
+	side := make([]uint8, e.cells)
+	n1, n2 := 0, 0
+	for c, in := range inGroup {
+		switch {
+		case in && ref != nil && ref[c]:
+			return nil, 0, 0, &InputError{What: "reference", Cell: c, Gene: -1, Err: ErrOverlap}
+		case in:
+			side[c] = group
+			n1++
+		case ref == nil || ref[c]:
+			side[c] = reference
+			n2++
+		}
+	}
+	if n1 == 0 {
+		return nil, 0, 0, &InputError{What: "group", Cell: -1, Gene: -1,
+			Err: fmt.Errorf("%w: none of %d cells marked", ErrEmptyGroup, e.cells)}
+	}
+	if n2 == 0 {
+		what := "no cell marked"
+		if ref == nil {
+			what = fmt.Sprintf("the group holds all %d cells", e.cells)
+		}
+		return nil, 0, 0, &InputError{What: "reference", Cell: -1, Gene: -1,
+			Err: fmt.Errorf("%w: %s", ErrEmptyReference, what)}
+	}
+	return side, n1, n2, nil
+}
+
+// test holds what is common to the tests of all genes of one comparison.
+type test struct {
+	n1, n2     int
+	continuity bool
+	eps        float64
+}
+
+// gene fills r with the comparison of one gene whose non-zero entries are at
+// cells with values vals, using keys as scratch space, and returns keys for
+// reuse. A key holds a value's bits (order-preserving for non-negative
+// float32) above one bit that is 1 for the reference.
+func (t *test) gene(r *Result, cells []int32, vals []float32, side []uint8, keys []uint64) []uint64 {
+	keys = keys[:0]
+	nzIn := 0
+	for p, c := range cells {
+		s, v := side[c], vals[p]
+		if s == outside || v == 0 {
+			continue
+		}
+		if s == group {
+			nzIn++
+		}
+		keys = append(keys, uint64(math.Float32bits(v))<<1|uint64(s-1))
+	}
+	slices.Sort(keys)
+
+	n1, n2 := float64(t.n1), float64(t.n2)
+	n := t.n1 + t.n2
+	zeros := n - len(keys)
+	zerosIn := t.n1 - nzIn
+	// Ranks 1…zeros share the mid-rank (zeros+1)/2.
+	r1 := float64(zerosIn) * float64(zeros+1) / 2
+	ties := cube(zeros) - int64(zeros)
+	// Sums of x and eˣ−1 on each side, taken block by block of equal values.
+	var sum, sumExp [3]float64
+	for i := 0; i < len(keys); {
+		j, in := i, 0
+		for j < len(keys) && keys[j]>>1 == keys[i]>>1 {
+			in += int(1 - keys[j]&1)
+			j++
+		}
+		// The block holds ranks zeros+i+1 … zeros+j.
+		r1 += float64(in) * (float64(zeros+i+1) + float64(zeros+j)) / 2
+		ties += cube(j-i) - int64(j-i)
+		v := float64(math.Float32frombits(uint32(keys[i] >> 1)))
+		e := math.Expm1(v)
+		sum[group] += float64(in) * v
+		sum[reference] += float64(j-i-in) * v
+		sumExp[group] += float64(in) * e
+		sumExp[reference] += float64(j-i-in) * e
+		i = j
+	}
+	u := r1 - n1*(n1+1)/2
+	d := u - n1*n2/2
+	if t.continuity {
+		d = math.Copysign(max(math.Abs(d)-0.5, 0), d)
+	}
+	// (n+1) − Σ(t³−t)/(n(n−1)) = (n³−n − Σ(t³−t)) / (n(n−1)), the numerator
+	// exact in int64 for n below 2·10⁶.
+	spread := cube(n) - int64(n) - ties
+	z, p := 0.0, 1.0
+	if spread > 0 {
+		sigma := math.Sqrt(n1 * n2 / 12 * float64(spread) / (float64(n) * float64(n-1)))
+		z = d / sigma
+		p = math.Erfc(math.Abs(z) / math.Sqrt2)
+	}
+	*r = Result{
+		LogFoldChange: math.Log2((sumExp[group]/n1 + t.eps) / (sumExp[reference]/n2 + t.eps)),
+		U:             u,
+		Z:             z,
+		P:             p,
+		FractionIn:    float64(nzIn) / n1,
+		FractionOut:   float64(len(keys)-nzIn) / n2,
+		MeanIn:        sum[group] / n1,
+		MeanOut:       sum[reference] / n2,
+	}
+	return keys
+}
+
+func cube(x int) int64 { return int64(x) * int64(x) * int64(x) }
