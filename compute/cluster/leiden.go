@@ -23,9 +23,9 @@ type Options struct {
 
 	// Randomness is θ of the refinement phase: a node joins a
 	// sub-community with probability proportional to exp(ΔH/θ), where ΔH
-	// is the change of m·Q (in units of edge weight). Small values make
-	// the refinement nearly greedy. Zero means 0.01; it must not be
-	// negative.
+	// is the change of m·Q measured in units of the mean edge weight (so
+	// that scaling all weights changes nothing). Small values make the
+	// refinement nearly greedy. Zero means 0.01; it must not be negative.
 	Randomness float64
 
 	// Iterations caps the number of full passes of the algorithm; each
@@ -82,6 +82,14 @@ func Leiden(ctx context.Context, a *sparse.CSR, opt Options) ([]int32, float64, 
 	g, err := newGraph(ctx, a)
 	if err != nil {
 		return nil, 0, err
+	}
+	// θ applies to gains in units of the mean edge weight.
+	var weight float64
+	for _, w := range g.w {
+		weight += w
+	}
+	if len(g.w) > 0 {
+		theta *= weight / float64(len(g.w))
 	}
 	s := newLeiden(g.n, gamma, theta, opt.Seed)
 	memb := make([]int32, g.n)

@@ -33,9 +33,13 @@ func leidenChecked(t *testing.T, a *sparse.CSR, opt Options) ([]int32, float64) 
 		}
 		size[c]++
 	}
+	firstNode := make([]int, k)
+	for c := range firstNode {
+		firstNode[c] = slices.Index(memb, int32(c))
+	}
 	for c := 1; c < k; c++ {
-		if size[c] == 0 || size[c] > size[c-1] {
-			t.Fatalf("community sizes not decreasing: %v", size)
+		if size[c] == 0 || size[c] > size[c-1] || size[c] == size[c-1] && firstNode[c] < firstNode[c-1] {
+			t.Fatalf("communities not numbered by decreasing size, then first node: sizes %v, first nodes %v", size, firstNode)
 		}
 	}
 	if v, ok := connected(a, memb); !ok {
@@ -247,5 +251,37 @@ func TestLeidenOptions(t *testing.T) {
 	}
 	if len(calls) == 0 || calls[len(calls)-1] != 3 {
 		t.Errorf("progress calls %v, want to end at 3", calls)
+	}
+}
+
+func TestLeidenScaleFree(t *testing.T) {
+	// Multiplying every weight by a power of two scales every gain exactly,
+	// so the partition must not change (modularity is invariant to the
+	// scale of the weights, Newman & Girvan 2004).
+	a, _ := planted(6, 40, 0.2, 0.03, 12)
+	b := &sparse.CSR{Rows: a.Rows, Cols: a.Cols, RowPtr: a.RowPtr, ColIdx: a.ColIdx, Val: make([]float32, len(a.Val))}
+	for p, v := range a.Val {
+		b.Val[p] = v * 0x1p-20
+	}
+	for seed := int64(1); seed <= 3; seed++ {
+		ma, qa := leidenChecked(t, a, Options{Seed: seed})
+		mb, qb := leidenChecked(t, b, Options{Seed: seed})
+		if !slices.Equal(ma, mb) || math.Abs(qa-qb) > 1e-12 {
+			t.Errorf("seed %d: scaled weights give another partition (Q %v, %v)", seed, qa, qb)
+		}
+	}
+}
+
+func TestLeidenIsolated(t *testing.T) {
+	// Nodes without edges, or with only a self loop, share no edge with
+	// anyone: joining any community cannot raise Q (Newman & Girvan 2004),
+	// so each stays alone; the two triangles stay whole.
+	a := fromEdges(9, [][3]float64{
+		{0, 1, 1}, {1, 2, 1}, {0, 2, 1}, {3, 4, 1}, {4, 5, 1}, {3, 5, 1}, {2, 3, 0.1}, {7, 7, 2},
+	})
+	memb, _ := leidenChecked(t, a, Options{Seed: 1})
+	want := []int32{0, 0, 0, 1, 1, 1, 2, 3, 4}
+	if !slices.Equal(memb, want) {
+		t.Errorf("partition %v, want %v", memb, want)
 	}
 }

@@ -46,7 +46,7 @@ func BenchmarkRank100k(b *testing.B) {
 // Expression, as when several groups are compared in turn.
 func BenchmarkExpressionRank100k(b *testing.B) {
 	x, in := benchData()
-	e, err := NewExpression(x)
+	e, err := NewExpression(context.Background(), x)
 	if err != nil {
 		b.Fatal(err)
 	}

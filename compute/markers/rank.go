@@ -72,24 +72,43 @@ type Expression struct {
 // NewExpression checks x (cells × genes, log-normalised, non-negative) and
 // returns it in gene-major form; x is not modified or kept. It returns an
 // *InputError wrapping ErrMatrix when x is malformed, or ErrValue at the
-// first negative, NaN or infinite value.
-func NewExpression(x *sparse.CSR) (*Expression, error) {
+// first negative, NaN or infinite value (in cell order), and ctx.Err() when
+// ctx is cancelled. The check runs on all processors; the transposition
+// (sparse.CSR.Transpose, about 0.1 s per 10⁷ non-zeros) on one.
+func NewExpression(ctx context.Context, x *sparse.CSR) (*Expression, error) {
 	if x == nil {
 		return nil, &InputError{What: "expression", Cell: -1, Gene: -1, Err: ErrMatrix}
 	}
 	if err := x.Validate(); err != nil {
 		return nil, &InputError{What: "expression", Cell: -1, Gene: -1, Err: fmt.Errorf("%w: %v", ErrMatrix, err)}
 	}
-	for c := 0; c < x.Rows; c++ {
-		genes, vals := x.Row(c)
-		for p, v := range vals {
-			if !(v >= 0) || math.IsInf(float64(v), 1) {
-				return nil, &InputError{What: "expression", Cell: c, Gene: int(genes[p]),
-					Err: fmt.Errorf("%w: %v", ErrValue, v)}
+	const chunk = 4096
+	faults := make([]error, (x.Rows+chunk-1)/chunk)
+	err := parallel.ForChunks(ctx, x.Rows, chunk, 0, func(lo, hi, _ int) {
+		for c := lo; c < hi; c++ {
+			genes, vals := x.Row(c)
+			for p, v := range vals {
+				if !(v >= 0) || math.IsInf(float64(v), 1) {
+					faults[lo/chunk] = &InputError{What: "expression", Cell: c, Gene: int(genes[p]),
+						Err: fmt.Errorf("%w: %v", ErrValue, v)}
+					return
+				}
 			}
 		}
+	})
+	if err != nil {
+		return nil, err
 	}
-	return &Expression{cells: x.Rows, genes: x.Cols, byGene: x.Transpose()}, nil
+	for _, err := range faults {
+		if err != nil {
+			return nil, err
+		}
+	}
+	byGene := x.Transpose()
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	return &Expression{cells: x.Rows, genes: x.Cols, byGene: byGene}, nil
 }
 
 // Cells returns the number of cells.
@@ -103,7 +122,7 @@ func (e *Expression) Genes() int { return e.genes }
 // other cells when reference is nil. It is NewExpression followed by
 // Expression.Rank; to compare several groups, make the Expression once.
 func Rank(ctx context.Context, x *sparse.CSR, inGroup, reference []bool, opt Options) ([]Result, error) {
-	e, err := NewExpression(x)
+	e, err := NewExpression(ctx, x)
 	if err != nil {
 		return nil, err
 	}

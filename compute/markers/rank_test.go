@@ -111,7 +111,7 @@ func TestRankScipy(t *testing.T) {
 		other[c] = !inGroup[c] && rng.IntN(3) != 0
 	}
 	x := testMatrix(cells, inGroup, 3)
-	e, err := NewExpression(x)
+	e, err := NewExpression(context.Background(), x)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -252,7 +252,7 @@ func TestRankThreads(t *testing.T) {
 		in[c] = c%3 == 0
 	}
 	x := randomExpression(len(in), 200, 0.1, in, 20, 4)
-	e, err := NewExpression(x)
+	e, err := NewExpression(context.Background(), x)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -273,7 +273,7 @@ func TestRankThreads(t *testing.T) {
 
 func TestRankErrors(t *testing.T) {
 	x := testMatrix(20, make([]bool, 20), 1)
-	e, err := NewExpression(x)
+	e, err := NewExpression(context.Background(), x)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -317,18 +317,18 @@ func TestRankErrors(t *testing.T) {
 	for bad.RowPtr[cell+1] <= 7 {
 		cell++
 	}
-	_, err = NewExpression(bad)
+	_, err = NewExpression(context.Background(), bad)
 	var ie *InputError
 	if !errors.Is(err, ErrValue) || !errors.As(err, &ie) || ie.Cell != cell || ie.Gene != int(bad.ColIdx[7]) {
 		t.Errorf("negative value: err = %v, want ErrValue at cell %d, gene %d", err, cell, bad.ColIdx[7])
 	}
 	bad.Val[7] = float32(math.NaN())
-	if _, err := NewExpression(bad); !errors.Is(err, ErrValue) {
+	if _, err := NewExpression(context.Background(), bad); !errors.Is(err, ErrValue) {
 		t.Errorf("NaN value: err = %v", err)
 	}
 	bad.Val[7] = 1
 	bad.ColIdx[7] = 1000
-	if _, err := NewExpression(bad); !errors.Is(err, ErrMatrix) {
+	if _, err := NewExpression(context.Background(), bad); !errors.Is(err, ErrMatrix) {
 		t.Errorf("column out of range: err = %v", err)
 	}
 	if _, err := Rank(context.Background(), nil, some, nil, Options{}); !errors.Is(err, ErrMatrix) {
