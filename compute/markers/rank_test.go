@@ -360,3 +360,129 @@ func TestRankProgress(t *testing.T) {
 		t.Errorf("last progress %d of %d, want 300 of 300", last, total)
 	}
 }
+
+func TestRankExactPermutation(t *testing.T) {
+	// References, both exact slow computations:
+	//   - U by its definition (Mann & Whitney 1947), counting the pairs
+	//     (group cell, reference cell) where the group's value is larger,
+	//     ties counting ½;
+	//   - the mean n₁n₂/2 and the tie-corrected variance σ² of U, as the
+	//     mean and variance of U over all C(n, n₁) ways to choose the group
+	//     among the compared cells with the values held fixed (the
+	//     permutation distribution the normal approximation stands for).
+	// Z must equal (U − mean)/σ, shrunk by ½ with continuity correction,
+	// and P the two-sided normal tail 2Φ(−|Z|) = erfc(|Z|/√2).
+	rng := rand.New(rand.NewPCG(31, 32))
+	const cells = 13
+	for trial := 0; trial < 20; trial++ {
+		// Values from a small set, so zeros and ties abound.
+		x := &sparse.CSR{Rows: cells, Cols: 4, RowPtr: make([]int64, cells+1)}
+		for c := 0; c < cells; c++ {
+			for g := 0; g < 4; g++ {
+				if v := float32(rng.IntN(4-g%2)) / 2; v != 0 {
+					x.ColIdx = append(x.ColIdx, int32(g))
+					x.Val = append(x.Val, v)
+				}
+			}
+			x.RowPtr[c+1] = int64(len(x.ColIdx))
+		}
+		in := make([]bool, cells)
+		var ref []bool
+		if trial%2 == 1 {
+			ref = make([]bool, cells)
+		}
+		var compared []int
+		for c := 0; c < cells; c++ {
+			switch {
+			case c < 5:
+				in[c] = true
+			case ref != nil && c >= 11:
+				continue // outside the comparison
+			case ref != nil:
+				ref[c] = true
+			}
+			compared = append(compared, c)
+		}
+		perm := rng.Perm(cells) // shuffle which cells are in the group
+		shuffled := func(m []bool) []bool {
+			if m == nil {
+				return nil
+			}
+			out := make([]bool, cells)
+			for c := range m {
+				out[perm[c]] = m[c]
+			}
+			return out
+		}
+		in, ref = shuffled(in), shuffled(ref)
+		for c := range compared {
+			compared[c] = perm[compared[c]]
+		}
+		slices.Sort(compared)
+
+		for _, continuity := range []bool{true, false} {
+			res, err := Rank(context.Background(), x, in, ref, Options{NoContinuityCorrection: !continuity})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for _, r := range res {
+				vals := make([]float64, cells)
+				for c := range vals {
+					vals[c] = float64(x.At(c, r.Gene))
+				}
+				uOf := func(group []bool) float64 {
+					var u float64
+					for _, i := range compared {
+						for _, j := range compared {
+							if group[i] && !group[j] {
+								switch {
+								case vals[i] > vals[j]:
+									u++
+								case vals[i] == vals[j]:
+									u += 0.5
+								}
+							}
+						}
+					}
+					return u
+				}
+				u := uOf(in)
+				// Permutation distribution: every choice of 5 of the compared cells.
+				var sum, sum2, count float64
+				var choose func(start, left int, group []bool)
+				choose = func(start, left int, group []bool) {
+					if left == 0 {
+						v := uOf(group)
+						sum, sum2, count = sum+v, sum2+v*v, count+1
+						return
+					}
+					for k := start; k <= len(compared)-left; k++ {
+						group[compared[k]] = true
+						choose(k+1, left-1, group)
+						group[compared[k]] = false
+					}
+				}
+				choose(0, 5, make([]bool, cells))
+				mean := sum / count
+				variance := sum2/count - mean*mean
+				n1n2 := 5 * float64(len(compared)-5)
+				if r.U != u || mean != n1n2/2 {
+					t.Fatalf("trial %d gene %d: U = %v, pair count %v; permutation mean %v, want %v", trial, r.Gene, r.U, u, mean, n1n2/2)
+				}
+				d := u - mean
+				if continuity {
+					d = math.Copysign(max(math.Abs(d)-0.5, 0), d)
+				}
+				wantZ, wantP := 0.0, 1.0
+				if variance > 1e-9 {
+					wantZ = d / math.Sqrt(variance)
+					wantP = math.Erfc(math.Abs(wantZ) / math.Sqrt2)
+				}
+				if math.Abs(r.Z-wantZ) > 1e-12*math.Max(1, math.Abs(wantZ)) || !relClose(r.P, wantP, 1e-12) {
+					t.Errorf("trial %d gene %d (continuity %v): Z = %.17g, P = %.17g; permutation gives %.17g, %.17g",
+						trial, r.Gene, continuity, r.Z, r.P, wantZ, wantP)
+				}
+			}
+		}
+	}
+}
