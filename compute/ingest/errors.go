@@ -1,0 +1,95 @@
+package ingest
+
+import (
+	"compress/flate"
+	"compress/gzip"
+	"errors"
+	"fmt"
+	"io"
+	"strconv"
+)
+
+// Errors that the readers wrap in a ParseError (or, for problems that
+// concern several files, in an error that names them). Test for them with
+// errors.Is.
+var (
+	ErrEmpty          = errors.New("empty file")
+	ErrFieldCount     = errors.New("wrong number of fields")
+	ErrNotNumber      = errors.New("not a number")
+	ErrNotFinite      = errors.New("not a finite number")
+	ErrHeader         = errors.New("bad header")
+	ErrSizeLine       = errors.New("bad size line")
+	ErrUnsupported    = errors.New("not supported")
+	ErrIndexRange     = errors.New("index out of range")
+	ErrEntryCount     = errors.New("entry count differs from the size line")
+	ErrDuplicateEntry = errors.New("duplicate entry")
+	ErrTooLarge       = errors.New("too large")
+	ErrLineTooLong    = errors.New("line too long")
+	ErrQuote          = errors.New("bad quoting")
+	ErrTruncated      = errors.New("compressed data ends early")
+	ErrCorrupt        = errors.New("compressed data is damaged")
+	ErrBlankLabel     = errors.New("blank label")
+	ErrBadLabel       = errors.New("label holds a tab or line break")
+	ErrDuplicateID    = errors.New("duplicate ID")
+	ErrLabelCount     = errors.New("label count matches no matrix dimension")
+	ErrNoMatch        = errors.New("no row matches a cell")
+	ErrAmbiguous      = errors.New("ambiguous files")
+	ErrNothingToRead  = errors.New("no matrix or table found")
+)
+
+// A ParseError says where in which file a reader met a problem. Line and
+// Column count from 1; Column is the number of the field on the line (a
+// Matrix Market entry's row index is field 1, its value field 3; a table's
+// first column is field 1), or 0 when the problem concerns the whole line.
+// Line is 0 when the problem concerns the whole file.
+type ParseError struct {
+	File   string // the file's name as given to the reader
+	Line   int    // line where the problem was found
+	Column int    // field on that line
+	Err    error  // what is wrong; wraps one of the Err… sentinels
+}
+
+// Error returns "file:line:column: what is wrong", leaving out a zero line or
+// column.
+func (e *ParseError) Error() string {
+	switch {
+	case e.Line == 0:
+		return fmt.Sprintf("%s: %v", e.File, e.Err)
+	case e.Column == 0:
+		return fmt.Sprintf("%s:%d: %v", e.File, e.Line, e.Err)
+	}
+	return fmt.Sprintf("%s:%d:%d: %v", e.File, e.Line, e.Column, e.Err)
+}
+
+// Unwrap returns the underlying error.
+func (e *ParseError) Unwrap() error { return e.Err }
+
+// errorf returns a ParseError wrapping sentinel with a formatted detail:
+// "sentinel: detail".
+func errorf(file string, line, col int, sentinel error, format string, args ...any) *ParseError {
+	return &ParseError{File: file, Line: line, Column: col, Err: fmt.Errorf("%w: "+format, append([]any{sentinel}, args...)...)}
+}
+
+// readError turns an error from reading the underlying (possibly compressed)
+// stream into a ParseError at the given line: a gzip stream that stops early
+// becomes ErrTruncated, damaged compressed data ErrCorrupt.
+func readError(file string, line int, err error) error {
+	var corrupt flate.CorruptInputError
+	switch {
+	case errors.Is(err, io.ErrUnexpectedEOF):
+		return &ParseError{File: file, Line: line, Err: fmt.Errorf("%w (%w)", ErrTruncated, err)}
+	case errors.Is(err, gzip.ErrChecksum), errors.Is(err, gzip.ErrHeader), errors.As(err, &corrupt):
+		return &ParseError{File: file, Line: line, Err: fmt.Errorf("%w (%w)", ErrCorrupt, err)}
+	}
+	return &ParseError{File: file, Line: line, Err: err}
+}
+
+// quote returns b as a quoted Go string, shortened to at most 40 bytes, for
+// error messages.
+func quote(b []byte) string {
+	const max = 40
+	if len(b) > max {
+		return strconv.Quote(string(b[:max])) + "…"
+	}
+	return strconv.Quote(string(b))
+}
