@@ -8,46 +8,73 @@ import (
 	"lodestone/compute/progress"
 )
 
-// chunkRows is the number of rows a worker handles between two looks at its
-// context. At a few thousand stored entries per row and tens of nanoseconds
-// per entry, a chunk takes a few milliseconds, well inside the 50 ms in which
-// a cancelled stage must stop.
-const chunkRows = 256
+// Work is split twice: rows into blocks, one goroutine each, and each block
+// into chunks, between which a worker looks at its context. A chunk holds at
+// most chunkRows rows and, for a sparse matrix, at most about chunkEntries
+// stored entries (always at least one row): at tens of nanoseconds per entry
+// a chunk takes a few milliseconds, well inside the 50 ms in which a
+// cancelled stage must stop.
+const (
+	chunkRows    = 256
+	chunkEntries = 1 << 16
+)
 
-// costBounds splits the rows of a sparse matrix with row pointers rowPtr into
-// at most parts contiguous blocks of about equal cost, counting a row's cost
-// as one plus its stored entries. Block b is [bounds[b], bounds[b+1]). The
-// split depends only on rowPtr and parts.
-func costBounds(rowPtr []int64, parts int) []int {
+// split is a partition of rows [0, n) into blocks and chunks.
+type split struct {
+	bounds []int   // block b is [bounds[b], bounds[b+1])
+	rowPtr []int64 // when not nil, chunks are also cut at chunkEntries entries
+	rows   int     // rows per chunk at most
+}
+
+// sparseSplit splits the rows of a sparse matrix with row pointers rowPtr
+// into at most threads blocks of about equal cost, counting a row's cost as
+// one plus its stored entries. The split depends only on rowPtr and threads.
+func sparseSplit(rowPtr []int64, threads int) split {
 	n := len(rowPtr) - 1
+	s := split{rowPtr: rowPtr, rows: chunkRows}
 	if n == 0 {
-		return []int{0}
+		s.bounds = []int{0}
+		return s
 	}
-	parts = max(1, min(parts, n))
+	parts := max(1, min(threads, n))
 	cost := func(r int) int64 { return rowPtr[r] + int64(r) }
 	total := cost(n)
-	bounds := make([]int, parts+1)
+	s.bounds = make([]int, parts+1)
 	for b := 1; b < parts; b++ {
 		target := total * int64(b) / int64(parts)
 		r := sort.Search(n+1, func(r int) bool { return cost(r) >= target })
-		bounds[b] = max(r, bounds[b-1])
+		s.bounds[b] = max(r, s.bounds[b-1])
 	}
-	bounds[parts] = n
-	return bounds
+	s.bounds[parts] = n
+	return s
 }
 
-// runBlocks runs fn on one goroutine per block of bounds (as made by
-// costBounds or parallel.Blocks). Each goroutine walks its block in order in
-// chunks of at most chunkRows rows, calling fn(lo, hi, block) for each chunk
-// and stopping early once ctx is done. It returns ctx.Err().
-func runBlocks(ctx context.Context, bounds []int, fn func(lo, hi, block int)) error {
-	nb := len(bounds) - 1
+// evenSplit splits n rows into at most threads blocks of equal length, with
+// chunks of at most rows rows.
+func evenSplit(n, threads, rows int) split {
+	return split{bounds: parallel.Blocks(n, threads), rows: max(1, rows)}
+}
+
+// blocks returns the number of blocks.
+func (s split) blocks() int { return len(s.bounds) - 1 }
+
+// run runs fn on one goroutine per block. Each goroutine walks its block in
+// order, chunk by chunk, calling fn(lo, hi, block) for each chunk and
+// stopping early once ctx is done. run returns ctx.Err().
+func (s split) run(ctx context.Context, fn func(lo, hi, block int)) error {
+	nb := s.blocks()
 	parallel.For(nb, nb, func(b, _, _ int) {
-		for lo := bounds[b]; lo < bounds[b+1]; lo += chunkRows {
+		for lo, end := s.bounds[b], s.bounds[b+1]; lo < end; {
 			if ctx.Err() != nil {
 				return
 			}
-			fn(lo, min(lo+chunkRows, bounds[b+1]), b)
+			hi := min(lo+s.rows, end)
+			if s.rowPtr != nil {
+				limit := s.rowPtr[lo] + chunkEntries
+				hi = lo + 1 + sort.Search(hi-lo-1, func(k int) bool { return s.rowPtr[lo+1+k+1] > limit })
+			}
+			fn(lo, hi, b)
+			lo = hi
 		}
 	})
 	return ctx.Err()

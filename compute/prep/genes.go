@@ -189,8 +189,8 @@ type moments struct {
 func linearMoments(ctx context.Context, norm *sparse.CSR, threads int, prog progress.Func) (*moments, error) {
 	const stage = "genes"
 	n, g := norm.Rows, norm.Cols
-	bounds := costBounds(norm.RowPtr, threads)
-	nb := len(bounds) - 1
+	sp := sparseSplit(norm.RowPtr, threads)
+	nb := sp.blocks()
 	type acc struct {
 		sum, sq  []float64
 		lo, hi   []float64
@@ -202,7 +202,7 @@ func linearMoments(ctx context.Context, norm *sparse.CSR, threads int, prog prog
 	s := steps{f: prog, n: 2}
 
 	counter := s.pass(0, n)
-	err := runBlocks(ctx, bounds, func(lo, hi, b int) {
+	err := sp.run(ctx, func(lo, hi, b int) {
 		a := &accs[b]
 		if a.bad != nil {
 			return
@@ -267,7 +267,7 @@ func linearMoments(ctx context.Context, norm *sparse.CSR, threads int, prog prog
 	}
 
 	counter = s.pass(1, n)
-	err = runBlocks(ctx, bounds, func(lo, hi, b int) {
+	err = sp.run(ctx, func(lo, hi, b int) {
 		a := &accs[b]
 		if a.sq == nil {
 			a.sq = make([]float64, g)

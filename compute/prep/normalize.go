@@ -42,10 +42,10 @@ func Normalize(ctx context.Context, counts *sparse.CSR, target float64, threads 
 		ColIdx: counts.ColIdx,
 		Val:    make([]float32, len(counts.Val)),
 	}
-	bounds := costBounds(counts.RowPtr, parallel.Threads(threads))
-	bad := make([]*Error, len(bounds)-1)
+	sp := sparseSplit(counts.RowPtr, parallel.Threads(threads))
+	bad := make([]*Error, sp.blocks())
 	counter := progress.NewCounter(prog, int64(counts.Rows), int64(counts.Rows/100))
-	err := runBlocks(ctx, bounds, func(lo, hi, b int) {
+	err := sp.run(ctx, func(lo, hi, b int) {
 		if bad[b] != nil {
 			return
 		}

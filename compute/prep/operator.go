@@ -9,7 +9,6 @@ import (
 	"gonum.org/v1/gonum/floats"
 
 	"lodestone/compute/atlas"
-	"lodestone/compute/parallel"
 	"lodestone/compute/sparse"
 )
 
@@ -44,7 +43,7 @@ type centred struct {
 	c           []float64 // column means of S
 	stored      []int64   // stored entries per column (N for a dense X)
 	totalVar    float64   // Σ_j of the variance (denominator N−1) of column j of A
-	bounds      []int     // row blocks
+	split       split     // rows into blocks and chunks
 	threads     int
 
 	// Workspace of the products, reused between calls.
@@ -60,10 +59,10 @@ func newCentred(ctx context.Context, sp *sparse.CSR, dense *atlas.Dense, standar
 	a := &centred{sp: sp, dense: dense, standardize: standardize, threads: threads}
 	if sp != nil {
 		a.n, a.g = sp.Rows, sp.Cols
-		a.bounds = costBounds(sp.RowPtr, threads)
+		a.split = sparseSplit(sp.RowPtr, threads)
 	} else {
 		a.n, a.g = dense.Rows, dense.Cols
-		a.bounds = parallel.Blocks(a.n, threads)
+		a.split = evenSplit(a.n, threads, a.denseRows())
 	}
 	n := float64(a.n)
 
@@ -145,11 +144,11 @@ func clip(z float64) float64 { return max(-Clip, min(Clip, z)) }
 // that every value is finite.
 func (a *centred) columnSums(ctx context.Context, h func(j int, x float32) float64, count []int64) ([]float64, error) {
 	const stage = "pca"
-	nb := len(a.bounds) - 1
+	nb := a.split.blocks()
 	sums := make([][]float64, nb)
 	counts := make([][]int64, nb)
 	bad := make([]*Error, nb)
-	err := runBlocks(ctx, a.bounds, func(lo, hi, b int) {
+	err := a.split.run(ctx, func(lo, hi, b int) {
 		if bad[b] != nil {
 			return
 		}
@@ -203,13 +202,13 @@ func (a *centred) columnSums(ctx context.Context, h func(j int, x float32) float
 	return out, nil
 }
 
-// denseRows is the number of rows of a dense X transformed at once before a
-// matrix product: a few megabytes of scratch per block.
-func (a *centred) denseRows() int { return max(1, min(chunkRows, (1<<19)/a.g)) }
+// denseRows is the number of rows of a dense X in a chunk, transformed at
+// once before a matrix product: about chunkEntries values.
+func (a *centred) denseRows() int { return max(1, min(chunkRows, chunkEntries/max(1, a.g))) }
 
 // prepare sizes the workspace of the products for l columns.
 func (a *centred) prepare(l int) {
-	nb := len(a.bounds) - 1
+	nb := a.split.blocks()
 	if len(a.r) == l {
 		return
 	}
@@ -249,7 +248,7 @@ func (a *centred) mul(ctx context.Context, dst, src []float64, l int) error {
 	for j := range a.g {
 		floats.AddScaled(r, a.c[j], src[j*l:(j+1)*l])
 	}
-	return runBlocks(ctx, a.bounds, func(lo, hi, b int) {
+	return a.split.run(ctx, func(lo, hi, b int) {
 		if a.dense != nil {
 			a.mulDense(dst, src, l, lo, hi, b)
 			return
@@ -275,23 +274,19 @@ func (a *centred) mul(ctx context.Context, dst, src []float64, l int) error {
 	})
 }
 
-// mulDense is mul for rows [lo, hi) of a dense X, by matrix products of
-// transformed row chunks.
+// mulDense is mul for rows [lo, hi) of a dense X (one chunk, at most
+// denseRows rows), by a matrix product of the transformed rows.
 func (a *centred) mulDense(dst, src []float64, l, lo, hi, b int) {
-	step := a.denseRows()
-	for s := lo; s < hi; s += step {
-		e := min(s+step, hi)
-		z := a.scratch[b][:(e-s)*a.g]
-		a.transformRows(z, s, e)
-		y := dst[s*l : e*l]
-		for i := range e - s {
-			copy(y[i*l:(i+1)*l], a.r)
-		}
-		blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
-			blas64.General{Rows: e - s, Cols: a.g, Stride: a.g, Data: z},
-			blas64.General{Rows: a.g, Cols: l, Stride: l, Data: src},
-			-1, blas64.General{Rows: e - s, Cols: l, Stride: l, Data: y})
+	z := a.scratch[b][:(hi-lo)*a.g]
+	a.transformRows(z, lo, hi)
+	y := dst[lo*l : hi*l]
+	for i := range hi - lo {
+		copy(y[i*l:(i+1)*l], a.r)
 	}
+	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
+		blas64.General{Rows: hi - lo, Cols: a.g, Stride: a.g, Data: z},
+		blas64.General{Rows: a.g, Cols: l, Stride: l, Data: src},
+		-1, blas64.General{Rows: hi - lo, Cols: l, Stride: l, Data: y})
 }
 
 // mulT sets dst (G × l, row-major) to Aᵀ·src for src (N × l, row-major):
@@ -302,12 +297,12 @@ func (a *centred) mulDense(dst, src []float64, l, lo, hi, b int) {
 // summed in block order.
 func (a *centred) mulT(ctx context.Context, dst, src []float64, l int) error {
 	a.prepare(l)
-	nb := len(a.bounds) - 1
+	nb := a.split.blocks()
 	for b := range nb {
 		clear(a.acc[b])
 		clear(a.colSum[b])
 	}
-	err := runBlocks(ctx, a.bounds, func(lo, hi, b int) {
+	err := a.split.run(ctx, func(lo, hi, b int) {
 		acc, cs := a.acc[b], a.colSum[b]
 		for i := lo; i < hi; i++ {
 			floats.Add(cs, src[i*l:(i+1)*l])
@@ -348,16 +343,13 @@ func (a *centred) mulT(ctx context.Context, dst, src []float64, l int) error {
 	return nil
 }
 
-// mulTDense is the accumulation of mulT for rows [lo, hi) of a dense X.
+// mulTDense is the accumulation of mulT for rows [lo, hi) of a dense X (one
+// chunk, at most denseRows rows).
 func (a *centred) mulTDense(acc, src []float64, l, lo, hi, b int) {
-	step := a.denseRows()
-	for s := lo; s < hi; s += step {
-		e := min(s+step, hi)
-		z := a.scratch[b][:(e-s)*a.g]
-		a.transformRows(z, s, e)
-		blas64.Gemm(blas.Trans, blas.NoTrans, 1,
-			blas64.General{Rows: e - s, Cols: a.g, Stride: a.g, Data: z},
-			blas64.General{Rows: e - s, Cols: l, Stride: l, Data: src[s*l : e*l]},
-			1, blas64.General{Rows: a.g, Cols: l, Stride: l, Data: acc})
-	}
+	z := a.scratch[b][:(hi-lo)*a.g]
+	a.transformRows(z, lo, hi)
+	blas64.Gemm(blas.Trans, blas.NoTrans, 1,
+		blas64.General{Rows: hi - lo, Cols: a.g, Stride: a.g, Data: z},
+		blas64.General{Rows: hi - lo, Cols: l, Stride: l, Data: src[lo*l : hi*l]},
+		1, blas64.General{Rows: a.g, Cols: l, Stride: l, Data: acc})
 }

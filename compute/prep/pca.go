@@ -8,6 +8,7 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
 
@@ -232,7 +233,10 @@ func runPCA(ctx context.Context, sp *sparse.CSR, dense *atlas.Dense, opt PCAOpti
 	report(done)
 
 	// Y = U_Y Σ Wᵀ from the eigendecomposition of the l × l Gram matrix.
-	gram := gramOf(y, n, l, a.bounds)
+	gram, err := gramOf(ctx, y, l, a.split)
+	if err != nil {
+		return nil, err
+	}
 	var eig mat.EigenSym
 	if !eig.Factorize(gram, true) {
 		return nil, errAt(stage, -1, -1, ErrNotFinite, "eigendecomposition of the %d × %d Gram matrix did not converge", l, l)
@@ -278,8 +282,8 @@ func runPCA(ctx context.Context, sp *sparse.CSR, dense *atlas.Dense, opt PCAOpti
 
 	// Scores U·Σ = Y·W_k, in parallel over rows.
 	res.Scores = atlas.NewDense(n, k)
-	outs := make([][]float64, len(a.bounds)-1)
-	err = runBlocks(ctx, a.bounds, func(lo, hi, b int) {
+	outs := make([][]float64, a.split.blocks())
+	err = a.split.run(ctx, func(lo, hi, b int) {
 		if outs[b] == nil {
 			outs[b] = make([]float64, chunkRows*k)
 		}
@@ -305,26 +309,29 @@ func runPCA(ctx context.Context, sp *sparse.CSR, dense *atlas.Dense, opt PCAOpti
 	return res, nil
 }
 
-// gramOf returns YᵀY for y (n × l, row-major), summing per-block products in
-// block order.
-func gramOf(y []float64, n, l int, bounds []int) *mat.SymDense {
-	nb := len(bounds) - 1
-	parts := make([][]float64, nb)
-	parallel.For(nb, nb, func(b, _, _ int) {
-		lo, hi := bounds[b], bounds[b+1]
-		c := make([]float64, l*l)
+// gramOf returns YᵀY for y (n × l, row-major): each block of rows adds the
+// products of its chunks in order into its own l × l array, and the arrays
+// are summed in block order.
+func gramOf(ctx context.Context, y []float64, l int, sp split) (*mat.SymDense, error) {
+	parts := make([][]float64, sp.blocks())
+	err := sp.run(ctx, func(lo, hi, b int) {
+		if parts[b] == nil {
+			parts[b] = make([]float64, l*l)
+		}
 		blas64.Syrk(blas.Trans, 1,
 			blas64.General{Rows: hi - lo, Cols: l, Stride: l, Data: y[lo*l : hi*l]},
-			0, blas64.Symmetric{Uplo: blas.Upper, N: l, Stride: l, Data: c})
-		parts[b] = c
+			1, blas64.Symmetric{Uplo: blas.Upper, N: l, Stride: l, Data: parts[b]})
 	})
+	if err != nil {
+		return nil, err
+	}
 	sum := make([]float64, l*l)
 	for _, p := range parts {
-		for i, x := range p {
-			sum[i] += x
+		if p != nil {
+			floats.Add(sum, p)
 		}
 	}
-	return mat.NewSymDense(l, sum)
+	return mat.NewSymDense(l, sum), nil
 }
 
 // orthonormalizer replaces an m × n matrix (m ≥ n, row-major) by the Q factor

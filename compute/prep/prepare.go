@@ -34,7 +34,8 @@ type Options struct {
 	Threads int
 	// Progress, when not nil, receives the progress of each stage: "check",
 	// "qc", "normalize", "genes" or "pca", with the units done and in all
-	// within that stage.
+	// within that stage. It may be called from several goroutines at once
+	// and must return quickly.
 	Progress func(stage string, done, total int64)
 }
 
@@ -197,12 +198,12 @@ func prepareCounts(ctx context.Context, d *atlas.Dataset, opt Options, threads i
 // scanTable checks that every value of t is finite and reports whether all
 // of them are non-negative integers.
 func scanTable(ctx context.Context, t *atlas.Dense, threads int, prog progress.Func) (counts bool, err error) {
-	bounds := parallel.Blocks(t.Rows, threads)
-	nb := len(bounds) - 1
+	sp := evenSplit(t.Rows, threads, chunkEntries/max(1, t.Cols))
+	nb := sp.blocks()
 	bad := make([]*Error, nb)
 	notCounts := make([]bool, nb)
 	counter := progress.NewCounter(prog, int64(t.Rows), int64(t.Rows/100))
-	err = runBlocks(ctx, bounds, func(lo, hi, b int) {
+	err = sp.run(ctx, func(lo, hi, b int) {
 		if bad[b] != nil {
 			return
 		}
@@ -261,8 +262,8 @@ func subMatrix(ctx context.Context, m *sparse.CSR, rows, cols []int, threads int
 		newCol[j] = int32(k)
 	}
 	out := &sparse.CSR{Rows: len(rows), Cols: len(cols), RowPtr: make([]int64, len(rows)+1)}
-	bounds := parallel.Blocks(len(rows), threads)
-	err := runBlocks(ctx, bounds, func(lo, hi, _ int) {
+	sp := evenSplit(len(rows), threads, chunkRows)
+	err := sp.run(ctx, func(lo, hi, _ int) {
 		for r := lo; r < hi; r++ {
 			c, _ := m.Row(rows[r])
 			var count int64
@@ -283,7 +284,7 @@ func subMatrix(ctx context.Context, m *sparse.CSR, rows, cols []int, threads int
 	nnz := out.RowPtr[len(rows)]
 	out.ColIdx = make([]int32, nnz)
 	out.Val = make([]float32, nnz)
-	err = runBlocks(ctx, bounds, func(lo, hi, _ int) {
+	err = sp.run(ctx, func(lo, hi, _ int) {
 		for r := lo; r < hi; r++ {
 			c, v := m.Row(rows[r])
 			p := out.RowPtr[r]

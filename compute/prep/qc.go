@@ -180,10 +180,10 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 		MitoFraction:  make([]float32, n),
 	}
 	reason := make([]uint8, n)
-	bounds := costBounds(m.RowPtr, threads)
-	bad := make([]*Error, len(bounds)-1)
+	sp := sparseSplit(m.RowPtr, threads)
+	bad := make([]*Error, sp.blocks())
 	counter := prog.pass(0, n)
-	err = runBlocks(ctx, bounds, func(lo, hi, b int) {
+	err = sp.run(ctx, func(lo, hi, b int) {
 		if bad[b] != nil {
 			return
 		}
@@ -232,9 +232,9 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 	}
 	rep.GeneCells = make([]int32, m.Cols)
 	counter = prog.pass(1, len(kept))
-	kb := parallel.Blocks(len(kept), threads)
-	partial := make([][]int32, len(kb)-1)
-	err = runBlocks(ctx, kb, func(lo, hi, b int) {
+	kb := evenSplit(len(kept), threads, chunkRows)
+	partial := make([][]int32, kb.blocks())
+	err = kb.run(ctx, func(lo, hi, b int) {
 		if partial[b] == nil {
 			partial[b] = make([]int32, m.Cols)
 		}
@@ -273,7 +273,7 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 
 	// Pass 3: cells left without counts in the kept genes.
 	counter = prog.pass(2, len(kept))
-	err = runBlocks(ctx, kb, func(lo, hi, _ int) {
+	err = kb.run(ctx, func(lo, hi, _ int) {
 		for _, i := range kept[lo:hi] {
 			cols, vals := m.Row(i)
 			empty := true

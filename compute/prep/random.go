@@ -1,7 +1,6 @@
 package prep
 
 import (
-	"fmt"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -30,7 +29,7 @@ const randomGroups = 8
 // result depends only on the arguments, not on the number of processors.
 func RandomCounts(cells, genes, nnzPerRow int, seed int64) (*sparse.CSR, error) {
 	if cells < 0 || genes < 1 || nnzPerRow < 0 {
-		return nil, fmt.Errorf("prep: random counts: %d cells × %d genes with %d entries per row: %w", cells, genes, nnzPerRow, ErrOption)
+		return nil, errOption("random counts", "%d cells × %d genes with %d entries per row", cells, genes, nnzPerRow)
 	}
 	k := min(nnzPerRow, genes)
 	m := &sparse.CSR{
