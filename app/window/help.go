@@ -1,0 +1,37 @@
+package window
+
+// readingTheMap is the text of Help ▸ Reading the map.
+const readingTheMap = `## What the map shows
+
+Each dot is one cell. Cells that are close in the map have similar gene expression: the map is
+drawn so that each cell keeps its nearest neighbours (by expression) near it.
+
+## What the map does not show
+
+- **Sizes are not quantitative.** A compact island is not necessarily a homogeneous population,
+  and a large, spread-out one is not necessarily a varied one: the method evens out density.
+- **Distances between groups are not quantitative.** A wide gap is not a measured difference,
+  and two islands side by side are not necessarily related.
+- **The picture depends on the settings**: the attraction dial, the neighbourhood size
+  (perplexity), the genes and principal components used, and the random seed. Check a finding at
+  more than one setting, and in the data itself.
+- **This is a tool for exploration, not for diagnosis.** Use it to form questions and to choose
+  what to test, not to decide about patients or samples.
+
+## The attraction dial
+
+The dial sets how strongly each cell is pulled towards its neighbours compared with how strongly
+all cells push each other apart (the exaggeration of t-SNE). At 1 the map stresses **separate
+groups**: cells fall into many tight, well separated islands. Turned up (4, 10, 30…) the pull wins,
+gaps close and **continuous paths** — gradual changes such as development — become visible, at
+the cost of finer separations. At ∞ the map becomes the spectral layout (Laplacian eigenmap) of
+the neighbour graph, which shows only the broadest structure. Each turn re-forms the map from
+where it stands, so you can watch groups merge and split.
+
+## Fidelity
+
+The scores beside the map say how well it keeps each cell's neighbours: *kept neighbours* is the
+share of each cell's 15 nearest neighbours (by expression) that are also among its 15 nearest
+neighbours in the map; *trustworthiness* (Venna & Kaski 2001) penalises cells that look close in
+the map but are far apart in the data. Both are computed on a sample of cells.
+`

@@ -1,0 +1,285 @@
+// Package pipeline chains Lodestone's compute stages from a dataset in
+// memory to the inputs of the embedding: quality control, normalisation,
+// gene selection and PCA (package prep), the neighbour graph (neighbors), the
+// affinities (affinity) and the initial layout (embed).
+//
+// The window and the headless commands both call Prepare, so every number
+// the window shows can be reproduced from the command line.
+package pipeline
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"lodestone/compute/affinity"
+	"lodestone/compute/atlas"
+	"lodestone/compute/embed"
+	"lodestone/compute/neighbors"
+	"lodestone/compute/prep"
+	"lodestone/compute/sparse"
+)
+
+// Stage names, in the order Prepare runs them. The prep stages report under
+// their own names ("check", "qc", "normalize", "genes", "pca").
+const (
+	StageNeighbors  = "neighbours"
+	StageAffinities = "affinities"
+	StageInit       = "initial layout"
+)
+
+// Stages lists the stages Prepare reports, in order, with a label for
+// people.
+var Stages = []struct{ Name, Label string }{
+	{"check", "checking values"},
+	{"qc", "quality control"},
+	{"normalize", "normalisation"},
+	{"genes", "gene selection"},
+	{"pca", "principal components"},
+	{StageNeighbors, "nearest neighbours"},
+	{StageAffinities, "affinities"},
+	{StageInit, "initial layout"},
+}
+
+// Init names how the first layout is made.
+type Init string
+
+// Initial layouts.
+const (
+	InitPCA      Init = "pca"      // the first two principal components, scaled to standard deviation 1e-4
+	InitSpectral Init = "spectral" // the Laplacian eigenmap of the affinities, scaled likewise
+)
+
+// Settings are every parameter of the preparation. The zero value is not
+// meaningful; start from Default.
+type Settings struct {
+	Prep       prep.Options     // quality control, normalisation, genes, PCA
+	Perplexity float64          // effective number of neighbours of the affinities
+	Neighbors  int              // neighbours in the graph; 0 means ⌈3·Perplexity⌉
+	Metric     neighbors.Metric // distance in feature space
+	Method     neighbors.Method // exact or approximate search (Auto chooses by size)
+	Uniform    bool             // uniform kNN affinities instead of perplexity-calibrated ones
+	Init       Init             // how the first layout is made
+	Seed       int64            // seeds PCA, the neighbour search and the optimiser
+	Threads    int              // goroutines; 0 means all processors
+}
+
+// Default returns the settings of a new analysis: prep's defaults, perplexity
+// 30 on 90 neighbours, Euclidean distance, PCA initialisation, seed 1.
+func Default() Settings {
+	return Settings{Prep: prep.DefaultOptions(), Perplexity: 30, Init: InitPCA, Seed: 1}
+}
+
+// GraphK returns the number of neighbours the graph is built with for n
+// cells: Neighbors, or ⌈3·Perplexity⌉ (van der Maaten 2014), at most n−1 and
+// neighbors.MaxK.
+func (s Settings) GraphK(n int) int {
+	k := s.Neighbors
+	if k <= 0 {
+		k = int(math.Ceil(3 * s.Perplexity))
+	}
+	if k > neighbors.MaxK {
+		k = neighbors.MaxK
+	}
+	if k > n-1 {
+		k = n - 1
+	}
+	return k
+}
+
+// Prepared holds everything the embedding and the window need about the
+// cells that passed quality control.
+type Prepared struct {
+	Settings Settings
+	// CellIDs and Annotations describe the kept cells, in the order of the
+	// rows of Features. Annotations holds the input's columns followed by
+	// the quality metrics of each cell when the input was counts.
+	CellIDs     []string
+	Annotations []atlas.Column
+	// GeneIDs and GeneSymbols name the columns of Expression.
+	GeneIDs, GeneSymbols []string
+	// Expression holds the expression shown when the map is painted by a
+	// gene and used for marker genes: log-normalised counts of the kept
+	// cells and genes, or the values of a wide numeric table. It is nil for
+	// a narrow table (features used as they are).
+	Expression *sparse.CSR
+	Features   *atlas.Dense     // the space neighbours are found in
+	Graph      *neighbors.Graph // GraphK neighbours of every cell
+	P          *sparse.CSR      // symmetric affinities summing to 1
+	Init       []float32        // the layout fresh runs start from
+	Prep       *prep.Result     // reports of quality control, gene selection and PCA
+	Notes      []string         // where the preparation differs from what was asked
+}
+
+// Cells returns the number of kept cells.
+func (p *Prepared) Cells() int { return len(p.CellIDs) }
+
+// Prepare runs the stages from d to the initial layout. report, when not nil,
+// receives the progress of each stage by name (see Stages); it may be called
+// from several goroutines and must return quickly.
+func Prepare(ctx context.Context, d *atlas.Dataset, s Settings, report func(stage string, done, total int64)) (*Prepared, error) {
+	if report == nil {
+		report = func(string, int64, int64) {}
+	}
+	po := s.Prep
+	po.Threads = s.Threads
+	po.PCA.Seed = s.Seed
+	po.Progress = report
+	res, err := prep.Prepare(ctx, d, po)
+	if err != nil {
+		return nil, err
+	}
+	out := &Prepared{Settings: s, Prep: res, Features: res.Features, Notes: append([]string(nil), res.Notes...)}
+	out.CellIDs = make([]string, len(res.Cells))
+	for i, c := range res.Cells {
+		out.CellIDs[i] = d.CellIDs[c]
+	}
+	out.Annotations = subsetColumns(d.Annotations, res.Cells)
+	if res.QC != nil {
+		out.Annotations = append(out.Annotations,
+			continuous("total counts", res.QC.Kept.TotalCounts),
+			continuous("detected genes", res.QC.Kept.DetectedGenes),
+			continuous("mitochondrial fraction", res.QC.Kept.MitoFraction))
+	}
+	switch {
+	case res.Normalized != nil:
+		out.Expression = res.Normalized
+		out.GeneIDs = make([]string, len(res.KeptGenes))
+		out.GeneSymbols = make([]string, len(res.KeptGenes))
+		for j, g := range res.KeptGenes {
+			out.GeneIDs[j] = d.GeneIDs[g]
+			out.GeneSymbols[j] = d.GeneSymbols[g]
+		}
+	case d.Table != nil && d.Table.Cols > prep.MaxFeatureColumns:
+		out.Expression = denseRowsToCSR(d.Table, res.Cells)
+		out.GeneIDs, out.GeneSymbols = d.GeneIDs, d.GeneSymbols
+	}
+
+	n := out.Cells()
+	k := s.GraphK(n)
+	if k < 1 {
+		return nil, fmt.Errorf("pipeline: %d cells passed quality control; at least 2 are needed for a map", n)
+	}
+	if want := int(math.Ceil(3 * s.Perplexity)); s.Neighbors <= 0 && k < want {
+		out.Notes = append(out.Notes, fmt.Sprintf("only %d neighbours per cell are available (perplexity %g asks for %d)", k, s.Perplexity, want))
+	}
+	g, err := neighbors.Find(ctx, res.Features, neighbors.Options{
+		K: k, Metric: s.Metric, Method: s.Method, Seed: s.Seed, Threads: s.Threads,
+		Progress: func(done, total int64) { report(StageNeighbors, done, total) },
+	})
+	if err != nil {
+		return nil, fmt.Errorf("nearest neighbours: %w", err)
+	}
+	out.Graph = g
+
+	report(StageAffinities, 0, 1)
+	if s.Uniform {
+		out.P, err = affinity.Uniform(g, g.K)
+	} else {
+		perp := s.Perplexity
+		if maxPerp := float64(g.K) / 3; perp > maxPerp {
+			out.Notes = append(out.Notes, fmt.Sprintf("perplexity lowered from %g to %.3g to fit %d neighbours", perp, maxPerp, g.K))
+			perp = maxPerp
+		}
+		out.P, err = affinity.Perplexity(ctx, g, perp, s.Threads)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("affinities: %w", err)
+	}
+	report(StageAffinities, 1, 1)
+
+	report(StageInit, 0, 1)
+	out.Init, err = initialLayout(ctx, out, s)
+	if err != nil {
+		return nil, fmt.Errorf("initial layout: %w", err)
+	}
+	report(StageInit, 1, 1)
+	return out, nil
+}
+
+// initStd is the standard deviation of the initial layout (common practice).
+const initStd = 1e-4
+
+func initialLayout(ctx context.Context, p *Prepared, s Settings) ([]float32, error) {
+	if s.Init == InitSpectral {
+		y, _, err := embed.Spectral(ctx, p.P, s.Threads)
+		if err != nil {
+			return nil, err
+		}
+		return scaleToStd(y, initStd), nil
+	}
+	return embed.InitPCA(p.Features)
+}
+
+// scaleToStd centres y and scales it so that its coordinates have standard
+// deviation std (over both axes together).
+func scaleToStd(y []float32, std float64) []float32 {
+	n := len(y) / 2
+	var mx, my float64
+	for i := 0; i < n; i++ {
+		mx += float64(y[2*i])
+		my += float64(y[2*i+1])
+	}
+	mx /= float64(n)
+	my /= float64(n)
+	var ss float64
+	for i := 0; i < n; i++ {
+		dx, dy := float64(y[2*i])-mx, float64(y[2*i+1])-my
+		ss += dx*dx + dy*dy
+	}
+	f := 0.0
+	if ss > 0 {
+		f = std / math.Sqrt(ss/float64(2*n))
+	}
+	out := make([]float32, len(y))
+	for i := 0; i < n; i++ {
+		out[2*i] = float32((float64(y[2*i]) - mx) * f)
+		out[2*i+1] = float32((float64(y[2*i+1]) - my) * f)
+	}
+	return out
+}
+
+func continuous(name string, v []float32) atlas.Column {
+	c := atlas.Column{Name: name, Kind: atlas.Continuous, Values: make([]float64, len(v))}
+	for i, x := range v {
+		c.Values[i] = float64(x)
+	}
+	return c
+}
+
+// subsetColumns returns the columns restricted to the given rows.
+func subsetColumns(cols []atlas.Column, rows []int) []atlas.Column {
+	out := make([]atlas.Column, len(cols))
+	for k, c := range cols {
+		o := atlas.Column{Name: c.Name, Kind: c.Kind, Levels: c.Levels}
+		if c.Kind == atlas.Categorical {
+			o.Codes = make([]int32, len(rows))
+			for i, r := range rows {
+				o.Codes[i] = c.Codes[r]
+			}
+		} else {
+			o.Values = make([]float64, len(rows))
+			for i, r := range rows {
+				o.Values[i] = c.Values[r]
+			}
+		}
+		out[k] = o
+	}
+	return out
+}
+
+// denseRowsToCSR returns the given rows of m as a sparse matrix of their
+// non-zero values.
+func denseRowsToCSR(m *atlas.Dense, rows []int) *sparse.CSR {
+	out := &sparse.CSR{Rows: len(rows), Cols: m.Cols, RowPtr: make([]int64, len(rows)+1)}
+	for i, r := range rows {
+		for j, v := range m.Row(r) {
+			if v != 0 {
+				out.ColIdx = append(out.ColIdx, int32(j))
+				out.Val = append(out.Val, v)
+			}
+		}
+		out.RowPtr[i+1] = int64(len(out.ColIdx))
+	}
+	return out
+}
