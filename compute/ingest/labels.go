@@ -64,9 +64,9 @@ func ReadLabels(ctx context.Context, r io.Reader, name string) (*Labels, error) 
 		if len(bytes.TrimSpace(id)) == 0 {
 			return nil, errorf(name, s.line, 1, ErrBlankLabel, "line starts with an empty ID")
 		}
-		nf := 1 + bytes.Count(rest, []byte{'\t'})
-		if !more {
-			nf = 1
+		nf := 1
+		if more {
+			nf = 2 + bytes.Count(rest, []byte{'\t'})
 		}
 		ids := string(id)
 		l.IDs = append(l.IDs, ids)

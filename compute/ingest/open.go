@@ -106,6 +106,7 @@ func Open(ctx context.Context, path string, opt Options) (*atlas.Dataset, error)
 // plan says which files Open reads and how.
 type plan struct {
 	name        string
+	where       string // the folder or file opened, for messages
 	folder      bool
 	matrix      string
 	table       string
@@ -130,7 +131,7 @@ func planFolder(ctx context.Context, dir string, opt Options) (*plan, error) {
 	if err != nil {
 		return nil, err
 	}
-	pl := &plan{name: filepath.Base(filepath.Clean(dir)), folder: true}
+	pl := &plan{name: filepath.Base(filepath.Clean(dir)), where: dir, folder: true}
 	var matrices []*probe
 	for _, p := range files {
 		if p.matrix {
@@ -156,7 +157,7 @@ func planFile(ctx context.Context, path string, opt Options) (*plan, error) {
 	if p.size == 0 {
 		return nil, errorf(path, 1, 0, ErrEmpty, "nothing to read")
 	}
-	pl := &plan{name: baseName(path)}
+	pl := &plan{name: baseName(path), where: path}
 	files, err := listFiles(ctx, filepath.Dir(path), path, opt.Cells, opt.Genes, opt.Annotations)
 	if err != nil {
 		return nil, err
@@ -206,11 +207,11 @@ func (pl *plan) planTable(ctx context.Context, files []*probe, table *probe, opt
 		}
 		switch len(dense) {
 		case 0:
-			return fmt.Errorf("ingest: %s: %w: no Matrix Market file and no numeric table among %d files (%s)", pl.name, ErrNothingToRead, len(files), names(files))
+			return fmt.Errorf("ingest: %s: %w: no Matrix Market file and no numeric table among %d files (%s)", pl.where, ErrNothingToRead, len(files), names(files))
 		case 1:
 			table = dense[0]
 		default:
-			return fmt.Errorf("ingest: %s: %w: no Matrix Market file and %d numeric tables (%s); open one of them", pl.name, ErrAmbiguous, len(dense), names(dense))
+			return fmt.Errorf("ingest: %s: %w: no Matrix Market file and %d numeric tables (%s); open one of them", pl.where, ErrAmbiguous, len(dense), names(dense))
 		}
 	} else {
 		rest = files
@@ -251,7 +252,7 @@ func (pl *plan) planAnnotations(ctx context.Context, files []*probe, cells func(
 		pl.annotations = found[0].path
 		pl.note("Joined the annotations of %s.", found[0].name())
 	case len(found) > 1 && pl.folder:
-		return fmt.Errorf("ingest: %s: %w: %d tables name cells (%s); choose the annotation table", pl.name, ErrAmbiguous, len(found), names(found))
+		return fmt.Errorf("ingest: %s: %w: %d tables name cells (%s); choose the annotation table", pl.where, ErrAmbiguous, len(found), names(found))
 	case len(found) > 1:
 		pl.note("Joined no annotations: %d tables name cells (%s); choose one.", len(found), names(found))
 	}
@@ -334,7 +335,8 @@ func fits(lines, n int) bool { return lines == n || lines == n+1 }
 // ranker orders candidate label files for a dimension.
 type ranker struct {
 	cands []*probe
-	mname string // the matrix file's name
+	path  string // the matrix file
+	mname string // its name
 	h     MatrixHeader
 }
 
@@ -385,14 +387,14 @@ func (r *ranker) pick(n int, skip *probe, want int) ([]*probe, error) {
 		if len(seen) > 0 {
 			what = strings.Join(seen, ", ")
 		}
-		return nil, fmt.Errorf("ingest: %s: %w: want %d label file(s) of %d lines (the matrix is %d × %d); found %s", r.mname, ErrLabelCount, want, n, r.h.Rows, r.h.Cols, what)
+		return nil, fmt.Errorf("ingest: %s: %w: want %d label file(s) of %d lines (the matrix is %d × %d); found %s", r.path, ErrLabelCount, want, n, r.h.Rows, r.h.Cols, what)
 	}
 	if len(out) > want && r.key(out[want-1], n) == r.key(out[want], n) {
 		tied := want + 1
 		for tied < len(out) && r.key(out[tied], n) == r.key(out[want], n) {
 			tied++
 		}
-		return nil, fmt.Errorf("ingest: %s: %w: %d files could label a dimension of %d (%s); name the label files", r.mname, ErrAmbiguous, tied, n, names(out[:tied]))
+		return nil, fmt.Errorf("ingest: %s: %w: %d files could label a dimension of %d (%s); name the label files", r.path, ErrAmbiguous, tied, n, names(out[:tied]))
 	}
 	return out[:want], nil
 }
@@ -401,10 +403,10 @@ func (r *ranker) pick(n int, skip *probe, want int) ([]*probe, error) {
 // decides the orientation.
 func (pl *plan) chooseLabels(cands []*probe) error {
 	h := pl.header
-	r := &ranker{cands: cands, mname: filepath.Base(pl.matrix), h: h}
+	r := &ranker{cands: cands, path: pl.matrix, mname: filepath.Base(pl.matrix), h: h}
 	for _, g := range []*probe{pl.cells, pl.genes} {
 		if g != nil && !fits(g.lines, h.Rows) && !fits(g.lines, h.Cols) {
-			return fmt.Errorf("ingest: %s: %w: %d lines, the matrix is %d × %d", g.name(), ErrLabelCount, g.lines, h.Rows, h.Cols)
+			return fmt.Errorf("ingest: %s: %w: %d lines, the matrix is %d × %d", g.path, ErrLabelCount, g.lines, h.Rows, h.Cols)
 		}
 	}
 	switch {
@@ -458,7 +460,7 @@ func (pl *plan) chooseLabels(cands []*probe) error {
 	cellsRows := fits(nc, h.Rows) && fits(ng, h.Cols)
 	switch {
 	case !genesRows && !cellsRows:
-		return fmt.Errorf("ingest: %s: %w: %s has %d lines and %s %d, the matrix is %d × %d", r.mname, ErrLabelCount, pl.cells.name(), nc, pl.genes.name(), ng, h.Rows, h.Cols)
+		return fmt.Errorf("ingest: %s: %w: %s has %d lines and %s %d, the matrix is %d × %d", r.path, ErrLabelCount, pl.cells.name(), nc, pl.genes.name(), ng, h.Rows, h.Cols)
 	case genesRows && cellsRows:
 		// Square, or a header line makes both fit: prefer exact fits,
 		// else rows are genes.
@@ -496,8 +498,8 @@ func whichGenes(a, b *probe) (bool, string) {
 	switch {
 	case (a.fields >= 2) != (b.fields >= 2):
 		return a.fields >= 2, "the genes file's lines have a second field"
-	case nameHint(a.path)+nameHint(b.path) == 0 && nameHint(a.path) != 0:
-		return nameHint(a.path) > 0, "their names say so"
+	case nameHint(a.path) != nameHint(b.path):
+		return nameHint(a.path) > nameHint(b.path), "their names say so"
 	case looksLikeBarcode(firstID(a)) != looksLikeBarcode(firstID(b)):
 		return looksLikeBarcode(firstID(b)), "the cells file's IDs look like barcodes"
 	}
@@ -658,4 +660,3 @@ func checkUnique(ids []string, file string, first int) error {
 	}
 	return nil
 }
-

@@ -90,9 +90,9 @@ func (a *asyncReader) run(src io.Reader) {
 		n := 0
 		var err error
 		for n < len(buf) && err == nil {
-			var m int
-			m, err = src.Read(buf[n:])
-			n += m
+			var got int
+			got, err = src.Read(buf[n:])
+			n += got
 		}
 		if n > 0 {
 			select {
