@@ -199,38 +199,10 @@ func runPCA(ctx context.Context, sp *sparse.CSR, dense *atlas.Dense, opt PCAOpti
 
 	passes := int64(2*opt.PowerIterations + 2)
 	report := func(done int64) { opt.Progress.Report(done, passes) }
-
-	// Random start, orthonormalised.
-	rng := rand.New(rand.NewPCG(uint64(opt.Seed), 0x9e3779b97f4a7c15))
-	q := make([]float64, g*l)
-	for i := range q {
-		q[i] = rng.NormFloat64()
-	}
-	orth := newOrthonormalizer(g, l)
-	orth.apply(q)
-
-	y := make([]float64, n*l)
-	w := make([]float64, g*l)
-	var done int64
-	for range opt.PowerIterations {
-		if err := a.mul(ctx, y, q, l); err != nil {
-			return nil, err
-		}
-		done++
-		report(done)
-		if err := a.mulT(ctx, w, y, l); err != nil {
-			return nil, err
-		}
-		done++
-		report(done)
-		orth.apply(w)
-		q, w = w, q
-	}
-	if err := a.mul(ctx, y, q, l); err != nil {
+	q, y, err := subspace(ctx, a, l, opt, report)
+	if err != nil {
 		return nil, err
 	}
-	done++
-	report(done)
 
 	// Y = U_Y Σ Wᵀ from the eigendecomposition of the l × l Gram matrix.
 	gram, err := gramOf(ctx, y, l, a.split)
@@ -254,11 +226,65 @@ func runPCA(ctx context.Context, sp *sparse.CSR, dense *atlas.Dense, opt PCAOpti
 		}
 	}
 
-	// Loadings V = Q·W_k, signs fixed by the largest entry of each column.
+	res.Loadings = loadings(q, wk, g)
+	res.Scores, err = scores(ctx, y, wk, a.split)
+	if err != nil {
+		return nil, err
+	}
+	res.ExplainedVariance = make([]float64, k)
+	res.ExplainedVarianceRatio = make([]float64, k)
+	for t, s := range res.SingularValues {
+		res.ExplainedVariance[t] = s * s / float64(n-1)
+		res.ExplainedVarianceRatio[t] = res.ExplainedVariance[t] / a.totalVar
+	}
+	report(passes)
+	return res, nil
+}
+
+// subspace runs the randomised subspace iteration on a with l directions
+// and returns Q (G × l, orthonormal columns) and Y = A·Q (N × l), both
+// row-major, reporting each pass over the matrix.
+func subspace(ctx context.Context, a *centred, l int, opt PCAOptions, report func(int64)) (q, y []float64, err error) {
+	rng := rand.New(rand.NewPCG(uint64(opt.Seed), 0x9e3779b97f4a7c15))
+	q = make([]float64, a.g*l)
+	for i := range q {
+		q[i] = rng.NormFloat64()
+	}
+	orth := newOrthonormalizer(a.g, l)
+	orth.apply(q)
+	y = make([]float64, a.n*l)
+	w := make([]float64, a.g*l)
+	var done int64
+	for range opt.PowerIterations {
+		if err := a.mul(ctx, y, q, l); err != nil {
+			return nil, nil, err
+		}
+		done++
+		report(done)
+		if err := a.mulT(ctx, w, y, l); err != nil {
+			return nil, nil, err
+		}
+		done++
+		report(done)
+		orth.apply(w)
+		q, w = w, q
+	}
+	if err := a.mul(ctx, y, q, l); err != nil {
+		return nil, nil, err
+	}
+	report(done + 1)
+	return q, y, nil
+}
+
+// loadings returns V = Q·W (G × k) with the sign of each column chosen so
+// that its entry of largest magnitude (the first on a tie) is positive; the
+// columns of w are flipped alike, so that Y·W stays the matching scores.
+func loadings(q []float64, w *mat.Dense, g int) *atlas.Dense {
+	l, k := w.Dims()
 	v := make([]float64, g*k)
 	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
 		blas64.General{Rows: g, Cols: l, Stride: l, Data: q},
-		wk.RawMatrix(), 0, blas64.General{Rows: g, Cols: k, Stride: k, Data: v})
+		w.RawMatrix(), 0, blas64.General{Rows: g, Cols: k, Stride: k, Data: v})
 	for t := range k {
 		best := 0
 		for j := 1; j < g; j++ {
@@ -271,42 +297,38 @@ func runPCA(ctx context.Context, sp *sparse.CSR, dense *atlas.Dense, opt PCAOpti
 				v[j*k+t] = -v[j*k+t]
 			}
 			for s := range l {
-				wk.Set(s, t, -wk.At(s, t))
+				w.Set(s, t, -w.At(s, t))
 			}
 		}
 	}
-	res.Loadings = atlas.NewDense(g, k)
+	out := atlas.NewDense(g, k)
 	for i, x := range v {
-		res.Loadings.Data[i] = float32(x)
+		out.Data[i] = float32(x)
 	}
+	return out
+}
 
-	// Scores U·Σ = Y·W_k, in parallel over rows.
-	res.Scores = atlas.NewDense(n, k)
-	outs := make([][]float64, a.split.blocks())
-	err = a.split.run(ctx, func(lo, hi, b int) {
-		if outs[b] == nil {
-			outs[b] = make([]float64, chunkRows*k)
+// scores returns U·Σ = Y·W (N × k) computed in parallel over the rows of y.
+func scores(ctx context.Context, y []float64, w *mat.Dense, sp split) (*atlas.Dense, error) {
+	l, k := w.Dims()
+	out := atlas.NewDense(len(y)/l, k)
+	bufs := make([][]float64, sp.blocks())
+	err := sp.run(ctx, func(lo, hi, b int) {
+		if bufs[b] == nil {
+			bufs[b] = make([]float64, chunkRows*k)
 		}
-		out := outs[b][:(hi-lo)*k]
+		buf := bufs[b][:(hi-lo)*k]
 		blas64.Gemm(blas.NoTrans, blas.NoTrans, 1,
 			blas64.General{Rows: hi - lo, Cols: l, Stride: l, Data: y[lo*l : hi*l]},
-			wk.RawMatrix(), 0, blas64.General{Rows: hi - lo, Cols: k, Stride: k, Data: out})
-		for i, x := range out {
-			res.Scores.Data[lo*k+i] = float32(x)
+			w.RawMatrix(), 0, blas64.General{Rows: hi - lo, Cols: k, Stride: k, Data: buf})
+		for i, x := range buf {
+			out.Data[lo*k+i] = float32(x)
 		}
 	})
 	if err != nil {
 		return nil, err
 	}
-
-	res.ExplainedVariance = make([]float64, k)
-	res.ExplainedVarianceRatio = make([]float64, k)
-	for t, s := range res.SingularValues {
-		res.ExplainedVariance[t] = s * s / float64(n-1)
-		res.ExplainedVarianceRatio[t] = res.ExplainedVariance[t] / a.totalVar
-	}
-	report(passes)
-	return res, nil
+	return out, nil
 }
 
 // gramOf returns YᵀY for y (n × l, row-major): each block of rows adds the
