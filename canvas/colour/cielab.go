@@ -6,9 +6,9 @@ import "math"
 // to 100 (white), a green–red, b blue–yellow.
 type Lab struct{ L, A, B float64 }
 
-// D65 is the D65 reference white in XYZ (Y = 1), from its chromaticity
+// d65 is the D65 reference white in XYZ (Y = 1), from its chromaticity
 // x = 0.3127, y = 0.3290 as in CSS Color 4.
-var D65 = XYZ{0.3127 / 0.3290, 1, (1 - 0.3127 - 0.3290) / 0.3290}
+var d65 = XYZ{0.3127 / 0.3290, 1, (1 - 0.3127 - 0.3290) / 0.3290}
 
 // CIE 15 constants, as exact fractions: ε = (6/29)³ and κ = (29/3)³.
 const (
@@ -29,7 +29,7 @@ func (c XYZ) Lab() Lab {
 		}
 		return (labKappa*t + 16) / 116
 	}
-	fx, fy, fz := f(c.X/D65.X), f(c.Y/D65.Y), f(c.Z/D65.Z)
+	fx, fy, fz := f(c.X/d65.X), f(c.Y/d65.Y), f(c.Z/d65.Z)
 	return Lab{116*fy - 16, 500 * (fx - fy), 200 * (fy - fz)}
 }
 
@@ -44,7 +44,7 @@ func (c Lab) XYZ() XYZ {
 		}
 		return (116*f - 16) / labKappa
 	}
-	return XYZ{inv(fx) * D65.X, inv(fy) * D65.Y, inv(fz) * D65.Z}
+	return XYZ{inv(fx) * d65.X, inv(fy) * d65.Y, inv(fz) * d65.Z}
 }
 
 // Lab returns c in CIELAB (D65) by way of XYZ.

@@ -98,8 +98,8 @@ func TestWhiteAndBlack(t *testing.T) {
 	if lab := w.Lab(); !near3(lab.L, lab.A, lab.B, 100, 0, 0, 1e-9) {
 		t.Errorf("white in CIELAB = %v, want (100, 0, 0)", lab)
 	}
-	if xyz := w.Linear().XYZ(); !near3(xyz.X, xyz.Y, xyz.Z, D65.X, D65.Y, D65.Z, 1e-12) {
-		t.Errorf("white in XYZ = %v, want D65 %v", xyz, D65)
+	if xyz := w.Linear().XYZ(); !near3(xyz.X, xyz.Y, xyz.Z, d65.X, d65.Y, d65.Z, 1e-12) {
+		t.Errorf("white in XYZ = %v, want D65 %v", xyz, d65)
 	}
 	if ok := (SRGB{}).OKLab(); !near3(ok.L, ok.A, ok.B, 0, 0, 0, 1e-12) {
 		t.Errorf("black in OKLab = %v", ok)
@@ -201,7 +201,7 @@ func TestRoundTrips(t *testing.T) {
 			for b := 0; b <= 255; b += 15 {
 				c := FromNRGBA(color.NRGBA{uint8(r), uint8(g), uint8(b), 255})
 				ok := c.OKLab()
-				back := ok.LCH().Lab().SRGB()
+				back := ok.LCH().OKLab().SRGB()
 				if !near3(back.R, back.G, back.B, c.R, c.G, c.B, 1e-9) {
 					t.Errorf("%v via OKLCH → %v", c, back)
 				}

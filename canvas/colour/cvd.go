@@ -12,8 +12,8 @@ const (
 	Tritanopia                         // missing short-wavelength cones
 )
 
-// Deficiencies lists every Deficiency, for checks that run under each.
-var Deficiencies = []Deficiency{Protanopia, Deuteranopia, Tritanopia}
+// deficiencies lists every Deficiency.
+var deficiencies = [...]Deficiency{Protanopia, Deuteranopia, Tritanopia}
 
 // String returns the name of d.
 func (d Deficiency) String() string {

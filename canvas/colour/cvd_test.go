@@ -11,7 +11,7 @@ import (
 // printed to six decimals, so each row sum may be off by up to 3 × 5e-7.
 func TestSimulateKeepsNeutrals(t *testing.T) {
 	const tol = 1.5e-6
-	for _, d := range Deficiencies {
+	for _, d := range deficiencies {
 		for _, g := range []float64{0, 0.05, 0.2, 0.5, 0.8, 1} {
 			s := Simulate(Linear{g, g, g}, d)
 			if !near3(s.R, s.G, s.B, g, g, g, tol*g) {
@@ -34,7 +34,7 @@ func TestSimulateKeepsNeutrals(t *testing.T) {
 // which deuteranopes do tell apart, must stay above 40.
 func TestDeuteranopeConfusion(t *testing.T) {
 	diff := func(a, b OKLCH, d Deficiency) float64 {
-		la, lb := a.Lab().Linear(), b.Lab().Linear()
+		la, lb := a.OKLab().Linear(), b.OKLab().Linear()
 		if d != 0 {
 			la, lb = Simulate(la, d), Simulate(lb, d)
 		}

@@ -114,16 +114,16 @@ func (c OKLab) LCH() OKLCH {
 	return OKLCH{c.L, math.Hypot(c.A, c.B), hueDegrees(c.A, c.B)}
 }
 
-// Lab returns c in rectangular form:
+// OKLab returns c in rectangular form:
 //
 //	a = C·cos(H), b = C·sin(H)
-func (c OKLCH) Lab() OKLab {
+func (c OKLCH) OKLab() OKLab {
 	s, co := math.Sincos(c.H * math.Pi / 180)
 	return OKLab{c.L, c.C * co, c.C * s}
 }
 
 // SRGB returns c in gamma-encoded sRGB by way of OKLab.
-func (c OKLCH) SRGB() SRGB { return c.Lab().SRGB() }
+func (c OKLCH) SRGB() SRGB { return c.OKLab().SRGB() }
 
 // hueDegrees returns atan2(b, a) in degrees, in [0, 360).
 func hueDegrees(a, b float64) float64 {

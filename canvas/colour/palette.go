@@ -28,8 +28,9 @@ var cvdWeight = 2.5
 // (0.80, 0, 0).
 var Missing = OKLCH{L: missingLightness}.SRGB().NRGBA()
 
-// Background is the white the categorical palette keeps its distance from.
-var Background = color.NRGBA{255, 255, 255, 255}
+// paletteBackground is the white the categorical palette keeps its distance
+// from.
+var paletteBackground = SRGB{1, 1, 1}
 
 // categoricalTable holds the first len(categoricalTable) colours of the
 // categorical palette, as designCategorical produces them (a test
@@ -100,14 +101,14 @@ func extendedPalette(n int) []color.NRGBA {
 // under each simulated deficiency.
 type candidate struct {
 	lch OKLCH
-	lab [4]Lab // normal, then Deficiencies in order
+	lab [4]Lab // normal, then deficiencies in order
 }
 
 func newCandidate(c OKLCH) candidate {
-	lin := c.Lab().Linear()
+	lin := c.OKLab().Linear()
 	k := candidate{lch: c}
 	k.lab[0] = lin.Lab()
-	for i, d := range Deficiencies {
+	for i, d := range deficiencies {
 		k.lab[i+1] = Simulate(lin, d).Lab()
 	}
 	return k
@@ -165,7 +166,7 @@ func designCategorical(n int) []OKLCH {
 	}
 	anchors := []candidate{
 		newCandidate(OKLCH{L: missingLightness}),
-		newCandidate(FromNRGBA(Background).OKLab().LCH()),
+		newCandidate(paletteBackground.OKLab().LCH()),
 	}
 	nearest := make([]float64, len(cands))
 	for i := range cands {

@@ -37,7 +37,7 @@ const (
 )
 
 func TestCategoricalDistinct(t *testing.T) {
-	visions := append([]Deficiency{0}, Deficiencies...)
+	visions := append([]Deficiency{0}, deficiencies[:]...)
 	labs := func(c color.NRGBA) []Lab {
 		lin := FromNRGBA(c).Linear()
 		out := make([]Lab, len(visions))
@@ -47,7 +47,7 @@ func TestCategoricalDistinct(t *testing.T) {
 		return out
 	}
 	pal := Categorical(len(categoricalTable))
-	others := append([]color.NRGBA{Missing, Background}, pal...)
+	others := append([]color.NRGBA{Missing, paletteBackground.NRGBA()}, pal...)
 	for i, c := range pal {
 		li := labs(c)
 		for j, o := range others[:i+2] {
@@ -75,7 +75,7 @@ func TestCategoricalGreedyOrder(t *testing.T) {
 	design := designCategorical(16)
 	chosen := []candidate{
 		newCandidate(OKLCH{L: missingLightness}),
-		newCandidate(FromNRGBA(Background).OKLab().LCH()),
+		newCandidate(paletteBackground.OKLab().LCH()),
 	}
 	prev := math.Inf(1)
 	for k, c := range design {

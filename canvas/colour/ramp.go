@@ -40,9 +40,9 @@ var rampArc struct {
 func rampArcLength() []float64 {
 	rampArc.once.Do(func() {
 		s := make([]float64, rampArcSegments+1)
-		prev := rampCurve(0).Lab()
+		prev := rampCurve(0).OKLab()
 		for i := 1; i <= rampArcSegments; i++ {
-			cur := rampCurve(float64(i) / rampArcSegments).Lab()
+			cur := rampCurve(float64(i) / rampArcSegments).OKLab()
 			s[i] = s[i-1] + Distance(prev, cur)
 			prev = cur
 		}
@@ -70,11 +70,11 @@ func RampOKLab(t float64) OKLab {
 	s := rampArcLength()
 	i := sort.SearchFloat64s(s, t) // first i with s[i] ≥ t
 	if i == 0 {
-		return rampCurve(0).Lab()
+		return rampCurve(0).OKLab()
 	}
 	f := (t - s[i-1]) / (s[i] - s[i-1])
 	u := (float64(i-1) + f) / rampArcSegments
-	return rampCurve(u).Lab()
+	return rampCurve(u).OKLab()
 }
 
 // Ramp returns the colour of the continuous ramp at t in [0, 1] (clamped),

@@ -47,7 +47,7 @@ func TestRampUniform(t *testing.T) {
 	}
 	// The same curve with its raw parameter must fail the bound, or the test
 	// would not tell a uniform ramp from any other.
-	raw := coefficientOfVariation(rampSteps(RampSize, func(u float64) OKLab { return rampCurve(u).Lab() }))
+	raw := coefficientOfVariation(rampSteps(RampSize, func(u float64) OKLab { return rampCurve(u).OKLab() }))
 	if raw <= maxStepCV {
 		t.Errorf("raw curve step CV = %.2e is already within the bound", raw)
 	}
@@ -71,7 +71,7 @@ func TestRampInGamut(t *testing.T) {
 // neighbouring dark steps may round to the same colour).
 func TestRampLightness(t *testing.T) {
 	lut := RampTable()
-	for _, d := range append([]Deficiency{0}, Deficiencies...) {
+	for _, d := range append([]Deficiency{0}, deficiencies[:]...) {
 		prevDesign, prevTable := math.Inf(-1), math.Inf(-1)
 		for i, c := range lut {
 			design := Simulate(RampOKLab(float64(i)/(RampSize-1)).Linear(), d).OKLab().L

@@ -22,8 +22,9 @@ const minBandShift = 6
 const MaxSize = 1 << 14
 
 // Renderer draws points into an image, keeping its working memory from one
-// frame to the next so that drawing a frame of the same size allocates
-// nothing. The zero value is ready to use. A Renderer must not be used by
+// frame to the next: after the first frame of a size, a frame allocates only
+// the few small objects of starting its goroutines, however many points it
+// draws. The zero value is ready to use. A Renderer must not be used by
 // several goroutines at once.
 type Renderer struct {
 	stamps  *stampSet

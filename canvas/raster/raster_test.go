@@ -484,9 +484,9 @@ func TestShuffle(t *testing.T) {
 //
 //   - in every eighth of the drawing order, the last one (the top layer)
 //     included, each group has an eighth of its points, give or take one per
-//     chunk it touches (the construction deals each chunk evenly into the 8
-//     sweeps) and two per sweep boundary crossed (sweeps may differ from
-//     exact eighths by one point per chunk split unevenly: only the last);
+//     chunk it touches (each chunk is dealt evenly into the 8 sweeps) and a
+//     few more because the sweeps' lengths may differ from exact eighths by
+//     the uneven split of the last, partial chunk (2 per sweep boundary);
 //   - within the last sweep, a group stored first and a group stored last
 //     are drawn at the same time on average, so that neither lies on top of
 //     the other where they overlap: their mean positions differ by less than

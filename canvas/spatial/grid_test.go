@@ -64,9 +64,10 @@ func testLayouts(rng *rand.Rand) []layoutCase {
 		same = append(same, 2.5, -1)
 	}
 	withNaN := append([]float32{float32(math.NaN()), 1, 2, float32(math.Inf(1))}, lattice[:200]...)
+	extreme := []float32{3e38, -3e38, -3e38, 3e38, 0, 0, 1, 1, math.MaxFloat32, math.MaxFloat32}
 	return []layoutCase{
 		{"clusters", clusters}, {"duplicates", dups}, {"lattice", lattice}, {"line", line},
-		{"single", []float32{4, 5}}, {"same", same}, {"non-finite", withNaN}, {"empty", nil},
+		{"single", []float32{4, 5}}, {"same", same}, {"non-finite", withNaN}, {"extreme", extreme}, {"empty", nil},
 	}
 }
 
