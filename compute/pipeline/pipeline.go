@@ -31,7 +31,7 @@ const (
 // Stages lists the stages Prepare reports, in order, with a label for
 // people.
 var Stages = []struct{ Name, Label string }{
-	{"check", "checking values"},
+	{"check", "checking the table"},
 	{"qc", "quality control"},
 	{"normalize", "normalisation"},
 	{"genes", "gene selection"},
