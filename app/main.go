@@ -1,19 +1,64 @@
-// Package app is Lodestone's window and its headless commands: it wires the
-// compute stages to the canvas and keeps long computations off the UI
-// goroutine.
+// Package app starts Lodestone: the window, or one of the headless commands
+// of package cli.
 package app
 
 import (
-	fyneapp "fyne.io/fyne/v2/app"
-	"fyne.io/fyne/v2/widget"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+
+	"lodestone/app/cli"
+	"lodestone/app/window"
 )
 
-// Main runs Lodestone with the given command-line arguments and returns the
-// process exit status.
+// Main runs Lodestone with the given command-line arguments (without the
+// program name) and returns the process exit status.
 func Main(args []string) int {
-	a := fyneapp.NewWithID("org.lodestone.app")
-	w := a.NewWindow("Lodestone")
-	w.SetContent(widget.NewLabel("Lodestone"))
-	w.ShowAndRun()
-	return 0
+	if len(args) > 0 && cli.IsCommand(args[0]) {
+		return cli.Run(args, os.Stdout, os.Stderr)
+	}
+	opts, err := windowOptions(args, os.Stderr)
+	if err == flag.ErrHelp {
+		return cli.Run([]string{"help"}, os.Stdout, os.Stderr)
+	}
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "lodestone: %v; run \"lodestone help\" for the commands\n", err)
+		return cli.ExitUsage
+	}
+	return window.Run(opts)
+}
+
+// windowOptions parses the window's own flags: --example, --selftest
+// [DIR], --selftest-dial X, --threads N, and an optional path.
+func windowOptions(args []string, stderr io.Writer) (window.Options, error) {
+	var o window.Options
+	fs := flag.NewFlagSet("lodestone", flag.ContinueOnError)
+	fs.SetOutput(io.Discard)
+	fs.BoolVar(&o.Example, "example", false, "open the bundled, invented example atlas")
+	selfTest := fs.Bool("selftest", false, "run the self-test on the example atlas and exit (0 when it passes)")
+	fs.StringVar(&o.SelfTest, "selftest-out", "", "folder for the self-test's screenshots (default: a new temporary folder)")
+	fs.Float64Var(&o.SelfTestDial, "selftest-dial", 10, "the attraction the self-test turns the dial to")
+	fs.IntVar(&o.Threads, "threads", 0, "goroutines for computing (0: all processors)")
+	if err := fs.Parse(args); err != nil {
+		return o, err
+	}
+	switch fs.NArg() {
+	case 0:
+	case 1:
+		o.Path = fs.Arg(0)
+	default:
+		return o, fmt.Errorf("give at most one file, folder or session to open, not %s", strings.Join(fs.Args(), " "))
+	}
+	if *selfTest || o.SelfTest != "" {
+		if o.SelfTest == "" {
+			dir, err := os.MkdirTemp("", "lodestone-selftest-")
+			if err != nil {
+				return o, err
+			}
+			o.SelfTest = dir
+		}
+	}
+	return o, nil
 }

@@ -1,0 +1,113 @@
+package cli
+
+import (
+	"bytes"
+	"encoding/csv"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+func run(t *testing.T, args ...string) (int, string, string) {
+	t.Helper()
+	var out, errb bytes.Buffer
+	code := Run(args, &out, &errb)
+	return code, out.String(), errb.String()
+}
+
+// writeExample writes a small example atlas and returns its folder.
+func writeExample(t *testing.T) string {
+	t.Helper()
+	dir := t.TempDir()
+	code, out, errs := run(t, "example", "--out", dir, "--cells", "1200", "--genes", "300", "--quiet")
+	if code != ExitOK {
+		t.Fatalf("example: status %d: %s", code, errs)
+	}
+	if !strings.Contains(out, "wrote") {
+		t.Fatalf("example printed %q", out)
+	}
+	return dir
+}
+
+func TestExampleThenEmbedWritesLayout(t *testing.T) {
+	dir := writeExample(t)
+	for _, f := range []string{"counts.mtx", "cells.tsv", "genes.tsv", "annotations.tsv"} {
+		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
+			t.Fatalf("example did not write %s", f)
+		}
+	}
+	out := filepath.Join(t.TempDir(), "layout.csv")
+	code, _, errs := run(t, "embed", "--in", dir, "--out", out, "--iterations", "120", "--pcs", "15", "--genes", "200", "--min-genes", "40",
+		"--attraction", "4", "--quiet")
+	if code != ExitOK {
+		t.Fatalf("embed: status %d: %s", code, errs)
+	}
+	f, err := os.Open(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	rows, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Join(rows[0], ",") != "id,x,y" {
+		t.Fatalf("header %v", rows[0])
+	}
+	if len(rows) < 1000 || len(rows) > 1201 {
+		t.Fatalf("%d layout rows for 1200 cells (minus QC)", len(rows)-1)
+	}
+	for _, r := range rows[1:] {
+		for _, v := range r[1:] {
+			if _, err := strconv.ParseFloat(v, 64); err != nil {
+				t.Fatalf("row %v: %v", r, err)
+			}
+		}
+	}
+
+	// Continue from that layout at the spectral end.
+	out2 := filepath.Join(t.TempDir(), "spectral.csv")
+	code, _, errs = run(t, "embed", "--in", dir, "--out", out2, "--init", out, "--pcs", "15", "--genes", "200", "--min-genes", "40",
+		"--attraction", "inf", "--quiet")
+	if code != ExitOK {
+		t.Fatalf("embed --init layout --attraction inf: status %d: %s", code, errs)
+	}
+}
+
+func TestBadFlagsAndInputsExitTwo(t *testing.T) {
+	missing := filepath.Join(t.TempDir(), "nothing-here.mtx")
+	cases := [][]string{
+		{"embed", "--out", "x.csv"},
+		{"embed", "--in", missing, "--out", "x.csv"},
+		{"embed", "--in", missing, "--out", "x.csv", "--attraction", "0.1"},
+		{"embed", "--bogus"},
+		{"embed", "--in", missing, "--out", "x.csv", "--metric", "manhattan"},
+		{"nosuchcommand"},
+		{"example"},
+	}
+	for _, c := range cases {
+		code, _, errs := run(t, c...)
+		if code != ExitUsage {
+			t.Errorf("%v: status %d, want %d (stderr %q)", c, code, ExitUsage, errs)
+		}
+		if strings.Count(strings.TrimSpace(errs), "\n") != 0 || errs == "" {
+			t.Errorf("%v: error is not one line: %q", c, errs)
+		}
+	}
+}
+
+func TestAttractionFlag(t *testing.T) {
+	var a attractionFlag
+	for in, want := range map[string]string{"1": "1", "30": "30", "inf": "inf", "∞": "inf", "0.5": "0.5"} {
+		if err := a.Set(in); err != nil || a.String() != want {
+			t.Errorf("Set(%q): %v, %q", in, err, a.String())
+		}
+	}
+	for _, bad := range []string{"0.4", "-1", "x", "NaN", ""} {
+		if a.Set(bad) == nil {
+			t.Errorf("Set(%q) accepted", bad)
+		}
+	}
+}
