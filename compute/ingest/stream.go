@@ -11,12 +11,14 @@ import (
 
 const (
 	// readBufSize is the size of the buffer between a file and the
-	// decompressor or the line scanner.
-	readBufSize = 256 << 10
-	// lineBufSize is the initial size of the line scanner's buffer; it
-	// grows for lines longer than that, up to maxLineSize.
-	lineBufSize = 1 << 20
-	maxLineSize = 256 << 20
+	// decompressor; the line scanner reads past it.
+	readBufSize = 64 << 10
+	// The line scanner's buffer starts at firstBufSize, grows to
+	// lineBufSize once the input proves longer, and grows further only for
+	// lines longer than that, up to maxLineSize.
+	firstBufSize = 64 << 10
+	lineBufSize  = 1 << 20
+	maxLineSize  = 256 << 20
 	// chunkSize and chunkCount set the double buffering between the
 	// goroutine that inflates gzip data and the parser.
 	chunkSize  = 512 << 10
@@ -70,7 +72,7 @@ func newAsyncReader(src io.Reader) *asyncReader {
 		stop: make(chan struct{}),
 	}
 	for i := 0; i < chunkCount; i++ {
-		a.free <- make([]byte, chunkSize)
+		a.free <- nil // allocated when first needed
 	}
 	a.wg.Add(1)
 	go a.run(src)
@@ -86,6 +88,9 @@ func (a *asyncReader) run(src io.Reader) {
 		case buf = <-a.free:
 		case <-a.stop:
 			return
+		}
+		if buf == nil {
+			buf = make([]byte, chunkSize)
 		}
 		n := 0
 		var err error
@@ -155,7 +160,7 @@ type lineScanner struct {
 }
 
 func newLineScanner(ctx context.Context, src io.Reader) *lineScanner {
-	return &lineScanner{ctx: ctx, src: src, buf: make([]byte, lineBufSize)}
+	return &lineScanner{ctx: ctx, src: src, buf: make([]byte, firstBufSize)}
 }
 
 // next advances to the next line, which is then s.text, and reports whether
@@ -204,7 +209,12 @@ func (s *lineScanner) fill() {
 		s.w = copy(s.buf, s.buf[s.r:s.w])
 		s.r = 0
 	}
-	if s.w == len(s.buf) {
+	if len(s.buf) < lineBufSize && s.w > 0 {
+		// The input is longer than the first buffer: take a larger one.
+		nb := make([]byte, lineBufSize)
+		copy(nb, s.buf[:s.w])
+		s.buf = nb
+	} else if s.w == len(s.buf) {
 		if len(s.buf) >= maxLineSize {
 			s.err = errorf("", 0, 0, ErrLineTooLong, "a line exceeds %d bytes", maxLineSize)
 			return
