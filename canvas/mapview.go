@@ -1,0 +1,642 @@
+package canvas
+
+import (
+	"image"
+	"image/color"
+	"math"
+	"time"
+
+	"fyne.io/fyne/v2"
+	fynecanvas "fyne.io/fyne/v2/canvas"
+	"fyne.io/fyne/v2/driver/desktop"
+	"fyne.io/fyne/v2/theme"
+	"fyne.io/fyne/v2/widget"
+
+	"lodestone/canvas/raster"
+	"lodestone/canvas/spatial"
+)
+
+// Tool says what dragging on the map does.
+type Tool int
+
+const (
+	// Move pans the map.
+	Move Tool = iota
+	// LassoAdd adds the cells inside a freehand loop to the selection.
+	LassoAdd
+	// LassoSubtract removes the cells inside a freehand loop from the
+	// selection.
+	LassoSubtract
+)
+
+// Map is the map widget: cells drawn as points into a raster of its own,
+// painted with one palette colour each. Dragging pans or lassos (see Tool),
+// the wheel zooms about the pointer, hovering names the nearest cell.
+//
+// While a run moves the points the view follows the layout's extent
+// smoothly, until the user pans or zooms, which pins it; Fit unpins it.
+// All methods must be called on the UI goroutine.
+type Map struct {
+	widget.BaseWidget
+
+	// OnHover is called with the cell under the pointer, or −1.
+	OnHover func(cell int)
+	// HoverText returns the text shown beside the pointer for a cell.
+	HoverText func(cell int) string
+	// OnSelection is called after a lasso changed the selection, with the
+	// number of selected cells.
+	OnSelection func(count int)
+
+	layout  []float32
+	colours []uint16
+	palette []color.NRGBA
+	order   []int32
+	style   raster.Style
+
+	tool      Tool
+	selection []bool
+	selCount  int
+	undo      [][]bool
+
+	view       raster.View // in device pixels
+	viewFrom   raster.View // start of the glide towards the fitted view
+	viewTarget raster.View
+	glide      *fyne.Animation
+	pinned     bool
+	hasView    bool
+	pixScale   float64
+
+	path  []fyne.Position // the lasso being drawn, in logical pixels
+	hover int
+	tipAt fyne.Position
+
+	grid      *spatial.Grid
+	gridStale bool
+
+	drawColours []uint16 // colours with the selection dimming applied
+	drawPalette []color.NRGBA
+	drawStale   bool
+
+	rend     raster.Renderer
+	img      *image.RGBA
+	lastDraw time.Duration
+}
+
+var (
+	_ fyne.Draggable    = (*Map)(nil)
+	_ fyne.Scrollable   = (*Map)(nil)
+	_ desktop.Hoverable = (*Map)(nil)
+)
+
+// NewMap returns an empty map.
+func NewMap() *Map {
+	m := &Map{hover: -1, pixScale: 1}
+	m.ExtendBaseWidget(m)
+	return m
+}
+
+// SetLayout shows a new layout of the same cells (or of new cells, when the
+// length changes, which also resets the drawing order, the paint and the
+// selection). The slice must not be modified afterwards.
+func (m *Map) SetLayout(layout []float32) {
+	n := len(layout) / 2
+	if n != len(m.layout)/2 {
+		m.order = raster.Shuffle(n, 1)
+		m.colours = make([]uint16, n)
+		m.palette = []color.NRGBA{{R: 0x55, G: 0x55, B: 0x5a, A: 0xff}}
+		m.selection = make([]bool, n)
+		m.selCount = 0
+		m.undo = nil
+		m.style = raster.DefaultStyle(n)
+		m.hasView = false
+		m.pinned = false
+		m.drawStale = true
+	}
+	m.layout = layout
+	m.gridStale = true
+	m.follow()
+	m.Refresh()
+}
+
+// Layout returns the layout shown.
+func (m *Map) Layout() []float32 { return m.layout }
+
+// SetPaint sets each cell's palette index (raster.Hidden hides a cell) and the
+// palette. The slices must not be modified afterwards.
+func (m *Map) SetPaint(colours []uint16, palette []color.NRGBA) {
+	m.colours, m.palette = colours, palette
+	m.drawStale = true
+	m.gridStale = true
+	m.Refresh()
+}
+
+// SetPointStyle changes the point radius (logical pixels) and opacity.
+func (m *Map) SetPointStyle(radius, opacity float64) {
+	m.style.Radius = math.Max(0.3, math.Min(radius, 12))
+	m.style.Opacity = math.Max(0.05, math.Min(opacity, 1))
+	m.Refresh()
+}
+
+// PointStyle returns the point radius and opacity.
+func (m *Map) PointStyle() (radius, opacity float64) { return m.style.Radius, m.style.Opacity }
+
+// SetTool chooses what dragging does.
+func (m *Map) SetTool(t Tool) { m.tool = t }
+
+// Tool returns what dragging does.
+func (m *Map) Tool() Tool { return m.tool }
+
+// Selection returns the selected cells (true when selected) and their number.
+// The slice must not be modified.
+func (m *Map) Selection() ([]bool, int) { return m.selection, m.selCount }
+
+// SetSelection replaces the selection (remembering the old one for Undo).
+func (m *Map) SetSelection(sel []bool) {
+	if len(sel) != len(m.selection) {
+		return
+	}
+	m.pushUndo()
+	m.applySelection(sel)
+}
+
+func (m *Map) applySelection(sel []bool) {
+	m.selection = sel
+	m.selCount = 0
+	for _, s := range sel {
+		if s {
+			m.selCount++
+		}
+	}
+	m.drawStale = true
+	m.Refresh()
+	if m.OnSelection != nil {
+		m.OnSelection(m.selCount)
+	}
+}
+
+func (m *Map) pushUndo() {
+	const keep = 30
+	m.undo = append(m.undo, m.selection)
+	if len(m.undo) > keep {
+		m.undo = m.undo[len(m.undo)-keep:]
+	}
+}
+
+// Undo restores the selection before the last change; it reports false when
+// there is nothing to undo.
+func (m *Map) Undo() bool {
+	if len(m.undo) == 0 {
+		return false
+	}
+	prev := m.undo[len(m.undo)-1]
+	m.undo = m.undo[:len(m.undo)-1]
+	m.applySelection(prev)
+	return true
+}
+
+// ClearSelection selects nothing.
+func (m *Map) ClearSelection() {
+	if m.selCount == 0 {
+		return
+	}
+	m.SetSelection(make([]bool, len(m.selection)))
+}
+
+// Fit shows the whole layout and lets the view follow the layout again.
+func (m *Map) Fit() {
+	m.pinned = false
+	m.follow()
+	m.Refresh()
+}
+
+// Pinned reports whether the user's pan or zoom holds the view.
+func (m *Map) Pinned() bool { return m.pinned }
+
+// View returns the current view in device pixels.
+func (m *Map) View() raster.View { return m.view }
+
+// SetView shows v (in device pixels) and pins it.
+func (m *Map) SetView(v raster.View) {
+	m.stopGlide()
+	m.view, m.hasView, m.pinned = v, true, true
+	m.Refresh()
+}
+
+// LastDrawTime returns how long drawing the last frame took.
+func (m *Map) LastDrawTime() time.Duration { return m.lastDraw }
+
+func (m *Map) deviceSize() (int, int) {
+	s := m.Size()
+	return int(math.Round(float64(s.Width) * m.pixScale)), int(math.Round(float64(s.Height) * m.pixScale))
+}
+
+// fitted returns the view that shows the whole layout in the widget.
+func (m *Map) fitted() (raster.View, bool) {
+	w, h := m.deviceSize()
+	if w < 8 || h < 8 || len(m.layout) == 0 {
+		return raster.View{}, false
+	}
+	margin := math.Min(24*m.pixScale, float64(min(w, h))/4)
+	v, err := raster.Fit(m.layout, w, h, margin)
+	return v, err == nil
+}
+
+// follow moves the view towards the fitted view: at once when there is no
+// view yet, otherwise by a short glide, so that the map does not jump
+// between snapshots.
+func (m *Map) follow() {
+	if m.pinned {
+		return
+	}
+	target, ok := m.fitted()
+	if !ok {
+		return
+	}
+	if !m.hasView || m.view.Width != target.Width || m.view.Height != target.Height {
+		m.stopGlide()
+		m.view, m.hasView = target, true
+		return
+	}
+	m.viewFrom, m.viewTarget = m.view, target
+	if m.glide == nil {
+		m.glide = fyne.NewAnimation(180*time.Millisecond, func(t float32) {
+			if m.pinned {
+				return
+			}
+			m.view = blendViews(m.viewFrom, m.viewTarget, float64(t))
+			m.Refresh()
+		})
+		m.glide.Curve = fyne.AnimationEaseOut
+	} else {
+		m.glide.Stop()
+	}
+	if fyne.CurrentApp() != nil {
+		m.glide.Start()
+	} else {
+		m.view = target
+	}
+}
+
+func (m *Map) stopGlide() {
+	if m.glide != nil {
+		m.glide.Stop()
+	}
+}
+
+// blendViews interpolates centre linearly and scale geometrically.
+func blendViews(a, b raster.View, t float64) raster.View {
+	return raster.View{
+		CenterX: a.CenterX + t*(b.CenterX-a.CenterX),
+		CenterY: a.CenterY + t*(b.CenterY-a.CenterY),
+		Scale:   a.Scale * math.Pow(b.Scale/a.Scale, t),
+		Width:   b.Width, Height: b.Height,
+	}
+}
+
+// Dragged pans the map or draws the lasso.
+func (m *Map) Dragged(e *fyne.DragEvent) {
+	if m.tool == Move {
+		m.stopGlide()
+		m.pinned = true
+		m.view = m.view.Pan(float64(e.Dragged.DX)*m.pixScale, float64(e.Dragged.DY)*m.pixScale)
+		m.Refresh()
+		return
+	}
+	p := e.Position
+	if n := len(m.path); n > 0 {
+		q := m.path[n-1]
+		if dx, dy := p.X-q.X, p.Y-q.Y; dx*dx+dy*dy < 4 {
+			return // closer than two pixels to the last vertex
+		}
+	} else {
+		m.path = append(m.path, fyne.NewPos(p.X-e.Dragged.DX, p.Y-e.Dragged.DY))
+	}
+	m.path = append(m.path, p)
+	m.Refresh()
+}
+
+// DragEnd closes the lasso and applies it to the selection.
+func (m *Map) DragEnd() {
+	if m.tool == Move || len(m.path) < 3 {
+		m.path = m.path[:0]
+		m.Refresh()
+		return
+	}
+	poly := make([]float64, 0, 2*len(m.path))
+	for _, p := range m.path {
+		x, y := m.view.ToData(float64(p.X)*m.pixScale, float64(p.Y)*m.pixScale)
+		poly = append(poly, x, y)
+	}
+	m.path = m.path[:0]
+	m.ApplyLasso(poly, m.tool == LassoSubtract)
+}
+
+// ApplyLasso adds the visible cells inside poly (x0,y0,x1,y1,… in data
+// coordinates) to the selection, or removes them when subtract is set.
+func (m *Map) ApplyLasso(poly []float64, subtract bool) {
+	inside, err := spatial.Inside(poly, m.layout, nil, 0)
+	if err != nil {
+		fyne.LogError("lasso", err)
+		return
+	}
+	for i, c := range m.colours {
+		if c == raster.Hidden {
+			inside[i] = false // hidden cells are never selected by a lasso
+		}
+	}
+	mode := spatial.Add
+	if subtract {
+		mode = spatial.Subtract
+	}
+	sel, err := spatial.Combine(nil, m.selection, inside, mode)
+	if err != nil {
+		fyne.LogError("lasso", err)
+		return
+	}
+	m.SetSelection(sel)
+}
+
+// Scrolled zooms about the pointer and pins the view.
+func (m *Map) Scrolled(e *fyne.ScrollEvent) {
+	if !m.hasView {
+		return
+	}
+	m.stopGlide()
+	m.pinned = true
+	f := math.Pow(1.0015, float64(e.Scrolled.DY))
+	m.view = m.view.ZoomAt(float64(e.Position.X)*m.pixScale, float64(e.Position.Y)*m.pixScale, f)
+	m.Refresh()
+}
+
+// ZoomBy magnifies the view by factor about its centre and pins it.
+func (m *Map) ZoomBy(factor float64) {
+	if !m.hasView {
+		return
+	}
+	m.stopGlide()
+	m.pinned = true
+	m.view = m.view.ZoomAt(float64(m.view.Width)/2, float64(m.view.Height)/2, factor)
+	m.Refresh()
+}
+
+// MouseIn starts hover tracking.
+func (m *Map) MouseIn(e *desktop.MouseEvent) { m.MouseMoved(e) }
+
+// MouseMoved finds the cell under the pointer.
+func (m *Map) MouseMoved(e *desktop.MouseEvent) {
+	cell := m.CellAt(e.Position)
+	m.tipAt = e.Position
+	if cell != m.hover {
+		m.hover = cell
+		if m.OnHover != nil {
+			m.OnHover(cell)
+		}
+		m.Refresh()
+	}
+}
+
+// MouseOut ends hover tracking.
+func (m *Map) MouseOut() {
+	if m.hover != -1 {
+		m.hover = -1
+		if m.OnHover != nil {
+			m.OnHover(-1)
+		}
+		m.Refresh()
+	}
+}
+
+// CellAt returns the visible cell nearest to the logical position p within a
+// few pixels, or −1.
+func (m *Map) CellAt(p fyne.Position) int {
+	if !m.hasView || len(m.layout) == 0 {
+		return -1
+	}
+	if m.grid == nil || m.gridStale {
+		g, err := spatial.NewGrid(m.layout, func(i int) bool { return m.colours[i] != raster.Hidden })
+		if err != nil {
+			return -1
+		}
+		m.grid, m.gridStale = g, false
+	}
+	x, y := m.view.ToData(float64(p.X)*m.pixScale, float64(p.Y)*m.pixScale)
+	reach := (6 + m.style.Radius) * m.pixScale / m.view.Scale
+	if i, ok := m.grid.Nearest(x, y, reach); ok {
+		return i
+	}
+	return -1
+}
+
+// MinSize is small: the map takes what space it is given.
+func (m *Map) MinSize() fyne.Size { return fyne.NewSize(200, 160) }
+
+// CreateRenderer builds the map's drawing.
+func (m *Map) CreateRenderer() fyne.WidgetRenderer {
+	r := &mapRenderer{m: m}
+	r.points = fynecanvas.NewRaster(r.drawPoints)
+	r.points.ScaleMode = fynecanvas.ImageScalePixels
+	r.overlay = fynecanvas.NewRaster(r.drawOverlay)
+	r.tipBox = fynecanvas.NewRectangle(color.Transparent)
+	r.tipBox.CornerRadius = 4
+	r.tipText = fynecanvas.NewText("", color.Transparent)
+	r.tipText.TextSize = theme.CaptionTextSize()
+	r.tipBox.Hide()
+	r.tipText.Hide()
+	return r
+}
+
+type mapRenderer struct {
+	m               *Map
+	points, overlay *fynecanvas.Raster
+	tipBox          *fynecanvas.Rectangle
+	tipText         *fynecanvas.Text
+	overlayImg      *image.NRGBA
+}
+
+func (r *mapRenderer) Layout(s fyne.Size) {
+	r.points.Resize(s)
+	r.overlay.Resize(s)
+	r.placeTip()
+}
+
+func (r *mapRenderer) MinSize() fyne.Size { return r.m.MinSize() }
+
+func (r *mapRenderer) Objects() []fyne.CanvasObject {
+	return []fyne.CanvasObject{r.points, r.overlay, r.tipBox, r.tipText}
+}
+
+func (r *mapRenderer) Destroy() { r.m.stopGlide() }
+
+func (r *mapRenderer) Refresh() {
+	r.placeTip()
+	r.points.Refresh()
+	r.overlay.Refresh()
+	r.tipBox.Refresh()
+	r.tipText.Refresh()
+}
+
+func (r *mapRenderer) placeTip() {
+	m := r.m
+	if m.hover < 0 || m.HoverText == nil || len(m.path) > 0 {
+		r.tipBox.Hide()
+		r.tipText.Hide()
+		return
+	}
+	r.tipText.Text = m.HoverText(m.hover)
+	r.tipText.Color = theme.Color(theme.ColorNameForeground)
+	r.tipBox.FillColor = theme.Color(theme.ColorNameInputBackground)
+	r.tipBox.StrokeColor = theme.Color(theme.ColorNameInputBorder)
+	r.tipBox.StrokeWidth = 1
+	ts := r.tipText.MinSize()
+	pad := float32(5)
+	pos := fyne.NewPos(m.tipAt.X+14, m.tipAt.Y+10)
+	size := m.Size()
+	if pos.X+ts.Width+2*pad > size.Width {
+		pos.X = m.tipAt.X - 14 - ts.Width - 2*pad
+	}
+	if pos.Y+ts.Height+2*pad > size.Height {
+		pos.Y = m.tipAt.Y - 10 - ts.Height - 2*pad
+	}
+	r.tipBox.Move(pos)
+	r.tipBox.Resize(fyne.NewSize(ts.Width+2*pad, ts.Height+2*pad))
+	r.tipText.Move(pos.Add(fyne.NewPos(pad, pad)))
+	r.tipText.Resize(ts)
+	r.tipBox.Show()
+	r.tipText.Show()
+}
+
+// dimmed returns c faded towards the background, for cells outside the
+// selection.
+func dimmed(c, bg color.NRGBA) color.NRGBA {
+	mix := func(a, b uint8) uint8 { return uint8((int(a)*30 + int(b)*70) / 100) }
+	return color.NRGBA{R: mix(c.R, bg.R), G: mix(c.G, bg.G), B: mix(c.B, bg.B), A: c.A}
+}
+
+// prepareColours applies the selection: with cells selected, the others are
+// drawn in faded versions of their colours.
+func (m *Map) prepareColours() {
+	if !m.drawStale {
+		return
+	}
+	m.drawStale = false
+	if m.selCount == 0 {
+		m.drawColours, m.drawPalette = m.colours, m.palette
+		return
+	}
+	k := len(m.palette)
+	m.drawPalette = make([]color.NRGBA, 2*k)
+	copy(m.drawPalette, m.palette)
+	for i, c := range m.palette {
+		m.drawPalette[k+i] = dimmed(c, m.style.Background)
+	}
+	if len(m.drawColours) != len(m.colours) || len(m.colours) > 0 && &m.drawColours[0] == &m.colours[0] {
+		m.drawColours = make([]uint16, len(m.colours))
+	}
+	for i, c := range m.colours {
+		if c != raster.Hidden && !m.selection[i] {
+			c += uint16(k)
+		}
+		m.drawColours[i] = c
+	}
+}
+
+func (r *mapRenderer) drawPoints(w, h int) image.Image {
+	m := r.m
+	if s := m.Size(); s.Width > 0 {
+		m.pixScale = float64(w) / float64(s.Width)
+	}
+	if r.m.img == nil || m.img.Rect.Dx() != w || m.img.Rect.Dy() != h {
+		m.img = image.NewRGBA(image.Rect(0, 0, w, h))
+		if m.hasView && (m.view.Width != w || m.view.Height != h) {
+			if m.pinned {
+				m.view.Width, m.view.Height = w, h
+			} else {
+				m.hasView = false
+				m.follow()
+			}
+		}
+	}
+	if !m.hasView {
+		m.follow()
+	}
+	bg := m.style.Background
+	if bg.A == 0 {
+		m.style.Background = color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0xff}
+	}
+	if len(m.layout) == 0 || !m.hasView {
+		fill(m.img, m.style.Background)
+		return m.img
+	}
+	m.prepareColours()
+	start := time.Now()
+	st := m.style
+	st.PixelScale = m.pixScale
+	v := m.view
+	v.Width, v.Height = w, h
+	if err := m.rend.Draw(m.img, m.layout, m.drawColours, m.drawPalette, m.order, v, st, 0); err != nil {
+		fyne.LogError("drawing the map", err)
+	}
+	m.lastDraw = time.Since(start)
+	return m.img
+}
+
+func fill(img *image.RGBA, c color.NRGBA) {
+	p := img.Pix
+	for i := 0; i+3 < len(p); i += 4 {
+		p[i], p[i+1], p[i+2], p[i+3] = c.R, c.G, c.B, c.A
+	}
+}
+
+// drawOverlay draws the lasso being drawn.
+func (r *mapRenderer) drawOverlay(w, h int) image.Image {
+	m := r.m
+	if r.overlayImg == nil || r.overlayImg.Rect.Dx() != w || r.overlayImg.Rect.Dy() != h {
+		r.overlayImg = image.NewNRGBA(image.Rect(0, 0, w, h))
+	} else {
+		clear(r.overlayImg.Pix)
+	}
+	if len(m.path) < 2 {
+		return r.overlayImg
+	}
+	c := theme.Color(theme.ColorNamePrimary)
+	if m.tool == LassoSubtract {
+		c = theme.Color(theme.ColorNameError)
+	}
+	rc, gc, bc, _ := c.RGBA()
+	col := color.NRGBA{R: uint8(rc >> 8), G: uint8(gc >> 8), B: uint8(bc >> 8), A: 0xff}
+	s := m.pixScale
+	for i := 1; i <= len(m.path); i++ {
+		a, b := m.path[i-1], m.path[i%len(m.path)]
+		alpha := uint8(0xff)
+		if i == len(m.path) {
+			alpha = 0x70 // the closing edge, drawn fainter
+		}
+		strokeLine(r.overlayImg, float64(a.X)*s, float64(a.Y)*s, float64(b.X)*s, float64(b.Y)*s, math.Max(1.5, 1.5*s), color.NRGBA{R: col.R, G: col.G, B: col.B, A: alpha})
+	}
+	return r.overlayImg
+}
+
+// strokeLine draws a line of the given width by stamping discs along it.
+func strokeLine(img *image.NRGBA, x0, y0, x1, y1, width float64, c color.NRGBA) {
+	dx, dy := x1-x0, y1-y0
+	steps := int(math.Max(math.Abs(dx), math.Abs(dy))) + 1
+	r := width / 2
+	for s := 0; s <= steps; s++ {
+		t := float64(s) / float64(steps)
+		cx, cy := x0+t*dx, y0+t*dy
+		for py := int(cy - r); py <= int(cy+r); py++ {
+			for px := int(cx - r); px <= int(cx+r); px++ {
+				if !(image.Point{X: px, Y: py}.In(img.Rect)) {
+					continue
+				}
+				ddx, ddy := float64(px)+0.5-cx, float64(py)+0.5-cy
+				if ddx*ddx+ddy*ddy <= r*r+0.25 {
+					o := img.PixOffset(px, py)
+					if img.Pix[o+3] < c.A {
+						img.Pix[o], img.Pix[o+1], img.Pix[o+2], img.Pix[o+3] = c.R, c.G, c.B, c.A
+					}
+				}
+			}
+		}
+	}
+}

@@ -1,0 +1,185 @@
+package canvas
+
+import (
+	"image"
+	"image/color"
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/test"
+
+	"lodestone/canvas/raster"
+)
+
+// pointInPolygon is the even–odd rule written out plainly (a horizontal ray
+// to the right crosses the boundary an odd number of times), the reference
+// for the map's lasso.
+func pointInPolygon(x, y float64, poly []float64) bool {
+	in := false
+	n := len(poly) / 2
+	for i, j := 0, n-1; i < n; j, i = i, i+1 {
+		xi, yi, xj, yj := poly[2*i], poly[2*i+1], poly[2*j], poly[2*j+1]
+		if (yi > y) != (yj > y) && x < (xj-xi)*(y-yi)/(yj-yi)+xi {
+			in = !in
+		}
+	}
+	return in
+}
+
+func randomLayout(n int, seed uint64) []float32 {
+	r := rand.New(rand.NewPCG(seed, 1))
+	l := make([]float32, 2*n)
+	for i := range l {
+		l[i] = float32(r.NormFloat64())
+	}
+	return l
+}
+
+// TestLassoByDragMatchesPointInPolygon draws a lasso with simulated drags in
+// the headless test driver and compares the selection with a direct
+// point-in-polygon test of the same loop in data coordinates.
+func TestLassoByDragMatchesPointInPolygon(t *testing.T) {
+	a := test.NewApp()
+	defer a.Quit()
+	m := NewMap()
+	w := test.NewWindow(m)
+	defer w.Close()
+	w.Resize(fyne.NewSize(400, 300))
+	m.SetLayout(randomLayout(3000, 3))
+	m.SetPaint(make([]uint16, 3000), []color.NRGBA{{A: 255}})
+	w.Canvas().Capture() // draw once, so the view is fitted
+	m.SetTool(LassoAdd)
+
+	// A concave, star-like loop around the middle of the map.
+	var path []fyne.Position
+	c := fyne.NewPos(m.Size().Width/2, m.Size().Height/2)
+	for k := 0; k <= 40; k++ {
+		rad := float32(60)
+		if k%2 == 1 {
+			rad = 25
+		}
+		ang := float64(k) / 40 * 2 * math.Pi
+		path = append(path, c.Add(fyne.NewPos(rad*float32(math.Cos(ang)), rad*float32(math.Sin(ang)))))
+	}
+	for k := 1; k < len(path); k++ {
+		d := path[k].Subtract(path[k-1])
+		m.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: path[k]}, Dragged: fyne.NewDelta(d.X, d.Y)})
+	}
+	m.DragEnd()
+
+	// The reference: the recorded vertices (the first drag also records
+	// its start point) turned into data coordinates.
+	var poly []float64
+	for _, p := range path {
+		x, y := m.view.ToData(float64(p.X)*m.pixScale, float64(p.Y)*m.pixScale)
+		poly = append(poly, x, y)
+	}
+	sel, n := m.Selection()
+	if n == 0 {
+		t.Fatal("the lasso selected nothing")
+	}
+	layout := m.Layout()
+	mismatches := 0
+	for i := range sel {
+		want := pointInPolygon(float64(layout[2*i]), float64(layout[2*i+1]), poly)
+		if sel[i] != want {
+			mismatches++
+		}
+	}
+	if mismatches != 0 {
+		t.Fatalf("%d of %d cells disagree with the direct point-in-polygon test", mismatches, len(sel))
+	}
+
+	// Subtracting the same loop empties the selection; undo restores it.
+	m.SetTool(LassoSubtract)
+	m.ApplyLasso(poly, true)
+	if _, n2 := m.Selection(); n2 != 0 {
+		t.Fatalf("subtracting the loop left %d selected", n2)
+	}
+	if !m.Undo() {
+		t.Fatal("nothing to undo")
+	}
+	if _, n3 := m.Selection(); n3 != n {
+		t.Fatalf("undo restored %d, want %d", n3, n)
+	}
+}
+
+// TestKeyTapHidesCategoryPixels taps a key entry and checks that the
+// hidden category's colour disappears from the rendered map.
+func TestKeyTapHidesCategoryPixels(t *testing.T) {
+	a := test.NewApp()
+	defer a.Quit()
+	m := NewMap()
+	key := NewKey()
+	w := test.NewWindow(m)
+	defer w.Close()
+	w.Resize(fyne.NewSize(300, 300))
+
+	const n = 2000
+	layout := randomLayout(n, 5)
+	codes := make([]uint16, n)
+	for i := range codes {
+		codes[i] = uint16(i % 2)
+	}
+	palette := []color.NRGBA{{R: 200, G: 30, B: 30, A: 255}, {R: 20, G: 40, B: 200, A: 255}}
+	hidden := []bool{false, false}
+	paint := func() {
+		c := make([]uint16, n)
+		for i, v := range codes {
+			if hidden[v] {
+				c[i] = raster.Hidden
+			} else {
+				c[i] = v
+			}
+		}
+		m.SetPaint(c, palette)
+		key.SetEntries("kind", []KeyEntry{{Label: "a", Colour: palette[0], Count: n / 2, Hidden: hidden[0]},
+			{Label: "b", Colour: palette[1], Count: n / 2, Hidden: hidden[1]}})
+	}
+	key.OnToggle = func(i int) { hidden[i] = !hidden[i]; paint() }
+	m.SetLayout(layout)
+	paint()
+	m.SetPointStyle(2, 1)
+
+	before := w.Canvas().Capture()
+	if countNear(before, palette[0]) == 0 || countNear(before, palette[1]) == 0 {
+		t.Fatal("both categories should be drawn before the tap")
+	}
+	key.Tap(0)
+	after := w.Canvas().Capture()
+	if got := countNear(after, palette[0]); got != 0 {
+		t.Fatalf("%d pixels of the hidden category remain", got)
+	}
+	if countNear(after, palette[1]) == 0 {
+		t.Fatal("the other category vanished too")
+	}
+	key.Tap(0)
+	if countNear(w.Canvas().Capture(), palette[0]) == 0 {
+		t.Fatal("a second tap did not show the category again")
+	}
+}
+
+// countNear counts pixels within a small distance of colour c (fully
+// covered points; edges blend with the background).
+func countNear(img image.Image, c color.NRGBA) int {
+	n := 0
+	b := img.Bounds()
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		for x := b.Min.X; x < b.Max.X; x++ {
+			r, g, bb, _ := img.At(x, y).RGBA()
+			if absDiff(r>>8, uint32(c.R)) < 6 && absDiff(g>>8, uint32(c.G)) < 6 && absDiff(bb>>8, uint32(c.B)) < 6 {
+				n++
+			}
+		}
+	}
+	return n
+}
+
+func absDiff(a, b uint32) uint32 {
+	if a > b {
+		return a - b
+	}
+	return b - a
+}
