@@ -36,9 +36,12 @@ func benchPalette(n int) []color.NRGBA {
 }
 
 func benchmarkDraw(b *testing.B, n, w, h, threads int) {
+	benchmarkDrawOrder(b, n, w, h, threads, Shuffle(n, 1))
+}
+
+func benchmarkDrawOrder(b *testing.B, n, w, h, threads int, order []int32) {
 	layout, colours := clusteredLayout(n, 20, 1)
 	palette := benchPalette(20)
-	order := Shuffle(n, 1)
 	v, err := Fit(layout, w, h, 20)
 	if err != nil {
 		b.Fatal(err)
@@ -67,3 +70,15 @@ func BenchmarkDraw1MOneThread(b *testing.B) { benchmarkDraw(b, 1000000, 1600, 10
 
 // BenchmarkDraw70k draws 70 000 points (larger, opaque discs) at 1600 × 1000.
 func BenchmarkDraw70k(b *testing.B) { benchmarkDraw(b, 70000, 1600, 1000, 0) }
+
+// BenchmarkDraw1MUniformOrder is BenchmarkDraw1M in a uniform random order,
+// the memory-bound case Shuffle's sweeps avoid.
+func BenchmarkDraw1MUniformOrder(b *testing.B) {
+	n := 1000000
+	order := make([]int32, n)
+	for i := range order {
+		order[i] = int32(i)
+	}
+	fisherYates(order, rand.New(rand.NewPCG(1, 2)))
+	benchmarkDrawOrder(b, n, 1600, 1000, 0, order)
+}

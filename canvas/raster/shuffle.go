@@ -1,6 +1,7 @@
 package raster
 
 import (
+	"math"
 	"math/rand/v2"
 	"slices"
 )
@@ -17,7 +18,8 @@ const (
 // Shuffle returns an order to draw n points in (a permutation of 0 … n−1)
 // that mixes the points, so that no group of them is drawn under another
 // even when the points are stored group by group. It depends only on n and
-// seed, and is empty for n ≤ 0.
+// seed, and is empty for n ≤ 0; n above math.MaxInt32, which int32 indices
+// cannot reach, is taken as math.MaxInt32.
 //
 // Up to 65 536 points the order is a uniform random permutation (the
 // Fisher–Yates shuffle, Knuth, TAOCP vol. 2, §3.4.2, Algorithm P). For more
@@ -35,6 +37,7 @@ func Shuffle(n int, seed int64) []int32 {
 	if n <= 0 {
 		return []int32{}
 	}
+	n = min(n, math.MaxInt32)
 	rng := rand.New(rand.NewPCG(uint64(seed), 0x6c6f6465))
 	if n <= shuffleUniformMax {
 		p := make([]int32, n)
