@@ -9,7 +9,10 @@ import (
 )
 
 // TestCategoricalTableIsGenerated regenerates the committed table with
-// designCategorical and compares. On a mismatch it prints the table to paste.
+// designCategorical and compares. The design colours lie on the band's exact
+// grid; only their rounding to 8 bits could differ by one unit where another
+// platform's floating point lands on the other side of a half, so channels
+// may differ by 1. On a mismatch the test prints the table to paste.
 func TestCategoricalTableIsGenerated(t *testing.T) {
 	design := designCategorical(len(categoricalTable))
 	var b strings.Builder
@@ -17,13 +20,23 @@ func TestCategoricalTableIsGenerated(t *testing.T) {
 	for i, c := range design {
 		n := c.SRGB().NRGBA()
 		fmt.Fprintf(&b, "\t{R: %d, G: %d, B: %d, A: 255}, // OKLCH(%.2f, %.2f, %.0f)\n", n.R, n.G, n.B, c.L, c.C, c.H)
-		if i < len(categoricalTable) && categoricalTable[i] != n {
-			same = false
+		if i < len(categoricalTable) {
+			m := categoricalTable[i]
+			if absDiff(m.R, n.R) > 1 || absDiff(m.G, n.G) > 1 || absDiff(m.B, n.B) > 1 || m.A != n.A {
+				same = false
+			}
 		}
 	}
 	if !same {
 		t.Errorf("categoricalTable differs from designCategorical; regenerated:\n%s", b.String())
 	}
+}
+
+func absDiff(a, b uint8) int {
+	if a > b {
+		return int(a - b)
+	}
+	return int(b - a)
 }
 
 // Design targets of the categorical palette, stated before it was generated
