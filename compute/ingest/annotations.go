@@ -67,8 +67,11 @@ func isMissing(f []byte, quoted bool) bool {
 // Levels are in natural order (see NaturalLess): numbers by value, then
 // text, with runs of digits inside text compared by value ("state 2" before
 // "state 10"). Empty column names become "column N" and repeated ones get
-// " (2)", " (3)" … appended.
-func ReadAnnotations(ctx context.Context, r io.Reader, name string, cellIDs []string) ([]atlas.Column, *atlas.JoinReport, error) {
+// " (2)", " (3)" … appended. p, when not nil, receives the bytes read from
+// r, as for ReadLabels.
+func ReadAnnotations(ctx context.Context, r io.Reader, name string, cellIDs []string, p progress.Func) ([]atlas.Column, *atlas.JoinReport, error) {
+	r, done := track(r, p)
+	defer done()
 	src, closeSrc, _, err := decompress(r)
 	if err != nil {
 		return nil, nil, readError(name, 1, err)
@@ -143,17 +146,12 @@ func ReadAnnotations(ctx context.Context, r io.Reader, name string, cellIDs []st
 // ReadAnnotationsFile opens the file at path and reads it with
 // ReadAnnotations, reporting bytes read of the file's size to p.
 func ReadAnnotationsFile(ctx context.Context, path string, cellIDs []string, p progress.Func) ([]atlas.Column, *atlas.JoinReport, error) {
-	f, size, err := openFile(path)
+	f, err := os.Open(path)
 	if err != nil {
 		return nil, nil, err
 	}
 	defer f.Close()
-	c := newByteCounter(p, size)
-	cols, rep, err := ReadAnnotations(ctx, c.reader(f), path, cellIDs)
-	if err == nil {
-		c.finish()
-	}
-	return cols, rep, err
+	return ReadAnnotations(ctx, f, path, cellIDs, p)
 }
 
 // columnNames names empty columns "column N" (N counting the ID column as 1)
@@ -446,18 +444,4 @@ func appendField(buf []byte, s string) []byte {
 	buf = append(buf, '"')
 	buf = append(buf, strings.ReplaceAll(s, `"`, `""`)...)
 	return append(buf, '"')
-}
-
-// openFile opens path for reading and returns its size on disk.
-func openFile(path string) (*os.File, int64, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, 0, err
-	}
-	fi, err := f.Stat()
-	if err != nil {
-		f.Close()
-		return nil, 0, err
-	}
-	return f, fi.Size(), nil
 }

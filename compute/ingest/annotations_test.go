@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"fmt"
 	"math"
+	"path/filepath"
 	"reflect"
 	"sort"
 	"strings"
@@ -21,7 +22,7 @@ func TestReadAnnotationsJoinAndKinds(t *testing.T) {
 		"c2,NA,n/a,state 1,\"NA\",None\n" +
 		"c1,5,5,dup,1,\n" +
 		"c4,14,2.0,State 2,3,null\n"
-	cols, rep, err := ReadAnnotations(bg, strings.NewReader(text), "a.csv", cells)
+	cols, rep, err := ReadAnnotations(bg, strings.NewReader(text), "a.csv", cells, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -71,7 +72,7 @@ func TestReadAnnotationsIntegerLevels(t *testing.T) {
 			cells = append(cells, id)
 			fmt.Fprintf(&b, "%s\t%d\n", id, 100-i%distinct)
 		}
-		cols, _, err := ReadAnnotations(bg, strings.NewReader(b.String()), "n.tsv", cells)
+		cols, _, err := ReadAnnotations(bg, strings.NewReader(b.String()), "n.tsv", cells, nil)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -108,7 +109,7 @@ func TestReadAnnotationsNumbersThenText(t *testing.T) {
 	}
 	cells[n] = "last"
 	b.WriteString("last,word\n")
-	cols, _, err := ReadAnnotations(bg, strings.NewReader(b.String()), "x.csv", cells)
+	cols, _, err := ReadAnnotations(bg, strings.NewReader(b.String()), "x.csv", cells, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -128,16 +129,16 @@ func TestReadAnnotationsNumbersThenText(t *testing.T) {
 
 func TestReadAnnotationsErrors(t *testing.T) {
 	cells := []string{"a", "b"}
-	_, _, err := ReadAnnotations(bg, strings.NewReader("id,x\nz,1\ny,2\n"), "m.csv", cells)
+	_, _, err := ReadAnnotations(bg, strings.NewReader("id,x\nz,1\ny,2\n"), "m.csv", cells, nil)
 	wantParseError(t, err, "m.csv", 0, 0, ErrNoMatch)
 	if !strings.Contains(err.Error(), `"z"`) || !strings.Contains(err.Error(), `"a"`) {
 		t.Errorf("message %q names no example IDs", err)
 	}
-	_, _, err = ReadAnnotations(bg, strings.NewReader("id,x,y\na,1,2\nb,1\n"), "m.csv", cells)
+	_, _, err = ReadAnnotations(bg, strings.NewReader("id,x,y\na,1,2\nb,1\n"), "m.csv", cells, nil)
 	wantParseError(t, err, "m.csv", 3, 3, ErrFieldCount)
-	_, _, err = ReadAnnotations(bg, strings.NewReader(""), "m.csv", cells)
+	_, _, err = ReadAnnotations(bg, strings.NewReader(""), "m.csv", cells, nil)
 	wantParseError(t, err, "m.csv", 1, 0, ErrEmpty)
-	_, _, err = ReadAnnotations(bg, bytes.NewReader(gz(t, []byte("id,x\na,1\nb,2\n"))[:11]), "m.csv.gz", cells)
+	_, _, err = ReadAnnotations(bg, bytes.NewReader(gz(t, []byte("id,x\na,1\nb,2\n"))[:11]), "m.csv.gz", cells, nil)
 	wantParseError(t, err, "m.csv.gz", 1, 0, ErrTruncated)
 }
 
@@ -152,7 +153,7 @@ func TestWriteAnnotationsRoundTrip(t *testing.T) {
 	if err := WriteAnnotations(&b, cells, cols); err != nil {
 		t.Fatal(err)
 	}
-	got, rep, err := ReadAnnotations(bg, &b, "w.tsv", cells)
+	got, rep, err := ReadAnnotations(bg, &b, "w.tsv", cells, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -198,5 +199,17 @@ func TestNaturalLess(t *testing.T) {
 		if NaturalLess(a, a) {
 			t.Errorf("NaturalLess(%q, %q)", a, a)
 		}
+	}
+}
+
+func TestReadAnnotationsFile(t *testing.T) {
+	dir := writeFiles(t, map[string]string{"a.tsv": "cell\tk\nc2\tx\n"})
+	var done, total int64
+	cols, rep, err := ReadAnnotationsFile(bg, filepath.Join(dir, "a.tsv"), []string{"c1", "c2"}, func(d, t int64) { done, total = d, t })
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rep.Matched != 1 || cols[0].Label(1) != "x" || done != 12 || total != 12 {
+		t.Errorf("report %+v, label %q, progress %d of %d", rep, cols[0].Label(1), done, total)
 	}
 }

@@ -66,7 +66,7 @@ func checkErrorPosition(t *testing.T, err error) {
 
 func FuzzLabels(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) {
-		l, err := ReadLabels(bg, bytes.NewReader(data), "f.tsv")
+		l, err := ReadLabels(bg, bytes.NewReader(data), "f.tsv", nil)
 		if err != nil {
 			checkErrorPosition(t, err)
 			return
@@ -84,7 +84,7 @@ func FuzzLabels(f *testing.F) {
 
 func FuzzTable(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) {
-		ids, header, m, err := ReadTable(bg, bytes.NewReader(data), "f.csv")
+		ids, header, m, err := ReadTable(bg, bytes.NewReader(data), "f.csv", nil)
 		if err != nil {
 			checkErrorPosition(t, err)
 			return
@@ -116,7 +116,7 @@ var fuzzCells = []string{"a", "b", "c", "1", "x y"}
 
 func FuzzAnnotations(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) {
-		cols, rep, err := ReadAnnotations(bg, bytes.NewReader(data), "f.csv", fuzzCells)
+		cols, rep, err := ReadAnnotations(bg, bytes.NewReader(data), "f.csv", fuzzCells, nil)
 		if err != nil {
 			checkErrorPosition(t, err)
 			return

@@ -7,6 +7,8 @@ import (
 	"fmt"
 	"io"
 	"strings"
+
+	"lodestone/compute/progress"
 )
 
 // Labels are the contents of a label file: one cell or gene per line.
@@ -38,8 +40,12 @@ func (l *Labels) dropFirst() {
 // The first field is the ID and the second, when present and not empty, the
 // symbol. Blank lines at the end are ignored; a blank line or an empty ID
 // elsewhere is an error (ErrBlankLabel). IDs are not checked for
-// uniqueness here. name is used in error messages.
-func ReadLabels(ctx context.Context, r io.Reader, name string) (*Labels, error) {
+// uniqueness here. name is used in error messages. p, when not nil,
+// receives the bytes read from r, out of r's size when r has a Len or Stat
+// method (else 0).
+func ReadLabels(ctx context.Context, r io.Reader, name string, p progress.Func) (*Labels, error) {
+	r, done := track(r, p)
+	defer done()
 	src, closeSrc, _, err := decompress(r)
 	if err != nil {
 		return nil, readError(name, 1, err)

@@ -26,7 +26,7 @@ func TestReadLabels(t *testing.T) {
 				if compress {
 					data = gz(t, data)
 				}
-				l, err := ReadLabels(bg, bytes.NewReader(data), "l.tsv")
+				l, err := ReadLabels(bg, bytes.NewReader(data), "l.tsv", nil)
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -51,7 +51,7 @@ func TestReadLabelsErrors(t *testing.T) {
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			_, err := ReadLabels(bg, strings.NewReader(c.text), "l.tsv")
+			_, err := ReadLabels(bg, strings.NewReader(c.text), "l.tsv", nil)
 			wantParseError(t, err, "l.tsv", c.line, c.column, c.err)
 		})
 	}
@@ -67,7 +67,7 @@ func TestWriteLabelsRoundTrip(t *testing.T) {
 		if err := WriteLabels(&b, c.ids, c.symbols); err != nil {
 			t.Fatal(err)
 		}
-		l, err := ReadLabels(bg, &b, "w")
+		l, err := ReadLabels(bg, &b, "w", nil)
 		if err != nil {
 			t.Fatal(err)
 		}

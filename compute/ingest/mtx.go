@@ -9,6 +9,7 @@ import (
 	"slices"
 
 	"lodestone/compute/parallel"
+	"lodestone/compute/progress"
 	"lodestone/compute/sparse"
 )
 
@@ -34,6 +35,10 @@ type MatrixOptions struct {
 	// it is taken from r's Len or Stat method if r has one; when still
 	// unknown, storage grows as entries arrive.
 	Size int64
+
+	// Progress, when not nil, receives the bytes read from r so far, out
+	// of Size.
+	Progress progress.Func
 }
 
 const (
@@ -82,7 +87,13 @@ func ReadMatrixMarket(ctx context.Context, r io.Reader, name string, opt MatrixO
 	if size <= 0 {
 		size = sizeOf(r)
 	}
-	src, closeSrc, gz, err := decompress(r)
+	in := r
+	if opt.Progress != nil {
+		c := newByteCounter(opt.Progress, size)
+		in = c.reader(r)
+		defer func() { c.f.Report(c.done, max(c.done, c.total)) }()
+	}
+	src, closeSrc, gz, err := decompress(in)
 	if err != nil {
 		return nil, readError(name, 1, err)
 	}
@@ -291,7 +302,14 @@ func field(line []byte, i int) (tok []byte, next int) {
 // readEntries parses the entry lines into p's arrays.
 func (p *mtxParser) readEntries() error {
 	s, h := p.s, p.h
-	for s.next() {
+	for {
+		// Parse what is buffered as far as it goes; the line it stops
+		// at, and any line when the buffer needs refilling, take the
+		// general path below.
+		s.r += p.fastBlock(s.buf[s.r:s.w])
+		if !s.next() {
+			break
+		}
 		i, j, v, ok := p.fastEntry(s.text)
 		if !ok {
 			var blank bool
@@ -325,6 +343,102 @@ func (p *mtxParser) readEntries() error {
 		return errorf(p.name, s.line+1, 0, ErrEntryCount, "file ends after %d of the %d entries announced on line %d", p.n, h.Entries, h.SizeLine)
 	}
 	return nil
+}
+
+// fastBlock parses, from the start of buf, the lines that have the
+// common form "i j v\n" or "i j v\r\n" (single spaces, indices in range, an integer value
+// of at most 18 digits for the integer field, a value fastFloat reads for
+// the real field), while there is room for entries and the size line's
+// count is not reached. It returns the bytes used, which end at a line's
+// end.
+func (p *mtxParser) fastBlock(buf []byte) int {
+	rows, cols := uint64(p.h.Rows), uint64(p.h.Cols)
+	limit := min(int64(len(p.col)), p.h.Entries)
+	integer, transpose := p.h.Integer, p.transpose
+	n := len(buf)
+	k := 0
+	for int64(p.n) < limit {
+		start := k
+		var i, j uint64
+		for ; k < n && k-start < 10; k++ {
+			d := buf[k] - '0'
+			if d > 9 {
+				break
+			}
+			i = i*10 + uint64(d)
+		}
+		if k == start || k >= n || buf[k] != ' ' || i-1 >= rows {
+			return start
+		}
+		k++
+		js := k
+		for ; k < n && k-js < 10; k++ {
+			d := buf[k] - '0'
+			if d > 9 {
+				break
+			}
+			j = j*10 + uint64(d)
+		}
+		if k == js || k >= n || buf[k] != ' ' || j-1 >= cols {
+			return start
+		}
+		k++
+		var v float32
+		if integer {
+			neg := k < n && buf[k] == '-'
+			if neg {
+				k++
+			}
+			vs := k
+			var x uint64
+			for ; k < n && k-vs < 18; k++ {
+				d := buf[k] - '0'
+				if d > 9 {
+					break
+				}
+				x = x*10 + uint64(d)
+			}
+			if k < n-1 && buf[k] == '\r' {
+				k++ // "\r\n" line ends
+			}
+			if k == vs || k >= n || buf[k] != '\n' {
+				return start
+			}
+			v = float32(x)
+			if neg {
+				v = -v
+			}
+		} else {
+			vs := k
+			for k < n && buf[k] != '\n' && buf[k] != ' ' && buf[k] != '\r' {
+				k++
+			}
+			ve := k
+			if k < n-1 && buf[k] == '\r' {
+				k++
+			}
+			if k >= n || buf[k] != '\n' {
+				return start
+			}
+			x, ok := fastFloat(buf[vs:ve])
+			if !ok {
+				return start
+			}
+			if v, ok = toFloat32(x); !ok {
+				return start
+			}
+		}
+		k++ // past the line's end
+		if transpose {
+			i, j = j, i
+		}
+		p.rowOf[p.n] = uint32(i - 1)
+		p.col[p.n] = int32(j - 1)
+		p.val[p.n] = v
+		p.n++
+		p.s.line++
+	}
+	return k
 }
 
 // fastEntry parses the common form of an entry line, "i j v" with single

@@ -374,3 +374,24 @@ func sameCSR(t *testing.T, got, want *sparse.CSR) {
 		}
 	}
 }
+
+func TestReadMatrixMarketProgress(t *testing.T) {
+	text, _ := randomEntries(rand.New(rand.NewPCG(15, 16)), 1000, 1000, 0.25, true)
+	for _, data := range [][]byte{[]byte(text), gz(t, []byte(text))} {
+		var last, total int64
+		calls := 0
+		_, err := ReadMatrixMarket(bg, bytes.NewReader(data), "p.mtx", MatrixOptions{Progress: func(done, tot int64) {
+			if done < last || tot != int64(len(data)) {
+				t.Errorf("progress %d of %d after %d", done, tot, last)
+			}
+			last, total = done, tot
+			calls++
+		}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if last != int64(len(data)) || total != int64(len(data)) || (len(data) > 2*reportEvery && calls < 2) {
+			t.Errorf("progress ended at %d of %d after %d calls; want %d", last, total, calls, len(data))
+		}
+	}
+}

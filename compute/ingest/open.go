@@ -558,7 +558,7 @@ func (pl *plan) load(ctx context.Context, opt Options) (*atlas.Dataset, error) {
 		if err != nil {
 			return nil, err
 		}
-		ds.Annotations, ds.Join, err = ReadAnnotations(ctx, c.reader(f), pl.annotations, ds.CellIDs)
+		ds.Annotations, ds.Join, err = ReadAnnotations(ctx, c.reader(f), pl.annotations, ds.CellIDs, nil)
 		f.Close()
 		if err != nil {
 			return nil, err
@@ -574,7 +574,7 @@ func (pl *plan) loadTable(ctx context.Context, ds *atlas.Dataset, c *byteCounter
 		return err
 	}
 	defer f.Close()
-	ids, header, m, err := ReadTable(ctx, c.reader(f), pl.table)
+	ids, header, m, err := ReadTable(ctx, c.reader(f), pl.table, nil)
 	if err != nil {
 		return err
 	}
@@ -643,9 +643,9 @@ func readLabelsFile(ctx context.Context, path string, c *byteCounter) (*Labels, 
 	}
 	defer f.Close()
 	if c == nil {
-		return ReadLabels(ctx, f, path)
+		return ReadLabels(ctx, f, path, nil)
 	}
-	return ReadLabels(ctx, c.reader(f), path)
+	return ReadLabels(ctx, c.reader(f), path, nil)
 }
 
 // checkUnique reports the first ID that repeats an earlier one; IDs are on

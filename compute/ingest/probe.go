@@ -238,3 +238,17 @@ func commonPrefix(a, b string) int {
 	}
 	return n
 }
+
+// openFile opens path for reading and returns its size on disk.
+func openFile(path string) (*os.File, int64, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, 0, err
+	}
+	fi, err := f.Stat()
+	if err != nil {
+		f.Close()
+		return nil, 0, err
+	}
+	return f, fi.Size(), nil
+}

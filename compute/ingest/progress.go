@@ -6,11 +6,22 @@ import (
 	"lodestone/compute/progress"
 )
 
+// track returns r counting the bytes read from it for p, out of r's size
+// when r can tell it (see sizeOf), and a function that reports the end.
+// With a nil p it returns r itself.
+func track(r io.Reader, p progress.Func) (io.Reader, func()) {
+	if p == nil {
+		return r, func() {}
+	}
+	c := newByteCounter(p, sizeOf(r))
+	return c.reader(r), func() { c.f.Report(c.done, max(c.done, c.total)) }
+}
+
 // reportEvery is how many bytes pass between two progress reports.
 const reportEvery = 1 << 20
 
 // byteCounter adds up the bytes read from the files of one Open and reports
-// them out of the files' total size. Files are read one after another, so
+// them out of the files' total size (0 when unknown). Files are read one after another, so
 // it needs no locking.
 type byteCounter struct {
 	f           progress.Func
@@ -32,7 +43,11 @@ func (c *byteCounter) add(n int64) {
 	c.done += n
 	if c.done-c.last >= reportEvery {
 		c.last = c.done
-		c.f.Report(min(c.done, c.total), c.total)
+		if c.total > 0 {
+			c.f.Report(min(c.done, c.total), c.total)
+		} else {
+			c.f.Report(c.done, 0)
+		}
 	}
 }
 

@@ -5,6 +5,7 @@ import (
 	"io"
 
 	"lodestone/compute/atlas"
+	"lodestone/compute/progress"
 )
 
 // tableStart is a delimited table whose header and first data row have been
@@ -76,8 +77,11 @@ func (t *tableStart) checkFields() error {
 // must be a finite number within the float32 range (ErrNotNumber,
 // ErrNotFinite); every row must have as many fields as the first
 // (ErrFieldCount); IDs must be distinct (ErrDuplicateID) and not empty
-// (ErrBlankLabel). name is used in error messages.
-func ReadTable(ctx context.Context, r io.Reader, name string) (ids, header []string, m *atlas.Dense, err error) {
+// (ErrBlankLabel). name is used in error messages; p, when not nil,
+// receives the bytes read from r, as for ReadLabels.
+func ReadTable(ctx context.Context, r io.Reader, name string, p progress.Func) (ids, header []string, m *atlas.Dense, err error) {
+	r, done := track(r, p)
+	defer done()
 	src, closeSrc, _, err := decompress(r)
 	if err != nil {
 		return nil, nil, nil, readError(name, 1, err)

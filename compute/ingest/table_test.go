@@ -20,7 +20,7 @@ func TestReadTable(t *testing.T) {
 		if compress {
 			data = gz(t, data)
 		}
-		ids, header, m, err := ReadTable(bg, bytes.NewReader(data), "t.csv")
+		ids, header, m, err := ReadTable(bg, bytes.NewReader(data), "t.csv", nil)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -49,7 +49,7 @@ func TestReadTable(t *testing.T) {
 func TestReadTableShortHeaderAndTabs(t *testing.T) {
 	// A header naming only the value columns (one field fewer than the rows).
 	text := "a\tb\nx\t1\t2\ny\t3\t4\n"
-	ids, header, m, err := ReadTable(bg, strings.NewReader(text), "t.tsv")
+	ids, header, m, err := ReadTable(bg, strings.NewReader(text), "t.tsv", nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -82,7 +82,7 @@ func TestReadTableErrors(t *testing.T) {
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			_, _, _, err := ReadTable(bg, strings.NewReader(c.text), "t.csv")
+			_, _, _, err := ReadTable(bg, strings.NewReader(c.text), "t.csv", nil)
 			wantParseError(t, err, "t.csv", c.line, c.column, c.err)
 		})
 	}
