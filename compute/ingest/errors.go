@@ -13,27 +13,26 @@ import (
 // concern several files, in an error that names them). Test for them with
 // errors.Is.
 var (
-	ErrEmpty          = errors.New("empty file")
-	ErrFieldCount     = errors.New("wrong number of fields")
-	ErrNotNumber      = errors.New("not a number")
-	ErrNotFinite      = errors.New("not a finite number")
-	ErrHeader         = errors.New("bad header")
-	ErrSizeLine       = errors.New("bad size line")
-	ErrUnsupported    = errors.New("not supported")
-	ErrIndexRange     = errors.New("index out of range")
-	ErrEntryCount     = errors.New("entry count differs from the size line")
-	ErrDuplicateEntry = errors.New("duplicate entry")
-	ErrTooLarge       = errors.New("too large")
-	ErrLineTooLong    = errors.New("line too long")
-	ErrQuote          = errors.New("bad quoting")
-	ErrTruncated      = errors.New("compressed data ends early")
-	ErrCorrupt        = errors.New("compressed data is damaged")
-	ErrBlankLabel     = errors.New("blank label")
-	ErrBadLabel       = errors.New("label holds a tab or line break")
-	ErrDuplicateID    = errors.New("duplicate ID")
+	ErrEmpty          = errors.New("empty file")                             // no data where some is needed
+	ErrFieldCount     = errors.New("wrong number of fields")                 // ragged row, short entry line
+	ErrNotNumber      = errors.New("not a number")                           // in a numeric field
+	ErrNotFinite      = errors.New("not a finite number")                    // NaN, ±Inf, beyond float32
+	ErrHeader         = errors.New("bad header")                             // Matrix Market banner, table header
+	ErrSizeLine       = errors.New("bad size line")                          // Matrix Market "rows cols entries"
+	ErrUnsupported    = errors.New("not supported")                          // array, pattern, complex, symmetric …
+	ErrIndexRange     = errors.New("index out of range")                     // Matrix Market row or column index
+	ErrEntryCount     = errors.New("entry count differs from the size line") // too few or too many entries
+	ErrDuplicateEntry = errors.New("duplicate entry")                        // one position given twice
+	ErrLineTooLong    = errors.New("line too long")                          // beyond 256 MiB
+	ErrQuote          = errors.New("bad quoting")                            // unclosed quote, text after one
+	ErrTruncated      = errors.New("compressed data ends early")             // cut gzip stream
+	ErrCorrupt        = errors.New("compressed data is damaged")             // gzip checksum or inflate error
+	ErrBlankLabel     = errors.New("blank label")                            // empty ID or blank line
+	ErrBadLabel       = errors.New("label holds a tab or line break")        // cannot be written
+	ErrDuplicateID    = errors.New("duplicate ID")                           // a cell ID twice
 	ErrLabelCount     = errors.New("label count matches no matrix dimension")
-	ErrNoMatch        = errors.New("no row matches a cell")
-	ErrAmbiguous      = errors.New("ambiguous files")
+	ErrNoMatch        = errors.New("no row matches a cell") // annotation table
+	ErrAmbiguous      = errors.New("ambiguous files")       // Open cannot choose
 	ErrNothingToRead  = errors.New("no matrix or table found")
 )
 

@@ -260,21 +260,22 @@ func TestOpenErrors(t *testing.T) {
 		opt   func(dir string) Options
 		err   error
 		pos   *ParseError // file (base name), line and column, when a ParseError
+		msg   string      // part of the message
 	}{
-		{"two matrices", map[string]string{"a.mtx": mtx, "b.mtx": mtx, "c": barcodes, "g": geneLines}, "", nil, ErrAmbiguous, nil},
-		{"no labels", map[string]string{"a.mtx": mtx, "c": "x\ny\n"}, "", nil, ErrLabelCount, nil},
-		{"one label file", map[string]string{"a.mtx": mtx, "c": barcodes}, "", nil, ErrLabelCount, nil},
-		{"two gene files", map[string]string{"a.mtx": mtx, "c": barcodes, "g1": geneLines, "g2": geneLines}, "", nil, ErrAmbiguous, nil},
+		{"two matrices", map[string]string{"a.mtx": mtx, "b.mtx": mtx, "c": barcodes, "g": geneLines}, "", nil, ErrAmbiguous, nil, "2 Matrix Market files (a.mtx, b.mtx)"},
+		{"no labels", map[string]string{"a.mtx": mtx, "c": "x\ny\n"}, "", nil, ErrLabelCount, nil, "want 1 label file(s) of 4 lines (the matrix is 4 × 6); found no other text files"},
+		{"one label file", map[string]string{"a.mtx": mtx, "c": barcodes}, "", nil, ErrLabelCount, nil, "found c (6 lines)"},
+		{"two gene files", map[string]string{"a.mtx": mtx, "c": barcodes, "g1": geneLines, "g2": geneLines}, "", nil, ErrAmbiguous, nil, "2 files could label a dimension of 4 (g1, g2)"},
 		{"explicit labels of the wrong size", map[string]string{"a.mtx": mtx, "c": barcodes, "g": geneLines, "x": "1\n2\n3\n"}, "a.mtx",
-			func(dir string) Options { return Options{Cells: filepath.Join(dir, "x")} }, ErrLabelCount, nil},
-		{"duplicate cells", map[string]string{"a.mtx": mtx, "c": "A\nB\nC\nD\nB\nF\n", "g": geneLines}, "", nil, ErrDuplicateID, &ParseError{File: "c", Line: 5, Column: 1}},
-		{"nothing", map[string]string{"readme": "hello\n"}, "", nil, ErrNothingToRead, nil},
-		{"two tables", map[string]string{"a.csv": "c,x\nr,1\n", "b.csv": "c,y\nr,2\n"}, "", nil, ErrAmbiguous, nil},
-		{"two annotation tables", map[string]string{"a.mtx": mtx, "c": barcodes, "g": geneLines, "m1.csv": annotTable, "m2.csv": annotTable}, "", nil, ErrAmbiguous, nil},
+			func(dir string) Options { return Options{Cells: filepath.Join(dir, "x")} }, ErrLabelCount, nil, "x: label count matches no matrix dimension: 3 lines, the matrix is 4 × 6"},
+		{"duplicate cells", map[string]string{"a.mtx": mtx, "c": "A\nB\nC\nD\nB\nF\n", "g": geneLines}, "", nil, ErrDuplicateID, &ParseError{File: "c", Line: 5, Column: 1}, `cell ID "B" already on line 2`},
+		{"nothing", map[string]string{"readme": "hello\n"}, "", nil, ErrNothingToRead, nil, "no numeric table among 1 files (readme)"},
+		{"two tables", map[string]string{"a.csv": "c,x\nr,1\n", "b.csv": "c,y\nr,2\n"}, "", nil, ErrAmbiguous, nil, "2 numeric tables (a.csv, b.csv)"},
+		{"two annotation tables", map[string]string{"a.mtx": mtx, "c": barcodes, "g": geneLines, "m1.csv": annotTable, "m2.csv": annotTable}, "", nil, ErrAmbiguous, nil, "2 tables name cells (m1.csv, m2.csv)"},
 		{"annotations match no cell", map[string]string{"a.mtx": mtx, "c": barcodes, "g": geneLines, "m.csv": "id,x\nq,1\n"}, "a.mtx",
-			func(dir string) Options { return Options{Annotations: filepath.Join(dir, "m.csv")} }, ErrNoMatch, &ParseError{File: "m.csv"}},
-		{"bad entry", map[string]string{"a.mtx": strings.Replace(mtx, "\n1 1 1\n", "\n1 1 one\n", 1), "c": barcodes, "g": geneLines}, "", nil, ErrNotNumber, &ParseError{File: "a.mtx", Line: 3, Column: 3}},
-		{"empty file", map[string]string{"e.csv": ""}, "e.csv", nil, ErrEmpty, &ParseError{File: "e.csv", Line: 1}},
+			func(dir string) Options { return Options{Annotations: filepath.Join(dir, "m.csv")} }, ErrNoMatch, &ParseError{File: "m.csv"}, `such as "q", names a cell (cells are named like "AAACCTGA-1")`},
+		{"bad entry", map[string]string{"a.mtx": strings.Replace(mtx, "\n1 1 1\n", "\n1 1 one\n", 1), "c": barcodes, "g": geneLines}, "", nil, ErrNotNumber, &ParseError{File: "a.mtx", Line: 3, Column: 3}, `value "one" is not an integer`},
+		{"empty file", map[string]string{"e.csv": ""}, "e.csv", nil, ErrEmpty, &ParseError{File: "e.csv", Line: 1}, `empty file`},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -294,7 +295,9 @@ func TestOpenErrors(t *testing.T) {
 			if c.pos != nil {
 				wantParseError(t, err, filepath.Join(dir, c.pos.File), c.pos.Line, c.pos.Column, c.err)
 			}
-			t.Log(err)
+			if !strings.Contains(err.Error(), c.msg) {
+				t.Errorf("message %q does not say %q", err, c.msg)
+			}
 		})
 	}
 }

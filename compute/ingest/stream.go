@@ -157,10 +157,11 @@ type lineScanner struct {
 	err  error // a read error other than io.EOF, or the context's error
 	line int   // number of the line last returned
 	text []byte
+	max  int // the longest line allowed
 }
 
 func newLineScanner(ctx context.Context, src io.Reader) *lineScanner {
-	return &lineScanner{ctx: ctx, src: src, buf: make([]byte, firstBufSize)}
+	return &lineScanner{ctx: ctx, src: src, buf: make([]byte, firstBufSize), max: maxLineSize}
 }
 
 // next advances to the next line, which is then s.text, and reports whether
@@ -215,8 +216,8 @@ func (s *lineScanner) fill() {
 		copy(nb, s.buf[:s.w])
 		s.buf = nb
 	} else if s.w == len(s.buf) {
-		if len(s.buf) >= maxLineSize {
-			s.err = errorf("", 0, 0, ErrLineTooLong, "a line exceeds %d bytes", maxLineSize)
+		if len(s.buf) >= s.max {
+			s.err = errorf("", 0, 0, ErrLineTooLong, "a line exceeds %d bytes", s.max)
 			return
 		}
 		nb := make([]byte, 2*len(s.buf))
