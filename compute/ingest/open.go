@@ -46,9 +46,10 @@ type Options struct {
 // Label files. A label file (see ReadLabels) fits a dimension of the matrix
 // when its count of non-blank lines equals it, or exceeds it by one; in
 // that case its first line is taken as a header and left out. Among the
-// files that fit a dimension, those that fit exactly come first, then
-// those whose first line holds no comma, then those whose name shares the
-// longest start with the matrix file's name; a tie for first place is an
+// files that fit a dimension, those that fit exactly come first; among
+// those with a header line, those with fewer tab-separated fields; then
+// those whose first line holds no comma; then those whose name shares the
+// longest start with the matrix file's name. A tie for first place is an
 // error (ErrAmbiguous) naming the files. No file fitting a dimension is an
 // error (ErrLabelCount) listing the line counts found.
 //
@@ -340,16 +341,19 @@ type ranker struct {
 	h     MatrixHeader
 }
 
-// key is the sort key of p as a label file for n: exact fits first, then
-// files without commas on their first line, then those sharing the longest
-// start with the matrix's name.
-func (r *ranker) key(p *probe, n int) [3]int {
-	k := [3]int{0, 0, -commonPrefix(p.name(), r.mname)}
+// key is the sort key of p as a label file for n: exact fits first; among
+// files with a header line, those with fewer tab-separated fields (a table
+// of annotations has a header line too); then files without commas on
+// their first line; then those sharing the longest start with the matrix's
+// name.
+func (r *ranker) key(p *probe, n int) [4]int {
+	k := [4]int{0, 0, 0, -commonPrefix(p.name(), r.mname)}
 	if p.lines != n {
 		k[0] = 1
+		k[1] = min(p.fields, 3)
 	}
 	if p.sep == ',' {
-		k[1] = 1
+		k[2] = 1
 	}
 	return k
 }

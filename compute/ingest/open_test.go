@@ -187,6 +187,25 @@ func TestOpenHeaderLines(t *testing.T) {
 	}
 }
 
+func TestOpenHeaderLinesBesideAnnotations(t *testing.T) {
+	// The cells file and a tab-separated annotation table both have one
+	// line more than there are cells: the one with fewer fields lists them.
+	dir := writeFiles(t, map[string]string{
+		"m.mtx":    mtxText(cellsByGenes, true),
+		"cells":    "barcode\n" + barcodes,
+		"genes":    geneLines,
+		"meta.tsv": "cell\tsample\n" + strings.ReplaceAll(barcodes, "\n", "\tq\n"),
+	})
+	ds, err := Open(bg, dir, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkAtlas(t, ds, barcodeIDs, []string{"ENSG01", "ENSG02", "ENSG03", "ENSG04"}, []string{"CD3E", "MS4A1", "LYZ", "NKG7"})
+	if ds.Join == nil || ds.Join.Matched != 6 || ds.Column("sample").Label(5) != "q" {
+		t.Errorf("join %+v", ds.Join)
+	}
+}
+
 func TestOpenExplicitLabels(t *testing.T) {
 	dir := writeFiles(t, map[string]string{
 		"m.mtx":  mtxText(cellsByGenes, false),
