@@ -104,6 +104,15 @@ func (e *Engine) SetLayout(layout []float32) {
 	e.notify()
 }
 
+// SetOptimizer stops any run and drives opt from now on (for example after
+// the affinities changed); the layout on screen stays.
+func (e *Engine) SetOptimizer(opt Optimizer) {
+	e.mu.Lock()
+	e.stopLocked()
+	e.opt = opt
+	e.mu.Unlock()
+}
+
 // Turn starts a warm run at the given attraction from the layout on screen:
 // iterations iterations without early exaggeration. An attraction of +Inf
 // moves to the spectral layout instead.
@@ -158,6 +167,7 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 	ctx, cancel := context.WithCancel(context.Background())
 	e.cancel = cancel
 	prev := e.done
+	opt := e.opt
 	done := make(chan struct{})
 	e.done = done
 	e.status = Status{Running: true, Attraction: attraction, Iterations: iterations, KL: math.NaN(),
@@ -173,9 +183,9 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 		}
 		var err error
 		if math.IsInf(attraction, 1) {
-			err = e.toSpectral(ctx, gen, from)
+			err = e.toSpectral(ctx, opt, gen, from)
 		} else {
-			_, err = e.opt.Run(ctx, from, attraction, iterations, fresh, func(f Frame) { e.publish(gen, f) })
+			_, err = opt.Run(ctx, from, attraction, iterations, fresh, func(f Frame) { e.publish(gen, f) })
 		}
 		e.finish(gen, err)
 	}()
@@ -219,8 +229,8 @@ func (e *Engine) finish(gen uint64, err error) {
 // that the map glides there instead of jumping.
 const spectralGlide = 15
 
-func (e *Engine) toSpectral(ctx context.Context, gen uint64, from []float32) error {
-	target, err := e.opt.Spectral(ctx, from)
+func (e *Engine) toSpectral(ctx context.Context, opt Optimizer, gen uint64, from []float32) error {
+	target, err := opt.Spectral(ctx, from)
 	if err != nil {
 		return err
 	}
