@@ -1,28 +1,3 @@
-// Package sampledata generates Lodestone's example atlas: an invented,
-// simulated single-cell time course with known structure, for trying the
-// program and for testing the stages that should find that structure.
-//
-// The scenario is invented. It simulates the regrowth of the brine comb, a
-// salt-excreting crest on the gill arch of a fictional shore amphibian (the
-// glasscrest newt), in the ten days after a moult. A progenitor pool (the
-// seedbed state) branches into three lineages: veilward (veil-sprout,
-// veil-spread, veil-sheet), brinewell (brine-bud, brine-swell, brine-gland)
-// and keelcord (keel-thread, keel-cord). Cells are sampled on days 2, 4, 6, 8
-// and 10 and sequenced in two runs. Every cell carries a maturation score in
-// [0, 1], its position along its lineage; its state is the one whose
-// programme peaks nearest to that score, so the data has both discrete groups
-// and continuous paths.
-//
-// Counts are negative binomial around gene-programme means. For cell c and
-// nuclear gene g,
-//
-//	μ_cg = L_c (1 − f_c) · a_bg exp(Σ_s A_s(t_c) λ_sg) / Σ_h a_bh exp(Σ_s A_s(t_c) λ_sh)
-//
-// where L_c is the cell's log-normal library size, f_c its share of
-// mitochondrial-like counts, a_bg the gene's abundance in run b (run 2
-// multiplies it by a per-gene log-normal factor), A_s(t) the activity of
-// programme s at maturation t and λ_sg the gene's log fold change in that
-// programme. The mitochondrial-like genes share L_c f_c between them.
 package sampledata
 
 import (
@@ -58,18 +33,18 @@ const (
 )
 
 // libraryMedian is the median library size of healthy cells in each run.
-var libraryMedian = [2]float64{2200, 2500}
+var libraryMedian = [2]float64{1500, 1700}
 
 // Limits of Options.
 const (
 	minGenes = 100
 	maxGenes = 100000
-	maxCells = 5000000
+	maxCells = 2000000
 )
 
 // Options say what to generate.
 type Options struct {
-	Cells int   // number of cells, 1 … 5,000,000
+	Cells int   // number of cells, 1 … 2,000,000
 	Genes int   // number of genes, 100 … 100,000, of which 12 mitochondrial-like
 	Seed  int64 // seed of every random draw; the same seed gives the same atlas
 
@@ -245,10 +220,10 @@ func Generate(ctx context.Context, opt Options) (*atlas.Dataset, *Truth, error) 
 		GeneSymbols: m.symbols,
 		Counts:      counts,
 		Annotations: []atlas.Column{
-			{Name: ColumnDay, Kind: atlas.Categorical, Levels: slices.Clone(days), Codes: lab.day},
-			{Name: ColumnLineage, Kind: atlas.Categorical, Levels: slices.Clone(lineages), Codes: lab.lineage},
-			{Name: ColumnState, Kind: atlas.Categorical, Levels: slices.Clone(states), Codes: lab.state},
-			{Name: ColumnBatch, Kind: atlas.Categorical, Levels: slices.Clone(batches), Codes: lab.batch},
+			{Name: ColumnDay, Kind: atlas.Categorical, Levels: slices.Clone(days[:]), Codes: lab.day},
+			{Name: ColumnLineage, Kind: atlas.Categorical, Levels: slices.Clone(lineages[:]), Codes: lab.lineage},
+			{Name: ColumnState, Kind: atlas.Categorical, Levels: slices.Clone(states[:]), Codes: lab.state},
+			{Name: ColumnBatch, Kind: atlas.Categorical, Levels: slices.Clone(batches[:]), Codes: lab.batch},
 			{Name: ColumnMaturation, Kind: atlas.Continuous, Values: lab.maturation},
 		},
 	}
@@ -322,15 +297,16 @@ func (m *geneModel) cell(wk *worker, i int, seed int64, lab *cellLabels) {
 		b = 1
 	}
 	day := s.pick(dayWeights)
-	lineage, t := 0, commitAt*s.uniform()
+	// Every cell has a fate, one of the paths. A progenitor has not yet
+	// committed to it but is primed: the path's programmes are already
+	// faintly on, so the seedbed runs continuously into each lineage.
+	fate := s.pick(lineageWeights)
+	p := &paths[fate]
+	lineage, state, t := 0, seedbedState, commitAt*s.uniform()
 	if s.uniform() >= progenitorShare[day] {
-		lineage = 1 + s.pick(lineageWeights)
-		mean := dayMaturation[day]
-		t = commitAt + (1-commitAt)*s.beta(mean*maturationConcentration, (1-mean)*maturationConcentration)
-	}
-	state := seedbedState
-	if lineage > 0 {
-		state = nearestState(&paths[lineage-1], t)
+		dm := dayMaturation[day]
+		t = commitAt + (1-commitAt)*s.beta(dm*maturationConcentration, (1-dm)*maturationConcentration)
+		lineage, state = fate+1, nearestState(p, t)
 	}
 	lowQuality := s.uniform() < lowQualityShare
 
@@ -338,16 +314,15 @@ func (m *geneModel) cell(wk *worker, i int, seed int64, lab *cellLabels) {
 	clear(wk.act[:])
 	wk.act[seedbedState] = activity(t, seedbedCentre)
 	wk.act[slotMaturation] = t
+	for j, st := range p.states {
+		wk.act[st] = activity(t, p.centres[j])
+	}
 	if lineage > 0 {
-		p := &paths[lineage-1]
-		for j, st := range p.states {
-			wk.act[st] = activity(t, p.centres[j])
-		}
-		wk.act[slotRamp0+lineage-1] = (t - commitAt) / (1 - commitAt)
+		wk.act[slotRamp0+fate] = (t - commitAt) / (1 - commitAt)
 	}
 	mean := wk.mean[b]
 	total := m.total[b]
-	for _, g := range m.active[lineage] {
+	for _, g := range m.active[fate] {
 		base := m.abundance[b][g]
 		v := base * math.Exp(wk.act[m.slot[g]]*m.logFold[g])
 		mean[g] = v
@@ -387,7 +362,7 @@ func (m *geneModel) cell(wk *worker, i int, seed int64, lab *cellLabels) {
 		wk.cols = wk.cols[:start]
 		wk.vals = wk.vals[:start]
 	}
-	for _, g := range m.active[lineage] {
+	for _, g := range m.active[fate] {
 		mean[g] = m.abundance[b][g]
 	}
 

@@ -14,31 +14,35 @@ const (
 
 // Gene composition at the default size; other sizes scale these counts.
 const (
-	defaultGenes       = 2000
-	mitoGenes          = 12   // genes named with MitoPrefix
-	housekeepingShare  = 0.03 // share of genes with high, steady expression
-	programmeMin       = 30   // smallest state programme at the default size
-	programmeMax       = 60   // largest state programme at the default size
-	rampGenes          = 25   // genes rising along each lineage, default size
-	maturationGenes    = 20   // genes rising with maturation in every lineage
-	minProgrammeGenes  = 4    // floor of a state programme at small sizes
-	minRampGenes       = 2    // floor of a ramp at small sizes
-	foldMin, foldMax   = 1.5, 3.0
-	rampFoldMin        = 1.0
-	rampFoldMax        = 2.0
-	batchFactorSD      = 0.15      // sd of the log of run 2's per-gene factor
-	housekeepingShareC = 0.50      // expected share of nuclear counts in housekeeping genes
-	minSize, maxSize   = 0.25, 100 // range of the negative binomial size r
-	backgroundSD       = 2.8       // sd of the log abundance of background genes
-	backgroundMaxZ     = 1.3       // the normal behind it is truncated above here
-	programmeLogBase   = -2.0      // log abundance of programme genes relative to the background median
+	defaultGenes          = 2000
+	mitoGenes             = 12   // genes named with MitoPrefix
+	housekeepingGeneShare = 0.03 // share of genes with high, steady expression
+	programmeMin          = 30   // smallest state programme at the default size
+	programmeMax          = 60   // largest state programme at the default size
+	rampGenes             = 25   // genes rising along each lineage, default size
+	maturationGenes       = 20   // genes rising with maturation in every lineage
+	minProgrammeGenes     = 4    // floor of a state programme at small sizes
+	minRampGenes          = 2    // floor of a ramp at small sizes
+)
+
+// Gene parameters.
+const (
+	foldMin, foldMax         = 1.5, 3.0  // range of a state programme gene's log fold change
+	rampFoldMin, rampFoldMax = 1.0, 2.0  // range of a ramp gene's log fold change
+	batchFactorSD            = 0.15      // sd of the log of run 2's per-gene factor
+	housekeepingCountShare   = 0.50      // share of nuclear counts in housekeeping genes when programmes are off
+	minSize, maxSize         = 0.25, 100 // range of the negative binomial size r
+	backgroundSD             = 2.8       // sd of the log abundance of background genes
+	backgroundMaxZ           = 1.3       // the normal behind it is truncated above here
+	programmeLogBase         = 0.5       // log abundance of programme genes relative to the background median
+	programmeLogSD           = 0.7       // and its sd
 )
 
 // Programme slots: one per state, then one ramp per lineage, then the ramp
 // shared by all lineages.
 const (
-	slotRamp0      = 9 // slot of the first lineage's ramp
-	slotMaturation = slotRamp0 + 3
+	slotRamp0      = len(states)
+	slotMaturation = slotRamp0 + len(paths)
 	slotCount      = slotMaturation + 1
 )
 
@@ -58,7 +62,7 @@ type geneModel struct {
 	factor    []float64    // per gene, run 2's multiplicative factor
 	mitoShare []float64    // per mitochondrial-like gene, its share of their counts
 
-	active [4][]int32 // per lineage (0 = progenitor), genes whose programme can be on
+	active [len(paths)][]int32 // per fate (path), genes whose programme can be on
 
 	programmes   [slotCount][]int // genes of each slot, ascending
 	housekeeping []int
@@ -96,7 +100,7 @@ func newGeneModel(seed int64, genes int) *geneModel {
 		slices.Sort(g)
 		return g
 	}
-	m.housekeeping = take(scaled(housekeepingShare*defaultGenes, genes, 1))
+	m.housekeeping = take(scaled(housekeepingGeneShare*defaultGenes, genes, 1))
 	for st := range states {
 		n := programmeMin + s.uniform()*(programmeMax-programmeMin)
 		m.programmes[st] = take(scaled(n, genes, minProgrammeGenes))
@@ -126,7 +130,7 @@ func newGeneModel(seed int64, genes int) *geneModel {
 		for _, g := range m.programmes[sl] {
 			m.slot[g] = int8(sl)
 			m.logFold[g] = lo + s.uniform()*(hi-lo)
-			logAb[g] = programmeLogBase + 0.7*s.normal()
+			logAb[g] = programmeLogBase + programmeLogSD*s.normal()
 		}
 	}
 	var other float64
@@ -145,9 +149,9 @@ func newGeneModel(seed int64, genes int) *geneModel {
 		hk[i] = math.Exp(0.5 * s.normal())
 		hkSum += hk[i]
 	}
-	// Housekeeping genes take housekeepingShareC of the nuclear counts of a
+	// Housekeeping genes take housekeepingCountShare of the nuclear counts of a
 	// cell whose programmes are all off.
-	hkScale := housekeepingShareC / (1 - housekeepingShareC) * other / hkSum
+	hkScale := housekeepingCountShare / (1 - housekeepingCountShare) * other / hkSum
 	for i, g := range m.housekeeping {
 		logAb[g] = math.Log(hk[i] * hkScale)
 	}
@@ -195,14 +199,10 @@ func newGeneModel(seed int64, genes int) *geneModel {
 		m.mitoShare[j] /= ms
 	}
 
-	// Genes whose programme can be on in each lineage: the seedbed and the
-	// shared ramp everywhere, a lineage's states and ramp in that lineage.
-	for l := range m.active {
-		sl := []int{seedbedState, slotMaturation}
-		if l > 0 {
-			sl = append(sl, paths[l-1].states...)
-			sl = append(sl, slotRamp0+l-1)
-		}
+	// Genes whose programme can be on in the cells of each fate: the
+	// seedbed, the shared ramp and the path's states and ramp.
+	for l, p := range paths {
+		sl := append([]int{seedbedState, slotMaturation, slotRamp0 + l}, p.states...)
 		var gs []int32
 		for _, x := range sl {
 			for _, g := range m.programmes[x] {

@@ -2,12 +2,6 @@ package sampledata
 
 import "math"
 
-// The scenario is invented: the regrowth of the brine comb, a salt-excreting
-// crest on the gill arch of a fictional shore amphibian, the glasscrest newt,
-// over the ten days after a moult. A pool of progenitor cells (the seedbed)
-// gives rise to three lineages: the veilward cells that cover the comb, the
-// brinewell cells that pump salt and the keelcord cells that stiffen it.
-
 // Names of the annotation columns of the generated atlas.
 const (
 	ColumnDay        = "day"
@@ -22,18 +16,18 @@ const (
 const Progenitor = "progenitor"
 
 // days are the sampled days, the levels of the day column.
-var days = []string{"day 2", "day 4", "day 6", "day 8", "day 10"}
+var days = [...]string{"day 2", "day 4", "day 6", "day 8", "day 10"}
 
 // batches are the two sequencing runs, the levels of the batch column.
-var batches = []string{"run 1", "run 2"}
+var batches = [...]string{"run 1", "run 2"}
 
 // lineages are the levels of the lineage column: the progenitor pool first,
 // then the three lineages that branch from it.
-var lineages = []string{Progenitor, "veilward", "brinewell", "keelcord"}
+var lineages = [...]string{Progenitor, "veilward", "brinewell", "keelcord"}
 
 // states are the levels of the state column: the progenitor state, then the
 // states of each lineage in the order a cell passes through them.
-var states = []string{
+var states = [...]string{
 	"seedbed",
 	"veil-sprout", "veil-spread", "veil-sheet",
 	"brine-bud", "brine-swell", "brine-gland",
@@ -48,7 +42,7 @@ type path struct {
 }
 
 // paths are the three lineages, in the order of lineages[1:].
-var paths = []path{
+var paths = [...]path{
 	{states: []int{1, 2, 3}, centres: []float64{0.28, 0.56, 0.86}},
 	{states: []int{4, 5, 6}, centres: []float64{0.28, 0.56, 0.86}},
 	{states: []int{7, 8}, centres: []float64{0.32, 0.80}},
