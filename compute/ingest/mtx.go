@@ -304,23 +304,19 @@ func (p *mtxParser) readEntries() error {
 	s, h := p.s, p.h
 	for {
 		// Parse what is buffered as far as it goes; the line it stops
-		// at, and any line when the buffer needs refilling, take the
-		// general path below.
+		// at (a comment, a blank line, an error, a line the buffer
+		// holds only part of) takes the general path below.
 		s.r += p.fastBlock(s.buf[s.r:s.w])
 		if !s.next() {
 			break
 		}
-		i, j, v, ok := p.fastEntry(s.text)
-		if !ok {
-			var blank bool
-			var err error
-			if i, j, v, blank, err = p.slowEntry(s.text); err != nil {
-				return err
-			}
-			if blank {
-				p.gaps = append(p.gaps, p.n)
-				continue
-			}
+		i, j, v, blank, err := p.slowEntry(s.text)
+		if err != nil {
+			return err
+		}
+		if blank {
+			p.gaps = append(p.gaps, p.n)
+			continue
 		}
 		if int64(p.n) == h.Entries {
 			return errorf(p.name, s.line, 0, ErrEntryCount, "more entries than the %d announced on line %d", h.Entries, h.SizeLine)
@@ -345,12 +341,14 @@ func (p *mtxParser) readEntries() error {
 	return nil
 }
 
-// fastBlock parses, from the start of buf, the lines that have the
-// common form "i j v\n" or "i j v\r\n" (single spaces, indices in range, an integer value
-// of at most 18 digits for the integer field, a value fastFloat reads for
-// the real field), while there is room for entries and the size line's
-// count is not reached. It returns the bytes used, which end at a line's
-// end.
+// fastBlock parses, from the start of buf, the entry lines of the common
+// form: three fields separated by spaces or tabs, with spaces or tabs also
+// allowed before the first and after the last, ending in "\n" or "\r\n";
+// indices in range; for the integer field an optionally negative integer
+// of at most 18 digits, for the real field a value fastFloat reads. It
+// stops at any other line, at the end of buf, when the entry arrays are
+// full, or when the size line's count is reached, and returns the bytes
+// used, which end at a line's end. It allocates nothing.
 func (p *mtxParser) fastBlock(buf []byte) int {
 	rows, cols := uint64(p.h.Rows), uint64(p.h.Cols)
 	limit := min(int64(len(p.col)), p.h.Entries)
@@ -359,18 +357,23 @@ func (p *mtxParser) fastBlock(buf []byte) int {
 	k := 0
 	for int64(p.n) < limit {
 		start := k
+		for k < n && (buf[k] == ' ' || buf[k] == '\t') {
+			k++
+		}
 		var i, j uint64
-		for ; k < n && k-start < 10; k++ {
+		is := k
+		for ; k < n && k-is < 10; k++ {
 			d := buf[k] - '0'
 			if d > 9 {
 				break
 			}
 			i = i*10 + uint64(d)
 		}
-		if k == start || k >= n || buf[k] != ' ' || i-1 >= rows {
+		if k == is || i-1 >= rows || !isBlank(buf, k) {
 			return start
 		}
-		k++
+		for k++; k < n && (buf[k] == ' ' || buf[k] == '\t'); k++ {
+		}
 		js := k
 		for ; k < n && k-js < 10; k++ {
 			d := buf[k] - '0'
@@ -379,29 +382,28 @@ func (p *mtxParser) fastBlock(buf []byte) int {
 			}
 			j = j*10 + uint64(d)
 		}
-		if k == js || k >= n || buf[k] != ' ' || j-1 >= cols {
+		if k == js || j-1 >= cols || !isBlank(buf, k) {
 			return start
 		}
-		k++
+		for k++; k < n && (buf[k] == ' ' || buf[k] == '\t'); k++ {
+		}
+		vs := k
 		var v float32
 		if integer {
 			neg := k < n && buf[k] == '-'
 			if neg {
 				k++
 			}
-			vs := k
+			ds := k
 			var x uint64
-			for ; k < n && k-vs < 18; k++ {
+			for ; k < n && k-ds < 18; k++ {
 				d := buf[k] - '0'
 				if d > 9 {
 					break
 				}
 				x = x*10 + uint64(d)
 			}
-			if k < n-1 && buf[k] == '\r' {
-				k++ // "\r\n" line ends
-			}
-			if k == vs || k >= n || buf[k] != '\n' {
+			if k == ds {
 				return start
 			}
 			v = float32(x)
@@ -409,24 +411,27 @@ func (p *mtxParser) fastBlock(buf []byte) int {
 				v = -v
 			}
 		} else {
-			vs := k
-			for k < n && buf[k] != '\n' && buf[k] != ' ' && buf[k] != '\r' {
+			for k < n && buf[k] != '\n' && buf[k] != ' ' && buf[k] != '\t' && buf[k] != '\r' {
 				k++
 			}
-			ve := k
-			if k < n-1 && buf[k] == '\r' {
-				k++
-			}
-			if k >= n || buf[k] != '\n' {
-				return start
-			}
-			x, ok := fastFloat(buf[vs:ve])
+			x, ok := fastFloat(buf[vs:k])
 			if !ok {
 				return start
 			}
 			if v, ok = toFloat32(x); !ok {
 				return start
 			}
+		}
+		if k < n && buf[k] != '\n' {
+			for k < n && (buf[k] == ' ' || buf[k] == '\t' || buf[k] == '\r') {
+				k++
+			}
+			if k >= n || buf[k] != '\n' {
+				return start
+			}
+		}
+		if k >= n {
+			return start
 		}
 		k++ // past the line's end
 		if transpose {
@@ -441,65 +446,9 @@ func (p *mtxParser) fastBlock(buf []byte) int {
 	return k
 }
 
-// fastEntry parses the common form of an entry line, "i j v" with single
-// spaces, indices in range and, for the integer field, an integer value
-// of at most 18 digits. It reports false for anything else, which
-// slowEntry then parses or explains.
-func (p *mtxParser) fastEntry(line []byte) (i, j uint64, v float32, ok bool) {
-	n := len(line)
-	k := 0
-	for ; k < n && k < 10; k++ {
-		d := line[k] - '0'
-		if d > 9 {
-			break
-		}
-		i = i*10 + uint64(d)
-	}
-	if k == 0 || k >= n || line[k] != ' ' || i-1 >= uint64(p.h.Rows) {
-		return 0, 0, 0, false
-	}
-	k++
-	start := k
-	for ; k < n && k-start < 10; k++ {
-		d := line[k] - '0'
-		if d > 9 {
-			break
-		}
-		j = j*10 + uint64(d)
-	}
-	if k == start || k >= n || line[k] != ' ' || j-1 >= uint64(p.h.Cols) {
-		return 0, 0, 0, false
-	}
-	k++
-	if !p.h.Integer {
-		x, ok := fastFloat(line[k:])
-		if !ok {
-			return 0, 0, 0, false
-		}
-		v, ok = toFloat32(x)
-		return i, j, v, ok
-	}
-	neg := k < n && line[k] == '-'
-	if neg {
-		k++
-	}
-	start = k
-	var x uint64
-	for ; k < n; k++ {
-		d := line[k] - '0'
-		if d > 9 {
-			return 0, 0, 0, false
-		}
-		x = x*10 + uint64(d)
-	}
-	if k == start || k-start > 18 {
-		return 0, 0, 0, false
-	}
-	v = float32(x)
-	if neg {
-		v = -v
-	}
-	return i, j, v, true
+// isBlank reports whether buf[k] is a space or a tab.
+func isBlank(buf []byte, k int) bool {
+	return k < len(buf) && (buf[k] == ' ' || buf[k] == '\t')
 }
 
 // slowEntry parses any entry line, or reports blank for a blank or comment

@@ -190,6 +190,26 @@ func randomEntries(rng *rand.Rand, rows, cols int, density float64, integer bool
 	return b.String(), want
 }
 
+// messy rewrites the entry lines of a Matrix Market text with runs of
+// spaces and tabs between and around the fields and some "\r\n" ends.
+func messy(rng *rand.Rand, text string) string {
+	blanks := []string{"", " ", "\t", "  ", " \t ", "    "}
+	lines := strings.Split(text, "\n")
+	for k := 2; k < len(lines); k++ {
+		f := strings.Fields(lines[k])
+		if len(f) != 3 {
+			continue
+		}
+		sep := func() string { return blanks[1+rng.IntN(len(blanks)-1)] }
+		end := blanks[rng.IntN(len(blanks))]
+		if rng.IntN(3) == 0 {
+			end += "\r"
+		}
+		lines[k] = blanks[rng.IntN(len(blanks))] + f[0] + sep() + f[1] + sep() + f[2] + end
+	}
+	return strings.Join(lines, "\n")
+}
+
 func TestReadMatrixMarketRandomOrder(t *testing.T) {
 	// Reference: an exact slow computation, the dense matrix built entry by
 	// entry while writing the file.
@@ -198,6 +218,9 @@ func TestReadMatrixMarketRandomOrder(t *testing.T) {
 		rows, cols := 1+rng.IntN(60), 1+rng.IntN(60)
 		integer := trial%2 == 0
 		text, want := randomEntries(rng, rows, cols, rng.Float64()*0.5, integer)
+		if trial%4 >= 2 {
+			text = messy(rng, text)
+		}
 		for _, tr := range []bool{false, true} {
 			for _, known := range []bool{false, true} {
 				var r io.Reader = strings.NewReader(text)
