@@ -418,3 +418,33 @@ func TestReadMatrixMarketProgress(t *testing.T) {
 		}
 	}
 }
+
+// cancelAfter cancels a context once more than n bytes have been read.
+type cancelAfter struct {
+	r      io.Reader
+	n      int
+	cancel context.CancelFunc
+}
+
+func (c *cancelAfter) Read(p []byte) (int, error) {
+	k, err := c.r.Read(p)
+	if c.n -= k; c.n < 0 {
+		c.cancel()
+	}
+	return k, err
+}
+
+func TestReadMatrixMarketCancelWhileReading(t *testing.T) {
+	// The context is checked each time the buffer is refilled, so a read
+	// stops about a buffer after the cancellation.
+	text, _ := randomEntries(rand.New(rand.NewPCG(17, 18)), 600, 600, 0.5, true)
+	for _, data := range [][]byte{[]byte(text), gz(t, []byte(text))} {
+		ctx, cancel := context.WithCancel(bg)
+		r := &cancelAfter{r: bytes.NewReader(data), n: len(data) / 4, cancel: cancel}
+		_, err := ReadMatrixMarket(ctx, r, "c.mtx", MatrixOptions{})
+		if !errors.Is(err, context.Canceled) {
+			t.Errorf("error %v, want context.Canceled", err)
+		}
+		cancel()
+	}
+}
