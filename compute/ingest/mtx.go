@@ -30,10 +30,10 @@ type MatrixOptions struct {
 	Transpose func(h MatrixHeader) (bool, error)
 
 	// Size is the number of bytes of r (compressed bytes for gzip data)
-	// when known. The reader then preallocates exactly and rejects size
-	// lines that announce more entries than the input can hold. When zero,
-	// it is taken from r's Len or Stat method if r has one; when still
-	// unknown, storage grows as entries arrive.
+	// when known. The reader then preallocates for the entries the size
+	// line announces, but never for more than the input can hold. When
+	// zero, it is taken from r's Len or Stat method if r has one; when
+	// still unknown, storage grows as entries arrive.
 	Size int64
 
 	// Progress, when not nil, receives the bytes read from r so far, out

@@ -321,6 +321,18 @@ func TestOpenErrors(t *testing.T) {
 	}
 }
 
+func TestOpenDuplicateEntryLines(t *testing.T) {
+	// Entries not grouped by cell: the file is read again to find both
+	// lines of a duplicate.
+	mtx := "%%MatrixMarket matrix coordinate integer general\n4 6 4\n1 6 1\n2 1 1\n3 4 1\n2 1 7\n"
+	dir := writeFiles(t, map[string]string{"a.mtx": mtx, "c": barcodes, "g": geneLines})
+	_, err := Open(bg, dir, Options{})
+	wantParseError(t, err, filepath.Join(dir, "a.mtx"), 6, 0, ErrDuplicateEntry)
+	if !strings.Contains(err.Error(), "row 2, column 1 already given on line 4") {
+		t.Errorf("message %q", err)
+	}
+}
+
 func TestOpenCancelled(t *testing.T) {
 	dir := writeFiles(t, map[string]string{"m.mtx": mtxText(cellsByGenes, true), "c": barcodes, "g": geneLines})
 	ctx, cancel := context.WithCancel(bg)

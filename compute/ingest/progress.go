@@ -1,6 +1,7 @@
 package ingest
 
 import (
+	"errors"
 	"io"
 
 	"lodestone/compute/progress"
@@ -57,6 +58,15 @@ func (c *byteCounter) finish() { c.f.Report(c.total, c.total) }
 type countingReader struct {
 	r io.Reader
 	c *byteCounter
+}
+
+// Seek seeks the underlying reader when it can; ReadMatrixMarket uses it
+// to read a file again to name the lines of a duplicate entry.
+func (r *countingReader) Seek(offset int64, whence int) (int64, error) {
+	if s, ok := r.r.(io.Seeker); ok {
+		return s.Seek(offset, whence)
+	}
+	return 0, errors.New("ingest: input cannot seek")
 }
 
 func (r *countingReader) Read(p []byte) (int, error) {
