@@ -308,7 +308,8 @@ func TestReadMatrixMarketDuplicateNamesBothLines(t *testing.T) {
 		if err == nil || err.Error() != c.want {
 			t.Errorf("error %v, want %s", err, c.want)
 		}
-	} // A reader that cannot seek: the entries were moved, so the lines are
+	}
+	// A reader that cannot seek: the entries were moved, so the lines are
 	// not known and the error names the position only.
 	r := struct{ io.Reader }{strings.NewReader(cases[1].text)}
 	_, err := ReadMatrixMarket(bg, r, "m.mtx", MatrixOptions{})
