@@ -69,6 +69,7 @@ func (r *countingReader) Seek(offset int64, whence int) (int64, error) {
 	return 0, errors.New("ingest: input cannot seek")
 }
 
+// Read reads from the underlying reader and counts the bytes.
 func (r *countingReader) Read(p []byte) (int, error) {
 	n, err := r.r.Read(p)
 	r.c.add(int64(n))
