@@ -1,0 +1,188 @@
+package embed
+
+import (
+	"math"
+	"sync"
+	"sync/atomic"
+
+	"lodestone/compute/parallel"
+	"lodestone/compute/sparse"
+)
+
+// affinity is a checked affinity matrix with the sums the optimiser needs.
+type affinities struct {
+	*sparse.CSR
+	sum     float64 // Σ p_ij over the stored entries
+	entropy float64 // Σ p̃_ij log p̃_ij with p̃ = p / sum
+}
+
+// checkAffinity validates P for a layout of n points (n < 0: any) and
+// computes its sums. Every row is checked; the fault with the smallest row
+// and entry is reported.
+func checkAffinity(p *sparse.CSR, n, threads int) (*affinities, error) {
+	if p == nil || p.Rows != p.Cols || p.Rows < 2 || len(p.RowPtr) != p.Rows+1 ||
+		p.RowPtr[0] != 0 || p.RowPtr[p.Rows] != int64(len(p.ColIdx)) || len(p.ColIdx) != len(p.Val) {
+		if p != nil && p.Rows == p.Cols && p.Rows < 2 {
+			return nil, &AffinityError{Row: -1, Entry: -1, Err: ErrEmpty}
+		}
+		return nil, &AffinityError{Row: -1, Entry: -1, Err: ErrShape}
+	}
+	if n >= 0 && p.Rows != n {
+		return nil, &LayoutError{What: "initial layout", Point: -1, Err: ErrShape}
+	}
+	threads = parallel.Threads(threads)
+	sums := make([]float64, 2*threads)
+	var (
+		mu    sync.Mutex
+		fault *AffinityError
+	)
+	parallel.For(p.Rows, threads, func(lo, hi, block int) {
+		var s, e float64
+		for i := lo; i < hi; i++ {
+			start, end := p.RowPtr[i], p.RowPtr[i+1]
+			if end < start || end > int64(len(p.ColIdx)) {
+				mu.Lock()
+				if fault == nil || i < fault.Row {
+					fault = &AffinityError{Row: i, Entry: -1, Err: ErrShape}
+				}
+				mu.Unlock()
+				return
+			}
+			prev := int32(-1)
+			for k := start; k < end; k++ {
+				c, v := p.ColIdx[k], float64(p.Val[k])
+				var err error
+				switch {
+				case c <= prev || int(c) >= p.Cols:
+					err = ErrColumn
+				case math.IsNaN(v) || math.IsInf(v, 0):
+					err = ErrNotFinite
+				case v < 0:
+					err = ErrNegative
+				}
+				if err != nil {
+					mu.Lock()
+					if fault == nil || i < fault.Row {
+						fault = &AffinityError{Row: i, Entry: int(k - start), Err: err}
+					}
+					mu.Unlock()
+					return
+				}
+				prev = c
+				if v > 0 {
+					s += v
+					e += v * math.Log(v)
+				}
+			}
+		}
+		sums[2*block], sums[2*block+1] = s, e
+	})
+	if fault != nil {
+		return nil, fault
+	}
+	var s, e float64
+	for b := 0; b < threads; b++ {
+		s += sums[2*b]
+		e += sums[2*b+1]
+	}
+	if !(s > 0) {
+		return nil, &AffinityError{Row: -1, Entry: -1, Err: ErrEmpty}
+	}
+	// Σ p̃ log p̃ = (Σ p log p)/S − log S.
+	return &affinities{CSR: p, sum: s, entropy: e/s - math.Log(s)}, nil
+}
+
+// attract writes the attractive sums of the layout y to dst,
+//
+//	dst_i = Σ_j p_ij w_ij (y_i − y_j),   w_ij = 1 / (1 + |y_i − y_j|²),
+//
+// over the stored entries of P, one block of rows per thread. When logs is
+// not nil it also stores in logs[block] the block's Σ p_ij log(1 + |y_i − y_j|²)
+// (that is −Σ p_ij log w_ij), for the KL divergence. It returns false when
+// stop reported true part-way.
+func attract(dst, y []float64, p *sparse.CSR, logs []float64, threads int, stop func() bool) bool {
+	var stopped atomic.Bool
+	parallel.For(p.Rows, threads, func(lo, hi, block int) {
+		var ls float64
+		for i := lo; i < hi; i++ {
+			if (i-lo)%stopEvery == stopEvery-1 && stop() {
+				stopped.Store(true)
+				return
+			}
+			xi, yi := y[2*i], y[2*i+1]
+			var fx, fy float64
+			start, end := p.RowPtr[i], p.RowPtr[i+1]
+			cols, vals := p.ColIdx[start:end], p.Val[start:end]
+			if logs == nil {
+				for k, j := range cols {
+					dx, dy := xi-y[2*j], yi-y[2*j+1]
+					pw := float64(vals[k]) / (1 + dx*dx + dy*dy)
+					fx += pw * dx
+					fy += pw * dy
+				}
+			} else {
+				for k, j := range cols {
+					dx, dy := xi-y[2*j], yi-y[2*j+1]
+					q := 1 + dx*dx + dy*dy
+					v := float64(vals[k])
+					pw := v / q
+					fx += pw * dx
+					fy += pw * dy
+					ls += v * math.Log(q)
+				}
+			}
+			dst[2*i], dst[2*i+1] = fx, fy
+		}
+		if logs != nil {
+			logs[block] = ls
+		}
+	})
+	return !stopped.Load()
+}
+
+// KL returns the Kullback–Leibler divergence of the layout's similarities Q
+// from P, computed exactly in O(N²):
+//
+//	KL(P‖Q) = Σ_ij p̃_ij log(p̃_ij / q_ij),   q_ij = w_ij / Z,
+//	w_ij = 1 / (1 + |y_i − y_j|²),   Z = Σ_{k≠l} w_kl,   p̃ = P / Σ P.
+//
+// layout holds the interleaved coordinates x0,y0,x1,y1,… of P.Rows points.
+// P must be a valid affinity matrix (square, sorted columns, finite
+// non-negative values, not all zero); otherwise KL returns an *AffinityError
+// or a *LayoutError. threads < 1 means all processors.
+func KL(p *sparse.CSR, layout []float32, threads int) (float64, error) {
+	a, err := checkAffinity(p, len(layout)/2, threads)
+	if err != nil {
+		return 0, err
+	}
+	if len(layout) != 2*p.Rows {
+		return 0, &LayoutError{What: "layout", Point: -1, Err: ErrShape}
+	}
+	y, err := toFloat64(layout, "layout")
+	if err != nil {
+		return 0, err
+	}
+	threads = parallel.Threads(threads)
+	rep := make([]float64, len(y))
+	z := ExactRepulsion(rep, y, threads)
+	logs := make([]float64, threads)
+	attract(rep, y, p, logs, threads, func() bool { return false })
+	var ls float64
+	for _, v := range logs {
+		ls += v
+	}
+	return a.entropy + ls/a.sum + math.Log(z), nil
+}
+
+// toFloat64 converts an interleaved float32 layout, rejecting NaN and ±Inf.
+func toFloat64(layout []float32, what string) ([]float64, error) {
+	y := make([]float64, len(layout))
+	for k, v := range layout {
+		f := float64(v)
+		if math.IsNaN(f) || math.IsInf(f, 0) {
+			return nil, &LayoutError{What: what, Point: k / 2, Err: ErrNotFinite}
+		}
+		y[k] = f
+	}
+	return y, nil
+}

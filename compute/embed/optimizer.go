@@ -1,0 +1,232 @@
+package embed
+
+import (
+	"context"
+	"math"
+	"time"
+
+	"lodestone/compute/parallel"
+)
+
+// exactBelow is the number of points under which the repulsion is summed
+// exactly: there the O(N²) sum costs less than the interpolation grid.
+const exactBelow = 1000
+
+// stepCap bounds each point's step per iteration, as a multiple of the
+// layout's root-mean-square radius. Normal steps stay far below it; it only
+// holds back the rare point that a large gain and a strong attractive pull
+// would otherwise throw far outside the map.
+const stepCap = 0.5
+
+// Gains and momentum (van der Maaten & Hinton 2008; common practice for the
+// values).
+const (
+	gainUp        = 0.2
+	gainDown      = 0.8
+	gainMin       = 0.01
+	earlyMomentum = 0.5
+	lateMomentum  = 0.8
+)
+
+// optimizer holds the state of one run.
+type optimizer struct {
+	a       *affinities
+	p       Params
+	n       int
+	y       []float64 // layout
+	upd     []float64 // last update (momentum)
+	gains   []float64 // per-coordinate gains
+	attr    []float64 // attractive sums
+	rep     []float64 // repulsive sums
+	fft     *fftRepulsion
+	logs    []float64    // per block: Σ p log(1 + d²)
+	sums    [][4]float64 // per block scratch
+	boxes   [][4]float64 // per block bounding boxes
+	bounds  [4]float64   // xmin, xmax, ymin, ymax
+	rms     float64      // root-mean-square distance from the centre
+	settled bool
+}
+
+func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
+	n := a.Rows
+	o := &optimizer{
+		a: a, p: p, n: n, y: y,
+		upd:   make([]float64, 2*n),
+		gains: make([]float64, 2*n),
+		attr:  make([]float64, 2*n),
+		rep:   make([]float64, 2*n),
+		logs:  make([]float64, p.Threads),
+		sums:  make([][4]float64, p.Threads),
+		boxes: make([][4]float64, p.Threads),
+	}
+	for i := range o.gains {
+		o.gains[i] = 1
+	}
+	if n >= exactBelow {
+		o.fft = newFFTRepulsion(p.Threads)
+	}
+	var sx, sy float64
+	for i := 0; i < n; i++ {
+		sx += y[2*i]
+		sy += y[2*i+1]
+	}
+	o.centre(sx/float64(n), sy/float64(n))
+	return o
+}
+
+// run iterates and publishes; see Run.
+func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32, error) {
+	done := ctx.Done()
+	stop := func() bool {
+		select {
+		case <-done:
+			return true
+		default:
+			return false
+		}
+	}
+	var lastPublish time.Time
+	total := o.p.Iterations
+	for t := 0; t < total; t++ {
+		if err := ctx.Err(); err != nil {
+			return o.layout(), err
+		}
+		rho, momentum := o.p.Attraction, lateMomentum
+		if t < o.p.EarlyIterations {
+			rho, momentum = o.p.EarlyExaggeration, earlyMomentum
+		}
+		eta := o.p.LearningRate
+		if eta == 0 {
+			eta = float64(o.n) / rho
+		}
+		last := t == total-1
+		snap := publish != nil && (t == 0 || last || time.Since(lastPublish) >= o.p.SnapshotEvery)
+		kl, ok := o.iterate(rho, momentum, eta, snap, stop)
+		if !ok {
+			return o.layout(), ctx.Err()
+		}
+		if snap {
+			publish(Snapshot{Layout: o.layout(), Iteration: t + 1, Iterations: total, KL: kl,
+				Attraction: o.p.Attraction, Settled: o.settled, Done: last})
+			lastPublish = time.Now()
+		}
+	}
+	return o.layout(), nil
+}
+
+// layout returns a float32 copy of the current layout.
+func (o *optimizer) layout() []float32 {
+	out := make([]float32, len(o.y))
+	for i, v := range o.y {
+		out[i] = float32(v)
+	}
+	return out
+}
+
+// iterate performs one gradient step with attraction rho, momentum and
+// learning rate eta. With wantKL it also returns the KL divergence of the
+// layout before the step (NaN otherwise). It returns false, with the layout
+// unchanged, when stop reported true.
+func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func() bool) (float64, bool) {
+	threads := o.p.Threads
+	var logs []float64
+	if wantKL {
+		logs = o.logs
+		clear(logs)
+	}
+	if !attract(o.attr, o.y, o.a.CSR, logs, threads, stop) {
+		return 0, false
+	}
+	var z float64
+	if o.fft == nil {
+		z = ExactRepulsion(o.rep, o.y, threads)
+	} else {
+		var ok bool
+		if z, ok = o.fft.compute(o.rep, o.y, o.bounds, stop); !ok {
+			return 0, false
+		}
+	}
+	kl := math.NaN()
+	if wantKL {
+		var ls float64
+		for _, v := range logs {
+			ls += v
+		}
+		kl = o.a.entropy + ls/o.a.sum + math.Log(z)
+	}
+
+	// Step: g = ρ/ΣP · attr − rep/Z, the gradient without its factor 4.
+	att, invZ, maxStep := rho/o.a.sum, 1/z, stepCap*o.rms
+	clear(o.sums)
+	parallel.For(o.n, threads, func(lo, hi, block int) {
+		var sx, sy, step float64
+		for i := lo; i < hi; i++ {
+			var u [2]float64
+			for c := 0; c < 2; c++ {
+				k := 2*i + c
+				g := att*o.attr[k] - invZ*o.rep[k]
+				gain := o.gains[k]
+				if g*o.upd[k] < 0 {
+					gain += gainUp
+				} else {
+					gain = max(gain*gainDown, gainMin)
+				}
+				o.gains[k] = gain
+				u[c] = momentum*o.upd[k] - eta*gain*g
+			}
+			l := math.Hypot(u[0], u[1])
+			if l > maxStep {
+				u[0], u[1] = u[0]*maxStep/l, u[1]*maxStep/l
+				l = maxStep
+			}
+			o.upd[2*i], o.upd[2*i+1] = u[0], u[1]
+			o.y[2*i] += u[0]
+			o.y[2*i+1] += u[1]
+			sx += o.y[2*i]
+			sy += o.y[2*i+1]
+			step += l
+		}
+		o.sums[block] = [4]float64{sx, sy, step}
+	})
+	var sx, sy, step float64
+	for _, s := range o.sums {
+		sx += s[0]
+		sy += s[1]
+		step += s[2]
+	}
+	o.centre(sx/float64(o.n), sy/float64(o.n))
+	extent := max(o.bounds[1]-o.bounds[0], o.bounds[3]-o.bounds[2])
+	o.settled = step/float64(o.n) < SettledStep*extent
+	return kl, true
+}
+
+// centre subtracts (mx, my) from every point, and updates the bounding box
+// and the root-mean-square radius.
+func (o *optimizer) centre(mx, my float64) {
+	threads := o.p.Threads
+	clear(o.sums)
+	for b := range o.boxes {
+		o.boxes[b] = [4]float64{math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)}
+	}
+	parallel.For(o.n, threads, func(lo, hi, block int) {
+		box := [4]float64{math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)}
+		var r2 float64
+		for i := lo; i < hi; i++ {
+			x, y := o.y[2*i]-mx, o.y[2*i+1]-my
+			o.y[2*i], o.y[2*i+1] = x, y
+			box[0], box[1] = min(box[0], x), max(box[1], x)
+			box[2], box[3] = min(box[2], y), max(box[3], y)
+			r2 += x*x + y*y
+		}
+		o.boxes[block] = box
+		o.sums[block][3] = r2
+	})
+	o.bounds = [4]float64{math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)}
+	var r2 float64
+	for b, box := range o.boxes {
+		o.bounds[0], o.bounds[1] = min(o.bounds[0], box[0]), max(o.bounds[1], box[1])
+		o.bounds[2], o.bounds[3] = min(o.bounds[2], box[2]), max(o.bounds[3], box[3])
+		r2 += o.sums[b][3]
+	}
+	o.rms = math.Sqrt(r2 / float64(o.n))
+}

@@ -1,0 +1,819 @@
+package embed
+
+import (
+	"math"
+	"sort"
+	"sync/atomic"
+
+	"gonum.org/v1/gonum/dsp/fourier"
+
+	"lodestone/compute/parallel"
+)
+
+// ExactRepulsion computes the repulsive sums of the layout y (interleaved
+// x0,y0,x1,y1,…, float64) exactly, over all pairs:
+//
+//	dst_i = Σ_{j≠i} w_ij² (y_i − y_j),   w_ij = 1 / (1 + |y_i − y_j|²)
+//	Z     = Σ_{i≠j} w_ij
+//
+// and returns Z. dst must have the length of y. The cost is O(N²); it is the
+// reference for the interpolated repulsion and is used for small layouts.
+// threads < 1 means all processors; the result is deterministic for a given
+// thread count.
+func ExactRepulsion(dst, y []float64, threads int) float64 {
+	n := len(y) / 2
+	threads = parallel.Threads(threads)
+	partial := make([]float64, threads)
+	parallel.For(n, threads, func(lo, hi, block int) {
+		var z float64
+		for i := lo; i < hi; i++ {
+			xi, yi := y[2*i], y[2*i+1]
+			var fx, fy, zi float64
+			for j := 0; j < n; j++ {
+				dx, dy := xi-y[2*j], yi-y[2*j+1]
+				w := 1 / (1 + dx*dx + dy*dy)
+				zi += w
+				w *= w
+				fx += w * dx
+				fy += w * dy
+			}
+			dst[2*i], dst[2*i+1] = fx, fy
+			z += zi - 1 // the j = i term has w = 1
+		}
+		partial[block] = z
+	})
+	var z float64
+	for _, v := range partial {
+		z += v
+	}
+	return z
+}
+
+// Settings of the interpolated repulsion, chosen by measuring the relative
+// error of the forces against ExactRepulsion on clustered and t-SNE layouts
+// of 5,000 points (repulsion_test.go): about 1e-4 to 3e-4 with these values,
+// against 3e-3 to 7e-3 for degree-2 interpolation in cells of width 1 and 3e-2
+// to 8e-2 for the grid alone at node spacing 1/3.
+const (
+	// interpNodes is the number of interpolation nodes per cell and axis,
+	// the cell's two ends included (polynomials of degree 4); neighbouring
+	// cells share nodes.
+	interpNodes = 5
+	// targetCells is the number of cells along the layout's longer side for
+	// small layouts; the cell width is rounded up from extent/targetCells to a
+	// power of 2^(1/8), so the kernel transforms are recomputed only after the
+	// layout has grown by 9 %.
+	targetCells = 8
+	// fineCellWidth is the width at or below which the grid alone is accurate
+	// (node spacing 1/8): no near-field correction.
+	fineCellWidth = 0.5
+	// nearBudget bounds the near-field pairs, per point on average; denser
+	// layouts get narrower cells instead (more grid, fewer pairs).
+	nearBudget = 400
+	// maxFFTLen caps the padded grid per axis; beyond it the cells widen with
+	// the layout and the accuracy of the far field degrades.
+	maxFFTLen = 4096
+	// stopEvery is how many points a loop handles between checks of stop.
+	stopEvery = 4096
+)
+
+// node counts per cell, as a constant for array sizes.
+const cellNodes = interpNodes * interpNodes
+
+// fftRepulsion computes the sums of ExactRepulsion in O(N) per call by
+// polynomial interpolation on a regular grid and FFT convolution (Linderman,
+// Rachh, Hoskins, Steinerberger & Kluger 2019), with the interactions of
+// nearby points precorrected (Phillips & White 1997).
+//
+// Kernels. Instead of spreading the four charges (1, y_x, y_y, |y|²) and
+// convolving each with w², it spreads the unit charge once and convolves it
+// with the three kernels
+//
+//	K_x(d) = d_x w(d)²,   K_y(d) = d_y w(d)²,   K_w(d) = w(d)
+//
+// which give Σ_j w_ij²(y_i − y_j) and Σ_j w_ij directly: the same sums with
+// one forward and three inverse transforms instead of four and four, and no
+// cancellation between y_i·Σw² and Σw²y_j in large layouts.
+//
+// Grid. The layout's bounding box is covered by square cells of width h;
+// each cell holds interpNodes × interpNodes equispaced nodes, its corners
+// included, so the nodes of all cells form one uniform grid of spacing
+// δ = h/(interpNodes−1). A point's charge is spread to the nodes of its cell
+// with the Lagrange weights L_a(x)·L_b(y), the node-to-node sums are a
+// discrete convolution done by zero-padded FFTs (gonum's real and complex
+// 1-D transforms along rows, then columns), and the potentials are
+// interpolated back with the same weights.
+//
+// Near field. Interpolation is accurate for pairs far apart compared with h,
+// but not for close pairs, whose kernel varies on a scale of 1. When
+// h > fineCellWidth, the grid's contribution between points of the same or
+// adjacent cells is subtracted — cell by cell, from the cells' own charges and
+// the node-to-node kernel between them — and replaced by the exact sum over
+// those pairs.
+//
+// The transforms of the kernels and the near-field blocks are computed once
+// per grid size and cell width and kept; all buffers are reused, so calls
+// allocate nothing once the grid has stopped growing.
+type fftRepulsion struct {
+	threads int
+
+	// Current grid: nx × ny cells of width h from (x0, y0); mx × my nodes at
+	// spacing delta, embedded in an lx × ly periodic grid.
+	h, delta, x0, y0 float64
+	nx, ny           int
+	mx, my, lx, ly   int
+	near             bool
+
+	// Kernel spectra for (lx, ly, kernelDelta), scaled by 1/(lx·ly), on the
+	// half spectrum: ly rows of lx/2+1. K_w's spectrum is real, those of the
+	// odd kernels K_x and K_y imaginary; only those parts are stored.
+	kernelDelta    float64
+	kw, kxIm, kyIm []float64
+	// Near-field blocks for blockH: for each cell offset o ∈ [−1,1]², kernel
+	// k and target and source nodes t, s of their cells,
+	// nearKernel[((o·3+k)·cellNodes+t)·cellNodes+s] = K_k(node_t − node_s − o·h).
+	blockH     float64
+	nearKernel []float64
+
+	// Per point: cell, Lagrange weights (x then y), and Σ_j w_ij.
+	cellOf   []int32
+	wts      []float64
+	zval     []float64
+	cellWork []int64 // near field only: cumulative work of cells 0…c−1
+
+	// Points sorted by cell (near field only): cell start offsets, point ids
+	// and their coordinates in that order.
+	start  []int32
+	order  []int32
+	sorted []float64
+	// Near field only: per cell, the charges on its nodes; cell boundaries
+	// of the parts handled by each thread; per part, accumulated sums for
+	// each sorted point.
+	cellQ []float64
+	parts []int
+	acc   []float64
+
+	charge []float64    // per block: my × mx spread charges
+	spec   []complex128 // ly × (lx/2+1)
+	half   []complex128 // 3 × my × (lx/2+1): rows needed after the column pass
+	pot    []float64    // 3 × my × mx potentials: K_x, K_y, K_w
+	zpart  []float64    // per block partial sums of Σ_j w_ij
+
+	workers []fftWorker
+}
+
+// fftWorker holds one goroutine's transforms and line buffers.
+type fftWorker struct {
+	rows    *fourier.FFT
+	cols    *fourier.CmplxFFT
+	line    []float64
+	col     []complex128
+	product []complex128
+}
+
+// newFFTRepulsion returns a repulsion engine for threads goroutines.
+func newFFTRepulsion(threads int) *fftRepulsion {
+	threads = parallel.Threads(threads)
+	return &fftRepulsion{threads: threads, workers: make([]fftWorker, threads), zpart: make([]float64, threads)}
+}
+
+// lagrange returns the weights of the interpNodes nodes t_a = a/(interpNodes−1)
+// of the interval [0, 1] for interpolation at t:
+//
+//	L_a(t) = Π_{b≠a} (t − t_b) / (t_a − t_b)
+func lagrange(t float64) [interpNodes]float64 {
+	var w [interpNodes]float64
+	const d = interpNodes - 1
+	for a := 0; a < interpNodes; a++ {
+		num, den := 1.0, 1.0
+		for b := 0; b < interpNodes; b++ {
+			if b != a {
+				num *= t - float64(b)/d
+				den *= float64(a-b) / d
+			}
+		}
+		w[a] = num / den
+	}
+	return w
+}
+
+// goodFFTLen returns the smallest even n ≥ min whose only prime factors are
+// 2, 3 and 5, the lengths the FFT handles fastest.
+func goodFFTLen(min int) int {
+	for n := max(min, 2); ; n++ {
+		if n%2 != 0 {
+			continue
+		}
+		m := n
+		for _, f := range []int{2, 3, 5} {
+			for m%f == 0 {
+				m /= f
+			}
+		}
+		if m == 1 {
+			return n
+		}
+	}
+}
+
+// ladder rounds v > 0 up to a power of 2^(1/8).
+func ladder(v float64) float64 {
+	return math.Exp2(math.Ceil(8*math.Log2(v)) / 8)
+}
+
+// kernel returns K_x, K_y and K_w at offset (dx, dy).
+func kernel(dx, dy float64) (float64, float64, float64) {
+	w := 1 / (1 + dx*dx + dy*dy)
+	return dx * w * w, dy * w * w, w
+}
+
+// compute writes the interpolated repulsive sums Σ_j w_ij²(y_i − y_j) of the
+// layout y to dst and returns Z = Σ_{i≠j} w_ij. bounds is the layout's
+// bounding box (xmin, xmax, ymin, ymax). It returns false, leaving dst
+// partly written, when stop reports true part-way.
+func (r *fftRepulsion) compute(dst, y []float64, bounds [4]float64, stop func() bool) (float64, bool) {
+	n := len(y) / 2
+	r.setGrid(y, bounds)
+	if !r.spread(n, stop) || !r.convolve(stop) {
+		return 0, false
+	}
+	var ok bool
+	if r.near {
+		ok = r.interpolateNear(dst, y, stop)
+	} else {
+		ok = r.interpolate(dst, stop)
+	}
+	if !ok {
+		return 0, false
+	}
+	// Σ_i Σ_j w_ij, summed per block in block order.
+	clear(r.zpart)
+	parallel.For(n, r.threads, func(lo, hi, block int) {
+		var z float64
+		for _, v := range r.zval[lo:hi] {
+			z += v
+		}
+		r.zpart[block] = z
+	})
+	var z float64
+	for _, v := range r.zpart {
+		z += v
+	}
+	return z - float64(n), true
+}
+
+// setGrid chooses the cells for the layout y with the given bounding box,
+// locates every point, and, when the near field is corrected, sorts the
+// points by cell. It prepares the kernel spectra and buffers.
+func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
+	const d = interpNodes - 1
+	n := len(y) / 2
+	ex, ey := bounds[1]-bounds[0], bounds[3]-bounds[2]
+	extent := max(ex, ey, 1e-150)
+	// Start from the width at which a layout of uniform density over its
+	// bounding box would have nearBudget near pairs per point, at most
+	// extent/targetCells; denser spots narrow it further below.
+	area := max(ex*ey, extent*extent/float64(targetCells*targetCells))
+	h := ladder(min(extent/targetCells, math.Sqrt(nearBudget*area/(9*float64(n)))))
+	if cells := int(math.Ceil(extent / h)); 2*(cells*d+1) > maxFFTLen {
+		h = ladder(extent / float64((maxFFTLen/2-1)/d))
+	}
+	r.cellOf = grow32(r.cellOf, n)
+	r.wts = grow(r.wts, 2*interpNodes*n)
+	r.zval = grow(r.zval, n)
+	for {
+		r.h, r.delta, r.x0, r.y0 = h, h/d, bounds[0], bounds[2]
+		r.nx, r.ny = max(1, int(math.Ceil(ex/h))), max(1, int(math.Ceil(ey/h)))
+		r.near = h > fineCellWidth
+		r.locate(y)
+		if !r.near {
+			break
+		}
+		// Narrower cells when the near field would cost too much and the
+		// grid can still grow.
+		if work := r.bin(y); work <= int64(nearBudget)*int64(n) ||
+			2*(2*max(r.nx, r.ny)*d+1) > maxFFTLen {
+			break
+		}
+		h = ladder(h * 0.8)
+	}
+	r.mx, r.my = r.nx*d+1, r.ny*d+1
+	lx, ly := goodFFTLen(2*r.mx), goodFFTLen(2*r.my)
+	if lx != r.lx || ly != r.ly || r.delta != r.kernelDelta {
+		r.lx, r.ly = lx, ly
+		r.resize()
+		r.kernelSpectra()
+	}
+	if r.near && r.h != r.blockH {
+		r.nearBlocks()
+	}
+	r.charge = grow(r.charge, r.threads*r.mx*r.my)
+	r.pot = grow(r.pot, 3*r.mx*r.my)
+	r.half = growComplex(r.half, 3*r.my*(r.lx/2+1))
+}
+
+// locate records each point's cell and Lagrange weights.
+func (r *fftRepulsion) locate(y []float64) {
+	n := len(y) / 2
+	parallel.For(n, r.threads, func(lo, hi, _ int) {
+		for i := lo; i < hi; i++ {
+			cx, wx := r.axis(y[2*i], r.x0, r.nx)
+			cy, wy := r.axis(y[2*i+1], r.y0, r.ny)
+			r.cellOf[i] = int32(cy*r.nx + cx)
+			w := r.wts[2*interpNodes*i:]
+			copy(w[:interpNodes], wx[:])
+			copy(w[interpNodes:2*interpNodes], wy[:])
+		}
+	})
+}
+
+// axis returns the cell along one axis that holds coordinate v and the
+// Lagrange weights of its nodes.
+func (r *fftRepulsion) axis(v, origin float64, cells int) (int, [interpNodes]float64) {
+	u := (v - origin) / r.h
+	k := min(max(int(math.Floor(u)), 0), cells-1)
+	return k, lagrange(u - float64(k))
+}
+
+// bin sorts the points by cell (counting sort, stable in point id) and
+// returns the number of near-field pairs: Σ_c n_c Σ_{c' adjacent or equal} n_c'.
+func (r *fftRepulsion) bin(y []float64) int64 {
+	n, cells := len(y)/2, r.nx*r.ny
+	r.start = grow32(r.start, cells+1)
+	clear(r.start)
+	for _, c := range r.cellOf[:n] {
+		r.start[c+1]++
+	}
+	for c := 0; c < cells; c++ {
+		r.start[c+1] += r.start[c]
+	}
+	// Work per cell: its pairs with the cells around it, plus the fixed
+	// cost of its node potentials (worth about 4·cellNodes pairs).
+	r.cellWork = grow64(r.cellWork, cells+1)
+	var work, total int64
+	for cy := 0; cy < r.ny; cy++ {
+		for cx := 0; cx < r.nx; cx++ {
+			c := cy*r.nx + cx
+			cnt := int64(r.start[c+1] - r.start[c])
+			var cost int64
+			if cnt > 0 {
+				var around int64
+				for oy := max(cy-1, 0); oy <= min(cy+1, r.ny-1); oy++ {
+					lo, hi := oy*r.nx+max(cx-1, 0), oy*r.nx+min(cx+1, r.nx-1)
+					around += int64(r.start[hi+1] - r.start[lo])
+				}
+				work += cnt * around
+				cost = cnt*around/2 + 4*cellNodes
+			}
+			total += cost
+			r.cellWork[c+1] = total
+		}
+	}
+	// Contiguous parts of about equal work, one per thread.
+	r.parts = r.parts[:0]
+	r.parts = append(r.parts, 0)
+	for p := 1; p < r.threads; p++ {
+		goal := total * int64(p) / int64(r.threads)
+		c := sort.Search(cells, func(c int) bool { return r.cellWork[c+1] >= goal })
+		r.parts = append(r.parts, max(c, r.parts[len(r.parts)-1]))
+	}
+	r.parts = append(r.parts, cells)
+	r.order = grow32(r.order, n)
+	r.sorted = grow(r.sorted, 2*n)
+	next := r.start[:cells] // reuse as fill cursors, then restore
+	for i := 0; i < n; i++ {
+		c := r.cellOf[i]
+		k := next[c]
+		r.order[k] = int32(i)
+		r.sorted[2*k], r.sorted[2*k+1] = y[2*i], y[2*i+1]
+		next[c]++
+	}
+	// next[c] now holds the end of cell c, the start of c+1: shift back.
+	copy(r.start[1:], r.start[:cells])
+	r.start[0] = 0
+	return work
+}
+
+// resize makes the per-size buffers and transforms fit lx × ly.
+func (r *fftRepulsion) resize() {
+	hw := r.lx/2 + 1
+	r.spec = growComplex(r.spec, r.ly*hw)
+	r.kw = grow(r.kw, r.ly*hw)
+	r.kxIm = grow(r.kxIm, r.ly*hw)
+	r.kyIm = grow(r.kyIm, r.ly*hw)
+	for w := range r.workers {
+		wk := &r.workers[w]
+		if wk.rows == nil {
+			wk.rows, wk.cols = fourier.NewFFT(r.lx), fourier.NewCmplxFFT(r.ly)
+		} else {
+			if wk.rows.Len() != r.lx {
+				wk.rows.Reset(r.lx)
+			}
+			if wk.cols.Len() != r.ly {
+				wk.cols.Reset(r.ly)
+			}
+		}
+		wk.line = grow(wk.line, r.lx)
+		wk.col = growComplex(wk.col, r.ly)
+		wk.product = growComplex(wk.product, r.ly)
+	}
+}
+
+// kernelSpectra computes the transforms of K_x, K_y and K_w sampled at the
+// node offsets of the current grid, wrapped onto the lx × ly periodic grid.
+func (r *fftRepulsion) kernelSpectra() {
+	r.kernelDelta = r.delta
+	lx, ly, hw := r.lx, r.ly, r.lx/2+1
+	offset := func(i, l int) float64 {
+		if i > l/2 {
+			i -= l
+		}
+		return float64(i) * r.delta
+	}
+	for k, dst := range [][]float64{r.kxIm, r.kyIm, r.kw} {
+		// Rows of the kernel, transformed along x into spec.
+		parallel.For(ly, r.threads, func(lo, hi, block int) {
+			wk := &r.workers[block]
+			for row := lo; row < hi; row++ {
+				dy := offset(row, ly)
+				for col := 0; col < lx; col++ {
+					kx, ky, kw := kernel(offset(col, lx), dy)
+					wk.line[col] = [3]float64{kx, ky, kw}[k]
+					// The Nyquist offsets ±l/2 share one sample; leaving them
+					// zero keeps the odd kernels exactly odd. (The convolution
+					// never uses offsets beyond ±(l/2 − 1).)
+					if col == lx/2 || row == ly/2 {
+						wk.line[col] = 0
+					}
+				}
+				wk.rows.Coefficients(r.spec[row*hw:(row+1)*hw], wk.line)
+			}
+		})
+		scale := 1 / float64(lx*ly)
+		parallel.For(hw, r.threads, func(lo, hi, block int) {
+			wk := &r.workers[block]
+			for c := lo; c < hi; c++ {
+				for row := 0; row < ly; row++ {
+					wk.col[row] = r.spec[row*hw+c]
+				}
+				wk.cols.Coefficients(wk.col, wk.col)
+				for row := 0; row < ly; row++ {
+					if k == 2 {
+						dst[row*hw+c] = real(wk.col[row]) * scale
+					} else {
+						dst[row*hw+c] = imag(wk.col[row]) * scale
+					}
+				}
+			}
+		})
+	}
+}
+
+// nearBlocks computes the node-to-node kernels between a cell and its nine
+// neighbours (itself included) for the current cell width.
+func (r *fftRepulsion) nearBlocks() {
+	r.blockH = r.h
+	r.nearKernel = grow(r.nearKernel, 9*3*cellNodes*cellNodes)
+	for o := 0; o < 9; o++ {
+		ox, oy := float64(o%3-1), float64(o/3-1)
+		for t := 0; t < cellNodes; t++ {
+			for s := 0; s < cellNodes; s++ {
+				// Target node t of cell c, source node s of cell c + o.
+				dx := float64(t%interpNodes-s%interpNodes)*r.delta - ox*r.h
+				dy := float64(t/interpNodes-s/interpNodes)*r.delta - oy*r.h
+				kx, ky, kw := kernel(dx, dy)
+				for k, v := range [3]float64{kx, ky, kw} {
+					r.nearKernel[((o*3+k)*cellNodes+t)*cellNodes+s] = v
+				}
+			}
+		}
+	}
+}
+
+// spread adds each point's unit charge to the nodes of its cell, with the
+// Lagrange weights as coefficients, on one grid per block, then sums the
+// block grids into the first in block order.
+func (r *fftRepulsion) spread(n int, stop func() bool) bool {
+	const d = interpNodes - 1
+	mx, cells := r.mx, r.mx*r.my
+	bounds := parallel.Blocks(n, r.threads)
+	var stopped atomic.Bool
+	parallel.For(n, r.threads, func(lo, hi, block int) {
+		grid := r.charge[block*cells : (block+1)*cells]
+		clear(grid)
+		for i := lo; i < hi; i++ {
+			if (i-lo)%stopEvery == stopEvery-1 && stop() {
+				stopped.Store(true)
+				return
+			}
+			c := int(r.cellOf[i])
+			base := (c/r.nx)*d*mx + (c%r.nx)*d
+			w := r.wts[2*interpNodes*i:]
+			for b := 0; b < interpNodes; b++ {
+				row := grid[base+b*mx:]
+				wy := w[interpNodes+b]
+				for a := 0; a < interpNodes; a++ {
+					row[a] += wy * w[a]
+				}
+			}
+		}
+	})
+	if stopped.Load() {
+		return false
+	}
+	blocks := len(bounds) - 1
+	parallel.For(cells, r.threads, func(lo, hi, _ int) {
+		sum := r.charge[lo:hi]
+		for b := 1; b < blocks; b++ {
+			part := r.charge[b*cells+lo : b*cells+hi]
+			for c := range sum {
+				sum[c] += part[c]
+			}
+		}
+	})
+	return true
+}
+
+// convolve transforms the charge grid, multiplies by the three kernel
+// spectra and transforms back, leaving the potentials in r.pot.
+func (r *fftRepulsion) convolve(stop func() bool) bool {
+	mx, my, ly, hw := r.mx, r.my, r.ly, r.lx/2+1
+	// Rows: real transforms of the my charged rows; the others are zero.
+	parallel.For(my, r.threads, func(lo, hi, block int) {
+		wk := &r.workers[block]
+		clear(wk.line[mx:])
+		for row := lo; row < hi; row++ {
+			copy(wk.line, r.charge[row*mx:(row+1)*mx])
+			wk.rows.Coefficients(r.spec[row*hw:(row+1)*hw], wk.line)
+		}
+	})
+	clear(r.spec[my*hw:])
+	if stop() {
+		return false
+	}
+	// Columns: forward transform, then for each kernel the product and its
+	// inverse, of which only the first my rows are kept.
+	cells := my * hw
+	parallel.For(hw, r.threads, func(lo, hi, block int) {
+		wk := &r.workers[block]
+		for c := lo; c < hi; c++ {
+			for row := 0; row < ly; row++ {
+				wk.col[row] = r.spec[row*hw+c]
+			}
+			wk.cols.Coefficients(wk.col, wk.col)
+			for k := 0; k < 3; k++ {
+				for row := 0; row < ly; row++ {
+					v := wk.col[row]
+					switch k {
+					case 0: // multiply by i·Im K̂_x
+						s := r.kxIm[row*hw+c]
+						wk.product[row] = complex(-imag(v)*s, real(v)*s)
+					case 1:
+						s := r.kyIm[row*hw+c]
+						wk.product[row] = complex(-imag(v)*s, real(v)*s)
+					case 2:
+						s := r.kw[row*hw+c]
+						wk.product[row] = complex(real(v)*s, imag(v)*s)
+					}
+				}
+				wk.cols.Sequence(wk.product, wk.product)
+				out := r.half[k*cells:]
+				for row := 0; row < my; row++ {
+					out[row*hw+c] = wk.product[row]
+				}
+			}
+		}
+	})
+	if stop() {
+		return false
+	}
+	// Rows: inverse real transforms of the rows that hold nodes.
+	parallel.For(3*my, r.threads, func(lo, hi, block int) {
+		wk := &r.workers[block]
+		for kr := lo; kr < hi; kr++ {
+			wk.rows.Sequence(wk.line, r.half[kr*hw:(kr+1)*hw])
+			copy(r.pot[kr*mx:(kr+1)*mx], wk.line[:mx])
+		}
+	})
+	return true
+}
+
+// interpolate evaluates the three potentials at each point with the same
+// Lagrange weights used to spread, writing the repulsive sums to dst and
+// Σ_j w_ij to r.zval.
+func (r *fftRepulsion) interpolate(dst []float64, stop func() bool) bool {
+	const d = interpNodes - 1
+	n, mx, cells := len(dst)/2, r.mx, r.mx*r.my
+	pot := r.pot[:3*cells]
+	var stopped atomic.Bool
+	parallel.For(n, r.threads, func(lo, hi, _ int) {
+		for i := lo; i < hi; i++ {
+			if (i-lo)%stopEvery == stopEvery-1 && stop() {
+				stopped.Store(true)
+				return
+			}
+			c := int(r.cellOf[i])
+			base := (c/r.nx)*d*mx + (c%r.nx)*d
+			w := r.wts[2*interpNodes*i:]
+			var f [3]float64
+			for b := 0; b < interpNodes; b++ {
+				wy := w[interpNodes+b]
+				for a := 0; a < interpNodes; a++ {
+					wt, node := wy*w[a], base+b*mx+a
+					f[0] += wt * pot[node]
+					f[1] += wt * pot[cells+node]
+					f[2] += wt * pot[2*cells+node]
+				}
+			}
+			dst[2*i], dst[2*i+1], r.zval[i] = f[0], f[1], f[2]
+		}
+	})
+	return !stopped.Load()
+}
+
+// interpolateNear is interpolate with the near field precorrected. For each
+// occupied cell c: the potentials on its nodes less the grid's contribution
+// from the charges of cells c + o, o ∈ [−1,1]², interpolated to its points;
+// plus the exact sums over the pairs of points in those cells, each pair
+// visited once (c with itself and with its four forward neighbours) and
+// added to both points. The cells are split into one contiguous part per
+// thread with about equal work; each part accumulates into its own arrays,
+// which are summed in part order.
+func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool {
+	const d = interpNodes - 1
+	n, nx, ny, mx, grid := len(y)/2, r.nx, r.ny, r.mx, r.mx*r.my
+	cells := nx * ny
+	parts := len(r.parts) - 1
+	r.cellQ = grow(r.cellQ, cells*cellNodes)
+	r.acc = grow(r.acc, parts*3*n)
+	// Charges of each occupied cell on its own nodes.
+	parallel.For(parts, parts, func(lo, hi, _ int) {
+		for p := lo; p < hi; p++ {
+			for c := r.parts[p]; c < r.parts[p+1]; c++ {
+				q := (*[cellNodes]float64)(r.cellQ[c*cellNodes:])
+				*q = [cellNodes]float64{}
+				for k := r.start[c]; k < r.start[c+1]; k++ {
+					w := r.wts[2*interpNodes*int(r.order[k]):]
+					for t := range q {
+						q[t] += w[interpNodes+t/interpNodes] * w[t%interpNodes]
+					}
+				}
+			}
+		}
+	})
+	if stop() {
+		return false
+	}
+	var stopped atomic.Bool
+	parallel.For(parts, parts, func(lo, hi, _ int) {
+		for p := lo; p < hi; p++ {
+			acc := r.acc[p*3*n : (p+1)*3*n]
+			clear(acc)
+			for c := r.parts[p]; c < r.parts[p+1]; c++ {
+				if c%64 == 0 && stop() {
+					stopped.Store(true)
+					return
+				}
+				if r.start[c] == r.start[c+1] {
+					continue
+				}
+				cx, cy := c%nx, c/nx
+				// v = grid potentials on the cell's nodes − the near part.
+				var v [3][cellNodes]float64
+				base := cy*d*mx + cx*d
+				for k := range v {
+					for t := range v[k] {
+						v[k][t] = r.pot[k*grid+base+(t/interpNodes)*mx+t%interpNodes]
+					}
+				}
+				for o := 0; o < 9; o++ {
+					sx, sy := cx+o%3-1, cy+o/3-1
+					if sx < 0 || sx >= nx || sy < 0 || sy >= ny {
+						continue
+					}
+					src := sy*nx + sx
+					if r.start[src] == r.start[src+1] {
+						continue
+					}
+					q := (*[cellNodes]float64)(r.cellQ[src*cellNodes:])
+					for k := range v {
+						blk := r.nearKernel[(o*3+k)*cellNodes*cellNodes:]
+						for t := range v[k] {
+							row := (*[cellNodes]float64)(blk[t*cellNodes:])
+							var s float64
+							for u := range row {
+								s += row[u] * q[u]
+							}
+							v[k][t] -= s
+						}
+					}
+				}
+				for k := r.start[c]; k < r.start[c+1]; k++ {
+					w := r.wts[2*interpNodes*int(r.order[k]):]
+					var f [3]float64
+					for t := 0; t < cellNodes; t++ {
+						wt := w[interpNodes+t/interpNodes] * w[t%interpNodes]
+						f[0] += wt * v[0][t]
+						f[1] += wt * v[1][t]
+						f[2] += wt * v[2][t]
+					}
+					a := acc[3*k : 3*k+3]
+					a[0] += f[0]
+					a[1] += f[1]
+					a[2] += f[2] + 1 // the exact self term, w_ii = 1
+				}
+				// Exact pairs: within the cell, then with the forward neighbours.
+				r.pairs(acc, r.start[c], r.start[c+1], r.start[c], r.start[c+1], true)
+				for _, o := range [4][2]int{{1, 0}, {-1, 1}, {0, 1}, {1, 1}} {
+					sx, sy := cx+o[0], cy+o[1]
+					if sx < 0 || sx >= nx || sy >= ny {
+						continue
+					}
+					src := sy*nx + sx
+					r.pairs(acc, r.start[c], r.start[c+1], r.start[src], r.start[src+1], false)
+				}
+			}
+		}
+	})
+	if stopped.Load() {
+		return false
+	}
+	parallel.For(n, r.threads, func(lo, hi, _ int) {
+		for k := lo; k < hi; k++ {
+			var f [3]float64
+			for p := 0; p < parts; p++ {
+				a := r.acc[p*3*n+3*k:]
+				f[0] += a[0]
+				f[1] += a[1]
+				f[2] += a[2]
+			}
+			i := r.order[k]
+			dst[2*i], dst[2*i+1], r.zval[i] = f[0], f[1], f[2]
+		}
+	})
+	return true
+}
+
+// pairs adds the exact kernel sums between the sorted points [alo, ahi) and
+// [blo, bhi) to acc (three values per sorted point), each pair once to both
+// points. With same, the two ranges are one cell and only pairs a < b count.
+func (r *fftRepulsion) pairs(acc []float64, alo, ahi, blo, bhi int32, same bool) {
+	pts := r.sorted
+	for a := alo; a < ahi; a++ {
+		xa, ya := pts[2*a], pts[2*a+1]
+		var fx, fy, fw float64
+		from := blo
+		if same {
+			from = a + 1
+		}
+		for b := from; b < bhi; b++ {
+			dx, dy := xa-pts[2*b], ya-pts[2*b+1]
+			w := 1 / (1 + dx*dx + dy*dy)
+			w2 := w * w
+			gx, gy := w2*dx, w2*dy
+			fx += gx
+			fy += gy
+			fw += w
+			ab := acc[3*b : 3*b+3]
+			ab[0] -= gx
+			ab[1] -= gy
+			ab[2] += w
+		}
+		aa := acc[3*a : 3*a+3]
+		aa[0] += fx
+		aa[1] += fy
+		aa[2] += fw
+	}
+}
+
+// grow returns s resized to n, reallocating only when its capacity is short.
+func grow(s []float64, n int) []float64 {
+	if cap(s) < n {
+		return make([]float64, n)
+	}
+	return s[:n]
+}
+
+// grow64 is grow for int64 slices.
+func grow64(s []int64, n int) []int64 {
+	if cap(s) < n {
+		return make([]int64, n)
+	}
+	return s[:n]
+}
+
+// grow32 is grow for int32 slices.
+func grow32(s []int32, n int) []int32 {
+	if cap(s) < n {
+		return make([]int32, n)
+	}
+	return s[:n]
+}
+
+// growComplex is grow for complex slices.
+func growComplex(s []complex128, n int) []complex128 {
+	if cap(s) < n {
+		return make([]complex128, n)
+	}
+	return s[:n]
+}

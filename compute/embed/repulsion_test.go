@@ -1,0 +1,153 @@
+package embed
+
+import (
+	"context"
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"lodestone/compute/synth"
+)
+
+// clusteredLayout returns n points in seven Gaussian clusters spread over a
+// square of side about extent, like a t-SNE map of a few groups.
+func clusteredLayout(n int, extent float64, seed uint64) []float64 {
+	rng := rand.New(rand.NewPCG(seed, 2))
+	const clusters = 7
+	var cx, cy, sd [clusters]float64
+	for c := range cx {
+		cx[c], cy[c] = (rng.Float64()-0.5)*extent*0.8, (rng.Float64()-0.5)*extent*0.8
+		sd[c] = extent * (0.02 + 0.05*rng.Float64())
+	}
+	y := make([]float64, 2*n)
+	for i := 0; i < n; i++ {
+		c := rng.IntN(clusters)
+		y[2*i] = cx[c] + sd[c]*rng.NormFloat64()
+		y[2*i+1] = cy[c] + sd[c]*rng.NormFloat64()
+	}
+	return y
+}
+
+// bbox returns xmin, xmax, ymin, ymax of an interleaved layout.
+func bbox(y []float64) [4]float64 {
+	b := [4]float64{math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)}
+	for i := 0; i < len(y); i += 2 {
+		b[0], b[1] = min(b[0], y[i]), max(b[1], y[i])
+		b[2], b[3] = min(b[2], y[i+1]), max(b[3], y[i+1])
+	}
+	return b
+}
+
+func never() bool { return false }
+
+// tsneLayout returns a t-SNE map of 5,000 points of a 10-D Gaussian mixture
+// after the early phase and 250 further iterations: the dense, tightly
+// clustered kind of layout the repulsion meets in practice.
+func tsneLayout(t *testing.T) []float64 {
+	t.Helper()
+	x, _ := synth.GaussianMixture(5000, 10, 12, 1)
+	P := affinityOf(t, x, 30)
+	p := DefaultParams()
+	p.Iterations = 500
+	layout, err := Run(context.Background(), P, nil, p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	y, _ := toFloat64(layout, "layout")
+	return y
+}
+
+// TestFFTRepulsionAgainstExact compares the interpolated repulsion with the
+// exact O(N²) sums of ExactRepulsion at 5,000 points: the relative error of
+// the forces, ‖F_fft − F_exact‖ / ‖F_exact‖ over all points, and of Z must
+// stay within 1e-3 (the accuracy the method is meant to deliver; Linderman et
+// al. 2019) on clustered layouts of extent 10 to 100, on a t-SNE map, and on a
+// tiny layout of extent 1e-3 as at initialisation.
+func TestFFTRepulsionAgainstExact(t *testing.T) {
+	const n = 5000
+	cases := []struct {
+		name string
+		y    []float64
+	}{
+		{"clusters, extent 100", clusteredLayout(n, 100, 2)},
+		{"clusters, extent 50", clusteredLayout(n, 50, 1)},
+		{"clusters, extent 10", clusteredLayout(n, 10, 3)},
+		{"tiny, extent 1e-3", clusteredLayout(n, 1e-3, 4)},
+		{"t-SNE map", tsneLayout(t)},
+	}
+	for _, c := range cases {
+		exact := make([]float64, 2*n)
+		zExact := ExactRepulsion(exact, c.y, 0)
+		r := newFFTRepulsion(0)
+		got := make([]float64, 2*n)
+		z, ok := r.compute(got, c.y, bbox(c.y), never)
+		if !ok {
+			t.Fatal("stopped without being asked")
+		}
+		var num, den float64
+		for i := range got {
+			num += (got[i] - exact[i]) * (got[i] - exact[i])
+			den += exact[i] * exact[i]
+		}
+		b := bbox(c.y)
+		fErr, zErr := math.Sqrt(num/den), math.Abs(z-zExact)/zExact
+		t.Logf("%s (%.3g × %.3g): cells %d×%d of width %.3g, FFT %d×%d, near field %v: force error %.2e, Z error %.2e",
+			c.name, b[1]-b[0], b[3]-b[2], r.nx, r.ny, r.h, r.lx, r.ly, r.near, fErr, zErr)
+		if fErr > 1e-3 || zErr > 1e-3 {
+			t.Errorf("%s: force error %.2e, Z error %.2e; want ≤ 1e-3", c.name, fErr, zErr)
+		}
+	}
+}
+
+// TestFFTRepulsionOnNodes checks the convolution itself: when every point
+// sits on a grid node the interpolation is exact, so the result must equal
+// ExactRepulsion to rounding (exact slow computation as reference).
+func TestFFTRepulsionOnNodes(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 5))
+	const n = 1500
+	r := newFFTRepulsion(0)
+	// A layout of extent 2 uses the grid alone with 8 cells of width 1/4
+	// (a power of 2^(1/8), so not rounded); nodes lie 1/16 apart.
+	y := make([]float64, 2*n)
+	y[0], y[1], y[2], y[3] = 0, 0, 2, 2
+	for i := 4; i < len(y); i++ {
+		y[i] = float64(rng.IntN(33)) / 16
+	}
+	exact := make([]float64, 2*n)
+	zExact := ExactRepulsion(exact, y, 0)
+	got := make([]float64, 2*n)
+	z, _ := r.compute(got, y, bbox(y), never)
+	if r.near || r.delta != 1.0/16 {
+		t.Fatalf("grid: near %v, node spacing %g; the test expects the grid alone at spacing 1/16", r.near, r.delta)
+	}
+	for i := range got {
+		if math.Abs(got[i]-exact[i]) > 1e-9*(1+math.Abs(exact[i])) {
+			t.Fatalf("component %d: %g, exact %g", i, got[i], exact[i])
+		}
+	}
+	if math.Abs(z-zExact) > 1e-9*zExact {
+		t.Fatalf("Z = %g, exact %g", z, zExact)
+	}
+}
+
+// TestFFTRepulsionDeterministic checks that repeated calls, also after the
+// grid has changed size, give identical results (common practice for
+// reproducible parallel code).
+func TestFFTRepulsionDeterministic(t *testing.T) {
+	a, b := clusteredLayout(3000, 40, 7), clusteredLayout(3000, 90, 8)
+	r := newFFTRepulsion(3)
+	first := make([]float64, len(a))
+	z1, _ := r.compute(first, a, bbox(a), never)
+	other := make([]float64, len(b))
+	r.compute(other, b, bbox(b), never)
+	again := make([]float64, len(a))
+	z2, _ := r.compute(again, a, bbox(a), never)
+	if z1 != z2 {
+		t.Fatalf("Z changed between identical calls: %v, %v", z1, z2)
+	}
+	for i := range first {
+		if first[i] != again[i] {
+			t.Fatalf("component %d changed between identical calls", i)
+		}
+	}
+}
