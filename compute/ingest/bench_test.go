@@ -116,7 +116,7 @@ func writeBenchFiles(ordered, shuffled, gzipped string) error {
 	return write(shuffled, es, false)
 }
 
-// peakHeap samples the heap in use every few milliseconds until stopped.
+// peakHeap samples the heap in use every 10 ms until stopped.
 type peakHeap struct {
 	peak atomic.Uint64
 	stop chan struct{}
@@ -131,7 +131,7 @@ func startPeakHeap() *peakHeap {
 	go func() {
 		defer p.done.Done()
 		sample := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
-		t := time.NewTicker(50 * time.Millisecond)
+		t := time.NewTicker(10 * time.Millisecond)
 		defer t.Stop()
 		for {
 			metrics.Read(sample)
