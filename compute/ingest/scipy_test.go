@@ -40,16 +40,20 @@ func TestMatrixMarketReadsScipyOutput(t *testing.T) {
 	// Reference: scipy.io.mmwrite writes random sparse matrices (integer
 	// and real, entries in random, row and column order); each must read
 	// back equal, entry by entry, to what scipy.io.mmread reads from the
-	// same file, rounded to float32.
+	// same file, rounded to float32. The published example of NISTIR 5935
+	// is checked the same way.
 	needScipy(t)
 	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "nist.mtx"), []byte(nistExample), 0o644); err != nil {
+		t.Fatal(err)
+	}
 	out := runMMCheck(t, "write", dir)
 	if strings.Contains(out, "FAIL") {
 		t.Fatalf("mmcheck.py write:\n%s", out)
 	}
 	t.Logf("mmcheck.py write: %s", strings.TrimSpace(out))
 	names, _ := filepath.Glob(filepath.Join(dir, "*.mtx"))
-	if len(names) < 6 {
+	if len(names) < 7 {
 		t.Fatalf("%d matrices written", len(names))
 	}
 	for _, path := range names {

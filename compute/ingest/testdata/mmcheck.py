@@ -1,9 +1,10 @@
 """Matrix Market cross-checks against scipy.io, run by scipy_test.go.
 
     mmcheck.py write DIR   writes random sparse matrices with scipy.io.mmwrite
-                           (DIR/NAME.mtx) and, for each, the matrix as scipy.io.mmread
-                           reads it back, dense, float64 little-endian (DIR/NAME.f64)
-                           with its shape (DIR/NAME.shape: "rows cols")
+                           (DIR/NAME.mtx) and, for each, and for any other .mtx file
+                           already in DIR, the matrix as scipy.io.mmread reads it,
+                           dense, float64 little-endian (DIR/NAME.f64) with its shape
+                           (DIR/NAME.shape: "rows cols")
     mmcheck.py check DIR   reads every DIR/NAME.mtx written by Lodestone with
                            scipy.io.mmread and compares it with DIR/NAME.f32 (dense
                            float32 little-endian, shape in DIR/NAME.shape); prints
@@ -18,7 +19,18 @@ import scipy.io
 import scipy.sparse
 
 
+def dense(d, name):
+    back = scipy.io.mmread(os.path.join(d, name + ".mtx"))
+    np.ascontiguousarray(back.toarray(), dtype="<f8").tofile(os.path.join(d, name + ".f64"))
+    with open(os.path.join(d, name + ".shape"), "w") as f:
+        f.write("%d %d\n" % back.shape)
+    return back
+
+
 def write(d):
+    given = [fn[:-4] for fn in os.listdir(d) if fn.endswith(".mtx")]
+    for name in given:
+        dense(d, name)
     rng = np.random.default_rng(20240611)
     cases = []
     # Integer counts, entries in random order (COO as scipy.sparse.random makes it).
@@ -45,15 +57,12 @@ def write(d):
     for name, m, field in cases:
         path = os.path.join(d, name + ".mtx")
         scipy.io.mmwrite(path, m, field=field, symmetry="general")
-        back = scipy.io.mmread(path)
+        back = dense(d, name)
         ref = m.toarray().astype(np.float64)
         # mmwrite keeps 16 significant digits of float64 data, 8 of float32.
         rtol = 1e-7 if m.dtype == np.float32 else 1e-15
         if not np.allclose(back.toarray(), ref, rtol=rtol, atol=0):
             print("FAIL %s: scipy does not read back what it wrote" % name)
-        np.ascontiguousarray(back.toarray(), dtype="<f8").tofile(os.path.join(d, name + ".f64"))
-        with open(os.path.join(d, name + ".shape"), "w") as f:
-            f.write("%d %d\n" % m.shape)
     print("scipy", scipy.__version__)
 
 
