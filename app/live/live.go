@@ -54,12 +54,40 @@ type Status struct {
 	Runs       int           // how many runs were started
 }
 
+// StepKind says how a step of the history moved the map.
+type StepKind string
+
+// The kinds of steps.
+const (
+	Fresh    StepKind = "fresh"    // from the initial layout, with early exaggeration
+	Warm     StepKind = "warm"     // from the layout on screen, without early exaggeration
+	Spectral StepKind = "spectral" // a glide from the layout on screen to the spectral layout
+)
+
+// Step is one run in the history of the map on screen. Replaying the steps
+// in order from the initial layout reproduces the layout bit for bit (for
+// the same seed and thread count): each step starts where the previous one
+// was shown when it was stopped or turned away from.
+type Step struct {
+	Kind       StepKind `json:"kind"`
+	Attraction float64  `json:"attraction"` // +Inf for Spectral
+	Iterations int      `json:"iterations"` // planned
+	// Done is the number of iterations (glide frames for Spectral) whose
+	// result was on screen when the step ended.
+	Done int `json:"done"`
+	// Setting is the optimiser's setting in force (the window stores the
+	// perplexity of the affinities).
+	Setting float64 `json:"setting"`
+}
+
 // Engine runs an Optimizer in the background. The zero value is not usable;
 // call New.
 type Engine struct {
 	opt     Optimizer
+	setting float64
 	initial []float32
 	onFrame func()
+	history []Step
 
 	mu     sync.Mutex
 	layout []float32
@@ -72,10 +100,11 @@ type Engine struct {
 // New returns an engine showing initial until its first run. onFrame, when
 // not nil, is called from the run's goroutine after each new frame and after
 // a run ends; it must not block (the window schedules a redraw).
-func New(opt Optimizer, initial []float32, onFrame func()) *Engine {
+// setting is recorded in the history (see Step).
+func New(opt Optimizer, setting float64, initial []float32, onFrame func()) *Engine {
 	done := make(chan struct{})
 	close(done)
-	return &Engine{opt: opt, initial: initial, layout: initial, onFrame: onFrame, done: done,
+	return &Engine{opt: opt, setting: setting, initial: initial, layout: initial, onFrame: onFrame, done: done,
 		status: Status{KL: math.NaN()}}
 }
 
@@ -94,22 +123,40 @@ func (e *Engine) Latest() ([]float32, Status) {
 // Initial returns the layout fresh runs start from.
 func (e *Engine) Initial() []float32 { return e.initial }
 
-// SetLayout stops any run and shows layout (for example one read from a
-// session).
-func (e *Engine) SetLayout(layout []float32) {
+// SetLayout stops any run and shows layout, reached by the given history
+// (for example both read from a session).
+func (e *Engine) SetLayout(layout []float32, history []Step) {
 	e.mu.Lock()
 	e.stopLocked()
 	e.layout = layout
+	e.history = append([]Step(nil), history...)
+	e.status.Iteration = 0
+	if n := len(history); n > 0 {
+		e.status.Iteration = history[n-1].Done
+	}
 	e.mu.Unlock()
 	e.notify()
 }
 
+// History returns the steps that led to the layout on screen.
+func (e *Engine) History() []Step {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	h := append([]Step(nil), e.history...)
+	if n := len(h); n > 0 {
+		h[n-1].Done = e.status.Iteration
+	}
+	return h
+}
+
 // SetOptimizer stops any run and drives opt from now on (for example after
-// the affinities changed); the layout on screen stays.
-func (e *Engine) SetOptimizer(opt Optimizer) {
+// the affinities changed); the layout on screen stays. setting is recorded
+// in the history of the steps that follow.
+func (e *Engine) SetOptimizer(opt Optimizer, setting float64) {
 	e.mu.Lock()
 	e.stopLocked()
 	e.opt = opt
+	e.setting = setting
 	e.mu.Unlock()
 }
 
@@ -161,9 +208,19 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 	e.stopLocked()
 	gen := e.gen
 	from := e.layout
-	if fresh {
-		from = e.initial
+	if n := len(e.history); n > 0 {
+		e.history[n-1].Done = e.status.Iteration
 	}
+	step := Step{Kind: Warm, Attraction: attraction, Iterations: iterations, Setting: e.setting}
+	switch {
+	case math.IsInf(attraction, 1):
+		step.Kind, step.Iterations = Spectral, spectralGlide
+	case fresh:
+		from = e.initial
+		step.Kind = Fresh
+		e.history = e.history[:0]
+	}
+	e.history = append(e.history, step)
 	ctx, cancel := context.WithCancel(context.Background())
 	e.cancel = cancel
 	prev := e.done
@@ -225,6 +282,21 @@ func (e *Engine) finish(gen uint64, err error) {
 	e.notify()
 }
 
+// glideFrame returns frame s of the glide from from to target: a smoothstep
+// blend, and target itself at the last frame.
+func glideFrame(from, target []float32, s int) []float32 {
+	if s >= spectralGlide {
+		return target
+	}
+	t := float32(s) / spectralGlide
+	t = t * t * (3 - 2*t) // smoothstep
+	frame := make([]float32, len(from))
+	for i := range frame {
+		frame[i] = from[i] + t*(target[i]-from[i])
+	}
+	return frame
+}
+
 // spectralGlide is how many frames the move to the spectral layout takes, so
 // that the map glides there instead of jumping.
 const spectralGlide = 15
@@ -240,16 +312,7 @@ func (e *Engine) toSpectral(ctx context.Context, opt Optimizer, gen uint64, from
 	tick := time.NewTicker(time.Second / 30)
 	defer tick.Stop()
 	for s := 1; s <= spectralGlide; s++ {
-		t := float32(s) / spectralGlide
-		t = t * t * (3 - 2*t) // smoothstep
-		frame := make([]float32, len(from))
-		for i := range frame {
-			frame[i] = from[i] + t*(target[i]-from[i])
-		}
-		if s == spectralGlide {
-			frame = target
-		}
-		e.publish(gen, Frame{Layout: frame, Iteration: s, Iterations: spectralGlide, KL: math.NaN(), Settled: s == spectralGlide})
+		e.publish(gen, Frame{Layout: glideFrame(from, target, s), Iteration: s, Iterations: spectralGlide, KL: math.NaN(), Settled: s == spectralGlide})
 		select {
 		case <-ctx.Done():
 			return ctx.Err()

@@ -20,6 +20,9 @@ type drift struct {
 }
 
 func (d *drift) Run(ctx context.Context, init []float32, attraction float64, iterations int, early bool, publish func(Frame)) ([]float32, error) {
+	if publish == nil {
+		publish = func(Frame) {}
+	}
 	if d.running.Add(1) > 1 {
 		d.overlap.Store(true)
 	}
@@ -51,7 +54,7 @@ func (d *drift) Spectral(ctx context.Context, like []float32) ([]float32, error)
 
 func TestTurnStartsFromTheLayoutOnScreen(t *testing.T) {
 	opt := &drift{}
-	e := New(opt, []float32{0, 0, 0, 0}, nil)
+	e := New(opt, 0, []float32{0, 0, 0, 0}, nil)
 	e.Turn(1, 5)
 	e.Wait()
 	got, st := e.Latest()
@@ -73,7 +76,7 @@ func TestTurnStartsFromTheLayoutOnScreen(t *testing.T) {
 }
 
 func TestSpectralGlidesToTarget(t *testing.T) {
-	e := New(&drift{}, []float32{1, 1}, nil)
+	e := New(&drift{}, 0, []float32{1, 1}, nil)
 	e.Turn(math.Inf(1), 0)
 	e.Wait()
 	got, st := e.Latest()
@@ -88,7 +91,7 @@ func TestSpectralGlidesToTarget(t *testing.T) {
 func TestRapidTurns(t *testing.T) {
 	opt := &drift{}
 	var frames atomic.Int64
-	e := New(opt, make([]float32, 200), func() { frames.Add(1) })
+	e := New(opt, 0, make([]float32, 200), func() { frames.Add(1) })
 	stop := make(chan struct{})
 	var reader sync.WaitGroup
 	reader.Add(1)
@@ -128,7 +131,7 @@ func TestRapidTurns(t *testing.T) {
 }
 
 func TestStopKeepsLayout(t *testing.T) {
-	e := New(&drift{}, []float32{0, 0}, nil)
+	e := New(&drift{}, 0, []float32{0, 0}, nil)
 	e.Turn(1, 1_000_000)
 	time.Sleep(5 * time.Millisecond)
 	e.Stop()
@@ -141,5 +144,39 @@ func TestStopKeepsLayout(t *testing.T) {
 	time.Sleep(5 * time.Millisecond)
 	if again, _ := e.Latest(); again[0] != after[0] {
 		t.Fatal("layout changed after the run was stopped")
+	}
+}
+
+// TestHistoryReplaysToTheLayoutOnScreen turns, stops and turns again, then
+// replays the recorded history and compares with the layout shown.
+func TestHistoryReplaysToTheLayoutOnScreen(t *testing.T) {
+	opt := &drift{}
+	e := New(opt, 30, []float32{0, 0, 0, 0}, nil)
+	e.Restart(1, 7)
+	e.Wait()
+	e.Turn(2, 1_000_000)
+	time.Sleep(3 * time.Millisecond)
+	e.Stop()
+	e.Wait()
+	e.Turn(math.Inf(1), 0)
+	e.Wait()
+	e.Turn(3, 4)
+	e.Wait()
+	want, _ := e.Latest()
+	h := e.History()
+	if len(h) != 4 || h[0].Kind != Fresh || h[0].Done != 7 || h[2].Kind != Spectral || h[2].Done != spectralGlide || h[3].Done != 4 {
+		t.Fatalf("history %+v", h)
+	}
+	if h[1].Done == 0 || h[1].Done >= 1_000_000 || h[1].Setting != 30 {
+		t.Fatalf("stopped step recorded as %+v", h[1])
+	}
+	got, err := Replay(context.Background(), []float32{0, 0, 0, 0}, h, func(float64) (Optimizer, error) { return &drift{}, nil })
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range want {
+		if got[i] != want[i] {
+			t.Fatalf("replayed layout %v, shown %v", got, want)
+		}
 	}
 }

@@ -1,0 +1,63 @@
+package live
+
+import (
+	"context"
+	"sync"
+
+	"lodestone/compute/embed"
+	"lodestone/compute/sparse"
+)
+
+// TSNE is the Optimizer of the window: t-SNE on fixed affinities P, with
+// the spectral layout of P computed once and kept.
+type TSNE struct {
+	P       *sparse.CSR
+	Seed    int64
+	Threads int
+
+	mu       sync.Mutex
+	spectral []float32
+	info     *embed.SpectralInfo
+}
+
+// Run optimises with embed.Run; see Optimizer.
+func (t *TSNE) Run(ctx context.Context, init []float32, attraction float64, iterations int, early bool, publish func(Frame)) ([]float32, error) {
+	p := embed.DefaultParams()
+	p.Attraction = attraction
+	p.Iterations = iterations
+	if !early {
+		p.EarlyIterations = 0
+	} else if p.EarlyIterations > iterations {
+		p.EarlyIterations = iterations
+	}
+	p.Seed = t.Seed
+	p.Threads = t.Threads
+	return embed.Run(ctx, t.P, init, p, func(s embed.Snapshot) {
+		publish(Frame{Layout: s.Layout, Iteration: s.Iteration, Iterations: s.Iterations, KL: s.KL, Settled: s.Settled})
+	})
+}
+
+// Spectral returns the Laplacian eigenmap of P turned and scaled like like;
+// the eigenmap itself is computed on the first call only.
+func (t *TSNE) Spectral(ctx context.Context, like []float32) ([]float32, error) {
+	base, _, err := t.SpectralLayout(ctx)
+	if err != nil {
+		return nil, err
+	}
+	return embed.ScaleLike(base, like)
+}
+
+// SpectralLayout returns the Laplacian eigenmap of P and how it was found,
+// computing it on the first call.
+func (t *TSNE) SpectralLayout(ctx context.Context) ([]float32, *embed.SpectralInfo, error) {
+	t.mu.Lock()
+	defer t.mu.Unlock()
+	if t.spectral == nil {
+		y, info, err := embed.Spectral(ctx, t.P, t.Threads)
+		if err != nil {
+			return nil, nil, err
+		}
+		t.spectral, t.info = y, info
+	}
+	return t.spectral, t.info, nil
+}
