@@ -56,7 +56,7 @@ type Options struct {
 }
 
 // DefaultSeed is the seed of the example atlas.
-const DefaultSeed = 20240611
+const DefaultSeed = 52963
 
 // DefaultOptions returns the options of the example atlas: 30,000 cells,
 // 2,000 genes and DefaultSeed.
