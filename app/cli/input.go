@@ -196,7 +196,7 @@ func readLayout(ctx context.Context, path string, ids []string) ([]float32, erro
 		return nil, usageError{err}
 	}
 	defer f.Close()
-	rowIDs, header, m, err := ingest.ReadTable(ctx, f, path)
+	rowIDs, header, m, err := ingest.ReadTable(ctx, f, path, nil)
 	if err != nil {
 		return nil, usageError{err}
 	}
