@@ -167,10 +167,13 @@ type View struct {
 
 // Session is everything a session file holds.
 type Session struct {
-	Program  string   `json:"program"` // version of the program that wrote it
-	Inputs   []Input  `json:"inputs,omitempty"`
-	Example  *Example `json:"example,omitempty"`
-	Settings Settings `json:"settings"`
+	Program string `json:"program"` // version of the program that wrote it
+	// OpenedPath is the file or folder the atlas was opened from; Inputs
+	// are the files read from it, with their hashes.
+	OpenedPath string   `json:"opened_path,omitempty"`
+	Inputs     []Input  `json:"inputs,omitempty"`
+	Example    *Example `json:"example,omitempty"`
+	Settings   Settings `json:"settings"`
 
 	CellIDs []string  `json:"-"`
 	Columns []Column  `json:"columns"`

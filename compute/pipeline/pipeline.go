@@ -283,3 +283,31 @@ func denseRowsToCSR(m *atlas.Dense, rows []int) *sparse.CSR {
 	}
 	return out
 }
+
+// Reaffine returns the neighbour graph and affinities for a new perplexity:
+// the affinities are recomputed on p's graph when it has at least ⌈3·perp⌉
+// neighbours (at most n−1 and neighbors.MaxK), and the graph is first found
+// again with that many neighbours when it has fewer. The perplexity used is
+// at most a third of the graph's neighbours. p is not modified.
+func Reaffine(ctx context.Context, p *Prepared, perp float64) (*neighbors.Graph, *sparse.CSR, float64, error) {
+	if perp <= 0 || math.IsNaN(perp) || math.IsInf(perp, 0) {
+		return nil, nil, 0, fmt.Errorf("pipeline: perplexity %v must be a positive number", perp)
+	}
+	g := p.Graph
+	need := min(int(math.Ceil(3*perp)), p.Cells()-1, neighbors.MaxK)
+	if need > g.K {
+		s := p.Settings
+		var err error
+		g, err = neighbors.Find(ctx, p.Features, neighbors.Options{K: need, Metric: s.Metric, Method: s.Method,
+			Seed: s.Seed, Threads: s.Threads})
+		if err != nil {
+			return nil, nil, 0, fmt.Errorf("nearest neighbours: %w", err)
+		}
+	}
+	perp = math.Min(perp, float64(g.K)/3)
+	P, err := affinity.Perplexity(ctx, g, perp, p.Settings.Threads)
+	if err != nil {
+		return nil, nil, 0, fmt.Errorf("affinities: %w", err)
+	}
+	return g, P, perp, nil
+}
