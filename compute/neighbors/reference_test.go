@@ -1,0 +1,128 @@
+package neighbors
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"io/fs"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// referencePython is the interpreter that has Debian's python3-sklearn.
+const referencePython = "/usr/bin/python3"
+
+// importCheck starts every reference script: it exits with status 77 when
+// the reference libraries cannot be imported.
+const importCheck = `
+import sys
+try:
+    import numpy, sklearn
+except ImportError as e:
+    print(e, file=sys.stderr)
+    sys.exit(77)
+`
+
+// runReference runs a Python script under referencePython with args and
+// returns its standard output. It skips the test, saying why, when the
+// interpreter or scikit-learn is missing.
+func runReference(t *testing.T, script string, args ...string) string {
+	t.Helper()
+	cmd := exec.Command(referencePython, append([]string{"-c", importCheck + script}, args...)...)
+	var out, stderr bytes.Buffer
+	cmd.Stdout, cmd.Stderr = &out, &stderr
+	err := cmd.Run()
+	var exit *exec.ExitError
+	switch {
+	case errors.Is(err, exec.ErrNotFound) || errors.Is(err, fs.ErrNotExist):
+		t.Skipf("reference check skipped: %s not found (install python3-sklearn)", referencePython)
+	case errors.As(err, &exit) && exit.ExitCode() == 77:
+		t.Skipf("reference check skipped: %s cannot import numpy and sklearn (install python3-sklearn): %s", referencePython, strings.TrimSpace(stderr.String()))
+	case err != nil:
+		t.Fatalf("reference script failed: %v\n%s", err, stderr.String())
+	}
+	return out.String()
+}
+
+// writeMatrix writes the rows of a matrix as text, one row a line.
+func writeMatrix(t *testing.T, rows, cols int, at func(i, j int) float32) string {
+	t.Helper()
+	var b strings.Builder
+	for i := 0; i < rows; i++ {
+		for j := 0; j < cols; j++ {
+			if j > 0 {
+				b.WriteByte(' ')
+			}
+			b.WriteString(strconv.FormatFloat(float64(at(i, j)), 'g', -1, 32))
+		}
+		b.WriteByte('\n')
+	}
+	path := filepath.Join(t.TempDir(), "matrix.txt")
+	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return path
+}
+
+// parseMatrix reads whitespace-separated numbers, one row a line.
+func parseMatrix(t *testing.T, text string) [][]float64 {
+	t.Helper()
+	var out [][]float64
+	for _, line := range strings.Split(strings.TrimSpace(text), "\n") {
+		var row []float64
+		for _, f := range strings.Fields(line) {
+			v, err := strconv.ParseFloat(f, 64)
+			if err != nil {
+				t.Fatalf("reference output: %v", err)
+			}
+			row = append(row, v)
+		}
+		out = append(out, row)
+	}
+	return out
+}
+
+// sklearnNeighbors asks sklearn.neighbors.NearestNeighbors (brute force, in
+// float64) for the k neighbours of every row, itself excluded: it queries
+// k+1 neighbours and drops the row itself. Output: for each metric named,
+// per row, k ids then k distances.
+const sklearnNeighbors = `
+import numpy as np
+from sklearn.neighbors import NearestNeighbors
+x = np.loadtxt(sys.argv[1], ndmin=2)
+k = int(sys.argv[2])
+for metric in sys.argv[3:]:
+    d, idx = NearestNeighbors(n_neighbors=k + 1, algorithm="brute", metric=metric).fit(x).kneighbors(x)
+    for i in range(len(x)):
+        keep = [e for e in range(k + 1) if idx[i, e] != i][:k]
+        print(" ".join(str(v) for v in idx[i, keep]), " ".join(repr(float(v)) for v in d[i, keep]))
+`
+
+// TestExactMatchesSklearn compares Exact with scikit-learn's
+// NearestNeighbors on random data, for the Euclidean and cosine metrics:
+// ids and distances (to float32 precision) must agree.
+func TestExactMatchesSklearn(t *testing.T) {
+	x := randomMatrix(300, 10, 5)
+	path := writeMatrix(t, x.Rows, x.Cols, x.At)
+	const k = 15
+	all := parseMatrix(t, runReference(t, sklearnNeighbors, path, strconv.Itoa(k), Euclidean.String(), Cosine.String()))
+	for mi, m := range []Metric{Euclidean, Cosine} {
+		ref := all[mi*x.Rows : (mi+1)*x.Rows]
+		g, err := Exact(context.Background(), x, Options{K: k, Metric: m})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := 0; i < x.Rows; i++ {
+			want := make([]int32, k)
+			for e := range want {
+				want[e] = int32(ref[i][e])
+			}
+			checkAgainst(t, g, i, i, want, ref[i][k:], 1e-5)
+		}
+		t.Logf("%v: %d rows agree with sklearn", m, x.Rows)
+	}
+}
