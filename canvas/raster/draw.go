@@ -207,7 +207,8 @@ func (r *Renderer) prepareBandBuffers(threads, size int) {
 
 // bin transforms the points order[lo:hi] to pixels and appends each one
 // that touches the image to the buckets of the bands it touches, keeping the
-// drawing order. It returns the first bad order entry or colour index.
+// drawing order. It returns an error for the first order entry, in order,
+// that is not a point or names a point whose colour is outside the palette.
 //
 // Points are first gathered from layout and colours in small batches by a
 // tight loop, so that the processor can fetch many scattered points at once.
@@ -219,16 +220,25 @@ func (r *Renderer) bin(f *frame, lo, hi int, buckets [][]entry) error {
 	for start := lo; start < hi; start += batch {
 		end := min(start+batch, hi)
 		ord := f.order[start:end]
+		badIndex := -1
 		for k, i := range ord {
 			if i < 0 || i >= n {
-				return &InputError{Arg: "order", Index: start + k, Err: ErrIndex}
+				badIndex = k
+				break
 			}
 			xs[k], ys[k], cs[k] = f.layout[2*i], f.layout[2*i+1], f.colours[i]
 		}
-		for k := range ord {
+		gathered := len(ord)
+		if badIndex >= 0 {
+			gathered = badIndex
+		}
+		for k := range gathered {
 			if c := cs[k]; c != Hidden && int(c) >= f.npal {
 				return &InputError{Arg: "colours", Index: int(ord[k]), Err: ErrPaletteIndex}
 			}
+		}
+		if badIndex >= 0 {
+			return &InputError{Arg: "order", Index: start + badIndex, Err: ErrIndex}
 		}
 		r.binBatch(f, xs[:len(ord)], ys[:len(ord)], cs[:len(ord)], buckets)
 	}

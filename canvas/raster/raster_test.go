@@ -356,6 +356,8 @@ func TestDrawErrors(t *testing.T) {
 		{"order index", ErrIndex, "order", 1, layout, cols, []int32{0, 3, 1}, v, s},
 		{"negative order", ErrIndex, "order", 2, layout, cols, []int32{0, 1, -1}, v, s},
 		{"palette index", ErrPaletteIndex, "colours", 2, layout, []uint16{0, Hidden, 4}, order, v, s},
+		{"first bad entry", ErrPaletteIndex, "colours", 2, layout, []uint16{0, 0, 4}, []int32{2, 7, 0}, v, s},
+		{"first bad entry", ErrIndex, "order", 1, layout, []uint16{0, 0, 4}, []int32{0, 7, 2}, v, s},
 		{"view size", ErrView, "view size", -1, layout, cols, order, pixelView(11, 10), s},
 		{"view scale", ErrView, "view", -1, layout, cols, order, View{Scale: 0, Width: 10, Height: 10}, s},
 		{"radius", ErrStyle, "style radius", -1, layout, cols, order, v, Style{Radius: 0, Opacity: 1}},
