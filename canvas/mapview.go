@@ -102,8 +102,10 @@ func (m *Map) SetLayout(layout []float32) {
 	n := len(layout) / 2
 	if n != len(m.layout)/2 {
 		m.order = raster.Shuffle(n, 1)
-		m.colours = make([]uint16, n)
-		m.palette = []color.NRGBA{{R: 0x55, G: 0x55, B: 0x5a, A: 0xff}}
+		if len(m.colours) != n {
+			m.colours = make([]uint16, n)
+			m.palette = []color.NRGBA{{R: 0x55, G: 0x55, B: 0x5a, A: 0xff}}
+		}
 		m.selection = make([]bool, n)
 		m.selCount = 0
 		m.undo = nil
@@ -220,6 +222,16 @@ func (m *Map) SetView(v raster.View) {
 	m.stopGlide()
 	m.view, m.hasView, m.pinned = v, true, true
 	m.Refresh()
+}
+
+// Snapshot returns a copy of the last frame drawn (nil before the first).
+func (m *Map) Snapshot() *image.RGBA {
+	if m.img == nil {
+		return nil
+	}
+	c := image.NewRGBA(m.img.Rect)
+	copy(c.Pix, m.img.Pix)
+	return c
 }
 
 // LastDrawTime returns how long drawing the last frame took.

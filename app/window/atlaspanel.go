@@ -1,0 +1,128 @@
+package window
+
+import (
+	"context"
+	"fmt"
+	"strings"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/widget"
+
+	"lodestone/compute/atlas"
+	"lodestone/compute/quality"
+)
+
+// atlasPanel summarises the open atlas: its size, its annotation columns
+// and their kinds, how the annotation table matched, and what quality
+// control, gene selection and PCA did.
+func (v *atlasView) atlasPanel() fyne.CanvasObject {
+	text := widget.NewRichTextFromMarkdown(atlasSummary(v.src.name(), v.data, v))
+	text.Wrapping = fyne.TextWrapWord
+	return container.NewVScroll(text)
+}
+
+// atlasSummary writes the summary as Markdown.
+func atlasSummary(name string, d *atlas.Dataset, v *atlasView) string {
+	var b strings.Builder
+	p := v.prep
+	fmt.Fprintf(&b, "**%s**\n\n", name)
+	kind := "counts"
+	if d.Table != nil {
+		kind = "numeric table"
+	}
+	fmt.Fprintf(&b, "- %d cells × %d %s (%s)\n", d.Cells(), d.Features(), map[bool]string{true: "features", false: "genes"}[d.Table != nil], kind)
+	fmt.Fprintf(&b, "- %d cells on the map\n", p.Cells())
+	if len(d.Sources) > 0 {
+		fmt.Fprintf(&b, "- read from %s\n", strings.Join(d.Sources, ", "))
+	}
+	if j := d.Join; j != nil {
+		fmt.Fprintf(&b, "- annotations matched %d cells; %d cells had no row, %d rows named no cell", j.Matched, j.Unmatched, j.Extra)
+		if j.DuplicatedCount > 0 {
+			fmt.Fprintf(&b, ", %d IDs were duplicated (first row kept)", j.DuplicatedCount)
+		}
+		b.WriteString("\n")
+	}
+	b.WriteString("\n**Annotation columns**\n\n")
+	for i := range p.Annotations {
+		c := &p.Annotations[i]
+		switch c.Kind {
+		case atlas.Categorical:
+			fmt.Fprintf(&b, "- %s — categorical, %d values", c.Name, len(c.Levels))
+		default:
+			fmt.Fprintf(&b, "- %s — continuous", c.Name)
+		}
+		if m := c.MissingCount(); m > 0 {
+			fmt.Fprintf(&b, ", %d missing", m)
+		}
+		b.WriteString("\n")
+	}
+	if r := p.Prep; r != nil {
+		if qc := r.QC; qc != nil {
+			b.WriteString("\n**Quality control**\n\n")
+			fmt.Fprintf(&b, "- kept %d of %d cells and %d of %d genes; %d mitochondrial genes\n",
+				qc.CellsKept, qc.Cells, qc.GenesKept, qc.Genes, qc.MitoGenes)
+			for _, f := range qc.Filters {
+				if f.Cells > 0 || f.Genes > 0 {
+					fmt.Fprintf(&b, "- %s: %d cells, %d genes removed\n", f.Name, f.Cells, f.Genes)
+				}
+			}
+		}
+		if g := r.Genes; g != nil {
+			fmt.Fprintf(&b, "\n**Genes**: %d highly variable genes selected (normalised dispersion, Zheng et al. 2017)\n", len(g.Genes))
+		}
+		if pca := r.PCA; pca != nil {
+			sum := 0.0
+			for _, x := range pca.ExplainedVarianceRatio {
+				sum += x
+			}
+			fmt.Fprintf(&b, "\n**PCA**: %d components explain %.1f%% of the variance of the selected genes\n",
+				len(pca.ExplainedVarianceRatio), 100*sum)
+		}
+	}
+	s := p.Settings
+	fmt.Fprintf(&b, "\n**Neighbour graph**: %d neighbours per cell, perplexity %g, seed %d\n", p.Graph.K, s.Perplexity, s.Seed)
+	for _, n := range p.Notes {
+		fmt.Fprintf(&b, "\n- note: %s", n)
+	}
+	return b.String()
+}
+
+// fidelitySample is the number of cells the fidelity scores are computed on.
+const fidelitySample = 2000
+
+// fidelityK is the neighbourhood the fidelity scores look at (common
+// practice for graphs of single-cell data).
+const fidelityK = 15
+
+// scoreFidelity computes the fidelity of the map on screen in the
+// background and shows it in the status line.
+func (v *atlasView) scoreFidelity() {
+	if v.fidelityCancel != nil {
+		v.fidelityCancel()
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	v.fidelityCancel = cancel
+	layout := v.shown
+	high := v.prep.Features
+	threads := v.prep.Settings.Threads
+	v.fidelity.SetText("fidelity: scoring…")
+	go func() {
+		sample := quality.Sample(high.Rows, fidelitySample, 7)
+		kept, err := quality.KNNPreservation(ctx, high, layout, fidelityK, sample, threads)
+		var trust float64
+		if err == nil {
+			trust, err = quality.Trustworthiness(high, layout, fidelityK, sample)
+		}
+		fyne.Do(func() {
+			if ctx.Err() != nil {
+				return
+			}
+			if err != nil {
+				v.fidelity.SetText("fidelity: " + err.Error())
+				return
+			}
+			v.fidelity.SetText(fmt.Sprintf("fidelity: kept neighbours %.2f · trustworthiness %.3f", kept, trust))
+		})
+	}()
+}

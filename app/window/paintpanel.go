@@ -1,0 +1,266 @@
+package window
+
+import (
+	"sort"
+	"strings"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/widget"
+
+	"lodestone/compute/atlas"
+)
+
+const (
+	plainChoice  = "(one colour)"
+	groupsChoice = "(my groups)"
+)
+
+// paintPanel holds the choice of paint and the key.
+func (v *atlasView) paintPanel() fyne.CanvasObject {
+	choices := []string{plainChoice}
+	for _, c := range v.prep.Annotations {
+		choices = append(choices, c.Name)
+	}
+	choices = append(choices, groupsChoice)
+	v.paintSel = widget.NewSelect(choices, func(s string) { v.paintByChoice(s) })
+
+	v.geneBox = widget.NewSelectEntry(nil)
+	v.geneBox.SetPlaceHolder("gene name or symbol…")
+	v.geneBox.OnChanged = func(s string) {
+		if g := v.findGene(s); g >= 0 {
+			v.paintByGene(g)
+			return
+		}
+		v.geneBox.SetOptions(v.geneMatches(s, 30))
+	}
+	v.geneBox.OnSubmitted = func(s string) {
+		if g := v.findGene(s); g >= 0 {
+			v.paintByGene(g)
+		} else if m := v.geneMatches(s, 1); len(m) == 1 {
+			v.geneBox.SetText(m[0])
+		}
+	}
+	if v.prep.Expression == nil {
+		v.geneBox.Disable()
+		if v.ready {
+			v.geneBox.SetPlaceHolder("no expression values in this atlas")
+		} else {
+			v.geneBox.SetPlaceHolder("available once the atlas is prepared")
+		}
+	}
+	top := container.NewVBox(
+		widget.NewLabelWithStyle("Paint the map by", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
+		v.paintSel,
+		widget.NewLabel("or by a gene"),
+		v.geneBox,
+		widget.NewSeparator())
+	return container.NewBorder(top, nil, nil, nil, v.key)
+}
+
+// defaultPaint paints by the first categorical column with between 2 and
+// 40 levels, or plainly.
+func (v *atlasView) defaultPaint() *paint {
+	for k := range v.prep.Annotations {
+		c := &v.prep.Annotations[k]
+		if c.Kind == atlas.Categorical && len(c.Levels) >= 2 && len(c.Levels) <= 40 {
+			v.paintSel.SetSelected(c.Name)
+			return v.paint
+		}
+	}
+	v.paintSel.SetSelected(plainChoice)
+	return v.paint
+}
+
+func (v *atlasView) paintByChoice(s string) {
+	v.hidden = nil
+	switch s {
+	case plainChoice:
+		v.setPaint(plainPaint(v.prep.Cells()))
+	case groupsChoice:
+		v.setPaint(groupsPaint(v.groups, v.prep.Cells()))
+	default:
+		for k := range v.prep.Annotations {
+			if c := &v.prep.Annotations[k]; c.Name == s {
+				v.setPaint(columnPaint(c, nil))
+			}
+		}
+	}
+}
+
+// columnPaint paints by any annotation column.
+func columnPaint(c *atlas.Column, hidden []bool) *paint {
+	if c.Kind == atlas.Categorical {
+		return categoricalPaint(c, hidden)
+	}
+	lo, hi := valueRange(c.Values)
+	return continuousPaint(c.Name, c.Values, lo, hi)
+}
+
+// setPaint shows p on the map and in the key.
+func (v *atlasView) setPaint(p *paint) {
+	if p == nil {
+		return
+	}
+	v.paint = p
+	v.mapView.SetPaint(p.colours, p.palette)
+	if p.continuous {
+		v.key.SetRamp(p.name, p.palette[:len(p.palette)-1], formatValue(p.lo), formatValue(p.hi), p.missing)
+		return
+	}
+	v.key.SetEntries(p.name, p.entries)
+}
+
+// repaint recomputes the current paint (after groups or hidden categories
+// changed).
+func (v *atlasView) repaint() {
+	if v.paint == nil {
+		return
+	}
+	switch v.paint.source {
+	case paintGroups:
+		v.setPaint(groupsPaint(v.groups, v.prep.Cells()))
+	case paintColumn:
+		if c := v.column(v.paint.name); c != nil {
+			v.setPaint(columnPaint(c, v.hidden))
+		}
+	}
+}
+
+func (v *atlasView) column(name string) *atlas.Column {
+	for k := range v.prep.Annotations {
+		if v.prep.Annotations[k].Name == name {
+			return &v.prep.Annotations[k]
+		}
+	}
+	return nil
+}
+
+// toggleEntry hides or shows category i of a categorical paint.
+func (v *atlasView) toggleEntry(i int) {
+	c := v.categoricalColumn()
+	if c == nil {
+		return
+	}
+	if v.hidden == nil {
+		v.hidden = make([]bool, len(c.Levels)+1)
+	}
+	idx := v.entryLevel(i, c)
+	v.hidden[idx] = !v.hidden[idx]
+	v.repaint()
+}
+
+// isolateEntry shows category i alone, or everything again when it is
+// shown alone already.
+func (v *atlasView) isolateEntry(i int) {
+	c := v.categoricalColumn()
+	if c == nil {
+		return
+	}
+	idx := v.entryLevel(i, c)
+	alone := v.hidden != nil && !v.hidden[idx]
+	if alone {
+		for j, h := range v.hidden {
+			if j != idx && !h {
+				alone = false
+			}
+		}
+	}
+	v.hidden = make([]bool, len(c.Levels)+1)
+	if !alone {
+		for j := range v.hidden {
+			v.hidden[j] = j != idx
+		}
+	}
+	v.repaint()
+}
+
+// entryLevel maps key entry i to its level (the last index is missing).
+func (v *atlasView) entryLevel(i int, c *atlas.Column) int {
+	if i >= len(c.Levels) {
+		return len(c.Levels)
+	}
+	return i
+}
+
+// categoricalColumn returns the column of a categorical paint, or nil.
+func (v *atlasView) categoricalColumn() *atlas.Column {
+	if v.paint == nil || v.paint.source != paintColumn || v.paint.continuous {
+		return nil
+	}
+	return v.column(v.paint.name)
+}
+
+// geneMatches lists up to limit genes whose symbol or ID starts with s
+// (case-insensitive), then those that contain it.
+func (v *atlasView) geneMatches(s string, limit int) []string {
+	s = strings.ToLower(strings.TrimSpace(s))
+	if len(s) < 1 || v.prep.Expression == nil {
+		return nil
+	}
+	var first, then []string
+	for j, sym := range v.prep.GeneSymbols {
+		id := v.prep.GeneIDs[j]
+		ls, li := strings.ToLower(sym), strings.ToLower(id)
+		switch {
+		case strings.HasPrefix(ls, s) || strings.HasPrefix(li, s):
+			first = append(first, geneLabel(sym, id))
+		case len(first) < limit && (strings.Contains(ls, s) || strings.Contains(li, s)):
+			then = append(then, geneLabel(sym, id))
+		}
+	}
+	sort.Strings(first)
+	sort.Strings(then)
+	out := append(first, then...)
+	if len(out) > limit {
+		out = out[:limit]
+	}
+	return out
+}
+
+func geneLabel(sym, id string) string {
+	if sym == id || sym == "" {
+		return id
+	}
+	return sym + " (" + id + ")"
+}
+
+// findGene returns the gene a label names exactly (as geneLabel writes it,
+// or a bare symbol or ID), or −1.
+func (v *atlasView) findGene(s string) int {
+	s = strings.TrimSpace(s)
+	if s == "" || v.prep.Expression == nil {
+		return -1
+	}
+	for j, sym := range v.prep.GeneSymbols {
+		id := v.prep.GeneIDs[j]
+		if s == geneLabel(sym, id) || s == id || strings.EqualFold(s, sym) {
+			return j
+		}
+	}
+	return -1
+}
+
+// paintByGene paints the map by gene g's expression, read off the matrix in
+// the background.
+func (v *atlasView) paintByGene(g int) {
+	x := v.prep.Expression
+	name := geneLabel(v.prep.GeneSymbols[g], v.prep.GeneIDs[g])
+	go func() {
+		values := geneValues(x, g)
+		p := genePaint(name, values)
+		fyne.Do(func() {
+			v.paintedGene = values
+			v.hidden = nil
+			v.setPaint(p)
+		})
+	}()
+}
+
+// paintValue returns cell i's value of the gene painting the map.
+func (v *atlasView) paintValue(i int) float64 {
+	if i < len(v.paintedGene) {
+		return v.paintedGene[i]
+	}
+	return 0
+}

@@ -1,0 +1,180 @@
+package window
+
+import (
+	"bytes"
+	"fmt"
+	"image"
+	"image/png"
+	"io"
+	"math"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"time"
+
+	"fyne.io/fyne/v2"
+
+	"lodestone/app/live"
+	lcanvas "lodestone/canvas"
+	"lodestone/compute/atomicfile"
+)
+
+// The self-test opens the example atlas, waits for the first run to end,
+// saves a screenshot, turns the dial to Options.SelfTestDial, waits for the
+// rerun to end, saves a second screenshot, checks that the map is not
+// blank, and quits with status 0 (or 1 on any failure).
+
+// selfTestLimit is how long the self-test may take before it fails.
+const selfTestLimit = 10 * time.Minute
+
+// Self-test screenshot names, inside Options.SelfTest.
+const (
+	SelfTestFirst  = "first.png"
+	SelfTestTurned = "turned.png"
+)
+
+func (u *ui) startSelfTest() {
+	u.selfTestDone = make(chan int, 1)
+	if err := os.MkdirAll(u.opts.SelfTest, 0o755); err != nil {
+		u.selfTestFail(err)
+		return
+	}
+	fmt.Fprintln(os.Stderr, "self-test: opening the example atlas")
+	time.AfterFunc(selfTestLimit, func() {
+		fyne.Do(func() { u.selfTestFail(fmt.Errorf("did not finish within %v", selfTestLimit)) })
+	})
+	u.openExample()
+}
+
+func (u *ui) selfTestFail(err error) {
+	select {
+	case u.selfTestDone <- 1:
+		fmt.Fprintln(os.Stderr, "self-test failed:", err)
+	default:
+	}
+	u.app.Quit()
+}
+
+func (u *ui) selfTestPass() {
+	select {
+	case u.selfTestDone <- 0:
+		fmt.Fprintln(os.Stderr, "self-test passed")
+	default:
+	}
+	u.app.Quit()
+}
+
+// selfTestAtlasShown is called when the atlas view first appears.
+func (u *ui) selfTestAtlasShown(v *atlasView) {
+	fmt.Fprintf(os.Stderr, "self-test: %d cells on the map; first run at attraction %s\n", v.prep.Cells(), lcanvas.FormatAttraction(v.dial.Value))
+}
+
+// selfTestRunEnded advances the self-test after each run.
+func (u *ui) selfTestRunEnded(v *atlasView, st live.Status) {
+	if st.Err != nil {
+		u.selfTestFail(st.Err)
+		return
+	}
+	target := u.opts.SelfTestDial
+	if target == 0 {
+		target = 10
+	}
+	fmt.Fprintf(os.Stderr, "self-test: run %d ended after %d iterations in %.1f s (KL %.3f, settled %v)\n",
+		st.Runs, st.Iteration, st.Elapsed.Seconds(), st.KL, st.Settled)
+	// Let the view finish gliding to the final layout before capturing.
+	time.AfterFunc(600*time.Millisecond, func() {
+		fyne.Do(func() {
+			switch st.Runs {
+			case 1:
+				if err := u.selfTestCapture(v, SelfTestFirst); err != nil {
+					u.selfTestFail(err)
+					return
+				}
+				v.dial.SetValue(target)
+				v.turn(target)
+			case 2:
+				if err := u.selfTestCapture(v, SelfTestTurned); err != nil {
+					u.selfTestFail(err)
+					return
+				}
+				u.selfTestPass()
+			}
+		})
+	})
+}
+
+// selfTestCapture saves a screenshot of the window (name) and the map as
+// drawn (map-name), and checks that the map shows points in several
+// colours.
+func (u *ui) selfTestCapture(v *atlasView, name string) error {
+	path := filepath.Join(u.opts.SelfTest, name)
+	shot, how := u.screenshot()
+	if err := writePNG(path, shot); err != nil {
+		return err
+	}
+	drawn := v.mapView.Snapshot()
+	if drawn == nil {
+		return fmt.Errorf("the map has not been drawn")
+	}
+	mapPath := filepath.Join(u.opts.SelfTest, "map-"+name)
+	if err := writePNG(mapPath, drawn); err != nil {
+		return err
+	}
+	colours, inked := MapColours(drawn, drawn.Rect)
+	fmt.Fprintf(os.Stderr, "self-test: saved %s (%s) and %s; the map holds %d distinct colours, %.1f%% of it inked\n",
+		path, how, mapPath, colours, 100*inked)
+	if colours < 3 || inked < 0.01 {
+		return fmt.Errorf("the map in %s looks blank (%d colours, %.2f%% inked)", mapPath, colours, 100*inked)
+	}
+	return nil
+}
+
+func writePNG(path string, img image.Image) error {
+	return atomicfile.Write(path, func(w io.Writer) error { return png.Encode(w, img) })
+}
+
+// screenshot returns an image of the window: from the X server with
+// ImageMagick's import when both are there (OpenGL front buffers read back
+// blank under some software renderers), else from the canvas.
+func (u *ui) screenshot() (image.Image, string) {
+	if os.Getenv("DISPLAY") != "" {
+		if imp, err := exec.LookPath("import"); err == nil {
+			out, err := exec.Command(imp, "-window", "root", "png:-").Output()
+			if err == nil {
+				if img, err := png.Decode(bytes.NewReader(out)); err == nil {
+					return img, "X server screenshot"
+				}
+			}
+		}
+	}
+	return u.win.Canvas().Capture(), "canvas capture"
+}
+
+// MapColours counts the distinct colours that cover at least 0.05% of the
+// rectangle r of img (so that blends at the edges of points do not count),
+// and the share of r that differs from its most common colour (the
+// background).
+func MapColours(img image.Image, r image.Rectangle) (colours int, inked float64) {
+	counts := map[uint32]int{}
+	for y := r.Min.Y; y < r.Max.Y; y++ {
+		for x := r.Min.X; x < r.Max.X; x++ {
+			cr, cg, cb, _ := img.At(x, y).RGBA()
+			counts[(cr>>8)<<16|(cg>>8)<<8|cb>>8]++
+		}
+	}
+	total := r.Dx() * r.Dy()
+	if total == 0 {
+		return 0, 0
+	}
+	bgCount := 0
+	for _, c := range counts {
+		bgCount = max(bgCount, c)
+	}
+	floor := int(math.Max(1, 0.0005*float64(total)))
+	for _, c := range counts {
+		if c >= floor && c != bgCount {
+			colours++
+		}
+	}
+	return colours, float64(total-bgCount) / float64(total)
+}
