@@ -111,3 +111,46 @@ func TestAttractionFlag(t *testing.T) {
 		}
 	}
 }
+
+// smallFlags are preparation flags that suit the small test atlas.
+var smallFlags = []string{"--pcs", "15", "--genes", "200", "--min-genes", "40"}
+
+func TestScoreAndCluster(t *testing.T) {
+	dir := writeExample(t)
+	layout := filepath.Join(t.TempDir(), "layout.csv")
+	args := append([]string{"embed", "--in", dir, "--out", layout, "--iterations", "300", "--quiet"}, smallFlags...)
+	if code, _, errs := run(t, args...); code != ExitOK {
+		t.Fatalf("embed: %s", errs)
+	}
+	args = append([]string{"score", "--in", dir, "--layout", layout, "--label", "state", "--sample", "500"}, smallFlags...)
+	code, out, errs := run(t, args...)
+	if code != ExitOK {
+		t.Fatalf("score: status %d: %s", code, errs)
+	}
+	lines := strings.Split(strings.TrimSpace(out), "\n")
+	if len(lines) != 3 {
+		t.Fatalf("score printed %q", out)
+	}
+	for i, name := range []string{"knn_preservation", "trustworthiness", "label_accuracy"} {
+		f := strings.Fields(lines[i])
+		v, err := strconv.ParseFloat(f[1], 64)
+		if f[0] != name || err != nil || v < 0 || v > 1 {
+			t.Fatalf("line %q, want %s and a value in [0,1]", lines[i], name)
+		}
+	}
+	// A map of the generated states should keep them apart: label accuracy
+	// well above chance (1/9).
+	if v, _ := strconv.ParseFloat(strings.Fields(lines[2])[1], 64); v < 0.5 {
+		t.Errorf("label accuracy %v is low for a t-SNE map of the example's states", v)
+	}
+
+	clusters := filepath.Join(t.TempDir(), "clusters.csv")
+	args = append([]string{"cluster", "--in", dir, "--out", clusters, "--quiet"}, smallFlags...)
+	if code, out, errs = run(t, args...); code != ExitOK || !strings.Contains(out, "clusters, modularity") {
+		t.Fatalf("cluster: status %d: %s %s", code, out, errs)
+	}
+	b, _ := os.ReadFile(clusters)
+	if !strings.HasPrefix(string(b), "id,cluster\n") || strings.Count(string(b), "\n") < 1000 {
+		t.Fatalf("clusters file starts %q", string(b)[:min(60, len(b))])
+	}
+}

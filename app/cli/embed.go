@@ -9,6 +9,8 @@ import (
 	"os/signal"
 	"path/filepath"
 
+	"lodestone/app/live"
+	"lodestone/app/session"
 	"lodestone/compute/atomicfile"
 	"lodestone/compute/embed"
 	"lodestone/compute/ingest"
@@ -38,11 +40,12 @@ func runEmbed(args []string, stdout, stderr io.Writer) error {
 	iterations := fs.Int("iterations", embed.DefaultIterations, "optimiser iterations, early exaggeration included")
 	initName := fs.String("init", "pca", "initial layout: pca, spectral, or a layout CSV (id,x,y) to continue from")
 	quiet := fs.Bool("quiet", false, "print no progress")
+	sessionPath := fs.String("session", "", "also write a session file (.lodestone) that reopens the map in the window")
 	if err := fs.parse(args); err != nil {
 		return err
 	}
-	if *out == "" {
-		return usagef("--out is required")
+	if *out == "" && *sessionPath == "" {
+		return usagef("--out or --session is required")
 	}
 	if *iterations < 1 {
 		return usagef("--iterations must be at least 1")
@@ -64,33 +67,67 @@ func runEmbed(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	params := embed.DefaultParams()
-	params.Attraction = float64(attraction)
-	params.Iterations = *iterations
-	params.Seed = pf.seed
-	params.Threads = pf.threads
 	init := p.Init
+	kind := live.Fresh
 	if warmFrom != "" {
 		if init, err = readLayout(ctx, warmFrom, p.CellIDs); err != nil {
 			return err
 		}
-		params.EarlyIterations = 0
+		kind = live.Warm
 	}
-	if params.EarlyIterations > params.Iterations {
-		params.EarlyIterations = params.Iterations
+	a := float64(attraction)
+	opt := &live.TSNE{P: p.P, Seed: pf.seed, Threads: pf.threads}
+	step := live.Step{Kind: kind, Attraction: a, Iterations: *iterations, Done: *iterations, Setting: p.Settings.Perplexity}
+	var layout []float32
+	if math.IsInf(a, 1) {
+		b.report("spectral layout", 0, 1)
+		layout, err = opt.Spectral(ctx, init)
+		step = live.Step{Kind: live.Spectral, Attraction: a, Iterations: 15, Done: 15, Setting: p.Settings.Perplexity}
+	} else {
+		label := "t-SNE ρ=" + formatAttraction(a)
+		layout, err = opt.Run(ctx, init, a, *iterations, kind == live.Fresh, func(f live.Frame) {
+			b.report(label, int64(f.Iteration), int64(f.Iterations))
+		})
 	}
-	label := "t-SNE ρ=" + formatAttraction(params.Attraction)
-	if math.IsInf(params.Attraction, 1) {
-		label = "spectral layout"
-	}
-	layout, err := embed.Run(ctx, p.P, init, params, func(s embed.Snapshot) {
-		b.report(label, int64(s.Iteration), int64(s.Iterations))
-	})
 	if err != nil {
 		return err
 	}
-	b.report(label, 1, 1)
-	return writeLayout(*out, p.CellIDs, layout)
+	b.finish()
+	if *out != "" {
+		if err := writeLayout(*out, p.CellIDs, layout); err != nil {
+			return err
+		}
+	}
+	if *sessionPath != "" {
+		s := &session.Session{
+			Program: "lodestone " + session.ProgramVersion, Settings: session.FromSettings(p.Settings),
+			CellIDs: p.CellIDs, Columns: session.FromColumns(p.Annotations),
+			Layout: layout, Initial: init, Attraction: session.Attraction(a),
+			History: session.FromSteps([]live.Step{step}),
+			Paint:   session.Paint{Source: "plain"}, PointSize: 0, Opacity: 0,
+		}
+		if in.example {
+			def := sampledata.DefaultOptions()
+			s.Example = &session.Example{Cells: def.Cells, Genes: def.Genes, Seed: def.Seed}
+		} else {
+			abs, err := filepath.Abs(in.in)
+			if err != nil {
+				return err
+			}
+			s.OpenedPath = abs
+			for _, src := range p.Sources {
+				h, err := session.HashFile(src)
+				if err != nil {
+					return err
+				}
+				s.Inputs = append(s.Inputs, h)
+			}
+		}
+		if err := session.Write(*sessionPath, s); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 func runExample(args []string, stdout, stderr io.Writer) error {

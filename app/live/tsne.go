@@ -20,7 +20,7 @@ type TSNE struct {
 	info     *embed.SpectralInfo
 }
 
-// Run optimises with embed.Run; see Optimizer.
+// Run optimises with embed.Run; see Optimizer. publish may be nil.
 func (t *TSNE) Run(ctx context.Context, init []float32, attraction float64, iterations int, early bool, publish func(Frame)) ([]float32, error) {
 	p := embed.DefaultParams()
 	p.Attraction = attraction
@@ -32,9 +32,13 @@ func (t *TSNE) Run(ctx context.Context, init []float32, attraction float64, iter
 	}
 	p.Seed = t.Seed
 	p.Threads = t.Threads
-	return embed.Run(ctx, t.P, init, p, func(s embed.Snapshot) {
-		publish(Frame{Layout: s.Layout, Iteration: s.Iteration, Iterations: s.Iterations, KL: s.KL, Settled: s.Settled})
-	})
+	var pub func(embed.Snapshot)
+	if publish != nil {
+		pub = func(s embed.Snapshot) {
+			publish(Frame{Layout: s.Layout, Iteration: s.Iteration, Iterations: s.Iterations, KL: s.KL, Settled: s.Settled})
+		}
+	}
+	return embed.Run(ctx, t.P, init, p, pub)
 }
 
 // Spectral returns the Laplacian eigenmap of P turned and scaled like like;

@@ -143,6 +143,9 @@ var ErrNoInputs = errors.New("the session names no input to recompute from")
 // Load reads the atlas a session was made from: the example (regenerated
 // with its options), or the path it was opened from.
 func (s *Session) Load(ctx context.Context, report func(stage string, done, total int64)) (*atlas.Dataset, error) {
+	if report == nil {
+		report = func(string, int64, int64) {}
+	}
 	if s.Example != nil {
 		opt := sampledata.DefaultOptions()
 		opt.Cells, opt.Genes, opt.Seed = s.Example.Cells, s.Example.Genes, s.Example.Seed

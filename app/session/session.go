@@ -33,6 +33,11 @@ import (
 	"strings"
 )
 
+// ProgramVersion is the version of Lodestone written into sessions;
+// packaging stamps it from git with
+// -ldflags "-X lodestone/app/session.ProgramVersion=…".
+var ProgramVersion = "dev"
+
 // Extension is the file extension of session files.
 const Extension = ".lodestone"
 

@@ -22,10 +22,6 @@ import (
 	"lodestone/sampledata"
 )
 
-// Version is the program version written into sessions; packaging stamps
-// it from git with -ldflags "-X lodestone/app/window.Version=…".
-var Version = "dev"
-
 // isSession reports whether path names a session file.
 func isSession(path string) bool {
 	return strings.EqualFold(filepath.Ext(path), session.Extension)
@@ -35,7 +31,7 @@ func isSession(path string) bool {
 func (v *atlasView) toSession() *session.Session {
 	p := v.prep
 	s := &session.Session{
-		Program:    "lodestone " + Version,
+		Program:    "lodestone " + session.ProgramVersion,
 		Settings:   session.FromSettings(p.Settings),
 		CellIDs:    p.CellIDs,
 		Columns:    session.FromColumns(p.Annotations),

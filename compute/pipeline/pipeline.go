@@ -14,6 +14,7 @@ import (
 
 	"lodestone/compute/affinity"
 	"lodestone/compute/atlas"
+	"lodestone/compute/cluster"
 	"lodestone/compute/embed"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/prep"
@@ -91,6 +92,7 @@ func (s Settings) GraphK(n int) int {
 // cells that passed quality control.
 type Prepared struct {
 	Settings Settings
+	Sources  []string // the files the atlas was read from
 	// CellIDs and Annotations describe the kept cells, in the order of the
 	// rows of Features. Annotations holds the input's columns followed by
 	// the quality metrics of each cell when the input was counts.
@@ -121,6 +123,20 @@ func Prepare(ctx context.Context, d *atlas.Dataset, s Settings, report func(stag
 	if report == nil {
 		report = func(string, int64, int64) {}
 	}
+	out, err := Features(ctx, d, s, report)
+	if err != nil {
+		return nil, err
+	}
+	return out, Graph(ctx, out, report)
+}
+
+// Features runs the preparation up to the features (quality control,
+// normalisation, genes, PCA) and returns a Prepared without graph,
+// affinities or initial layout; Graph completes it.
+func Features(ctx context.Context, d *atlas.Dataset, s Settings, report func(stage string, done, total int64)) (*Prepared, error) {
+	if report == nil {
+		report = func(string, int64, int64) {}
+	}
 	po := s.Prep
 	po.Threads = s.Threads
 	po.PCA.Seed = s.Seed
@@ -129,7 +145,7 @@ func Prepare(ctx context.Context, d *atlas.Dataset, s Settings, report func(stag
 	if err != nil {
 		return nil, err
 	}
-	out := &Prepared{Settings: s, Prep: res, Features: res.Features, Notes: append([]string(nil), res.Notes...)}
+	out := &Prepared{Settings: s, Sources: d.Sources, Prep: res, Features: res.Features, Notes: append([]string(nil), res.Notes...)}
 	out.CellIDs = make([]string, len(res.Cells))
 	for i, c := range res.Cells {
 		out.CellIDs[i] = d.CellIDs[c]
@@ -154,11 +170,21 @@ func Prepare(ctx context.Context, d *atlas.Dataset, s Settings, report func(stag
 		out.Expression = denseRowsToCSR(d.Table, res.Cells)
 		out.GeneIDs, out.GeneSymbols = d.GeneIDs, d.GeneSymbols
 	}
+	return out, nil
+}
 
+// Graph completes a Prepared made by Features: the neighbour graph, the
+// affinities and the initial layout.
+func Graph(ctx context.Context, out *Prepared, report func(stage string, done, total int64)) error {
+	if report == nil {
+		report = func(string, int64, int64) {}
+	}
+	s := out.Settings
+	res := out.Prep
 	n := out.Cells()
 	k := s.GraphK(n)
 	if k < 1 {
-		return nil, fmt.Errorf("pipeline: %d cells passed quality control; at least 2 are needed for a map", n)
+		return fmt.Errorf("pipeline: %d cells passed quality control; at least 2 are needed for a map", n)
 	}
 	if want := int(math.Ceil(3 * s.Perplexity)); s.Neighbors <= 0 && k < want {
 		out.Notes = append(out.Notes, fmt.Sprintf("only %d neighbours per cell are available (perplexity %g asks for %d)", k, s.Perplexity, want))
@@ -168,7 +194,7 @@ func Prepare(ctx context.Context, d *atlas.Dataset, s Settings, report func(stag
 		Progress: func(done, total int64) { report(StageNeighbors, done, total) },
 	})
 	if err != nil {
-		return nil, fmt.Errorf("nearest neighbours: %w", err)
+		return fmt.Errorf("nearest neighbours: %w", err)
 	}
 	out.Graph = g
 
@@ -184,17 +210,17 @@ func Prepare(ctx context.Context, d *atlas.Dataset, s Settings, report func(stag
 		out.P, err = affinity.Perplexity(ctx, g, perp, s.Threads)
 	}
 	if err != nil {
-		return nil, fmt.Errorf("affinities: %w", err)
+		return fmt.Errorf("affinities: %w", err)
 	}
 	report(StageAffinities, 1, 1)
 
 	report(StageInit, 0, 1)
 	out.Init, err = initialLayout(ctx, out, s)
 	if err != nil {
-		return nil, fmt.Errorf("initial layout: %w", err)
+		return fmt.Errorf("initial layout: %w", err)
 	}
 	report(StageInit, 1, 1)
-	return out, nil
+	return nil
 }
 
 // initStd is the standard deviation of the initial layout (common practice).
@@ -310,4 +336,25 @@ func Reaffine(ctx context.Context, p *Prepared, perp float64) (*neighbors.Graph,
 		return nil, nil, 0, fmt.Errorf("affinities: %w", err)
 	}
 	return g, P, perp, nil
+}
+
+// Clusters finds Leiden clusters (Traag et al. 2019) on the union graph of
+// each cell's k nearest neighbours in p's features: the same call the
+// window makes. Clusters are numbered from 0 by decreasing size.
+func Clusters(ctx context.Context, p *Prepared, k int, resolution float64, prog func(done, total int64)) ([]int32, float64, error) {
+	s := p.Settings
+	g := p.Graph
+	if g == nil || g.K < k {
+		var err error
+		g, err = neighbors.Find(ctx, p.Features, neighbors.Options{K: min(k, p.Cells()-1), Metric: s.Metric, Method: s.Method,
+			Seed: s.Seed, Threads: s.Threads})
+		if err != nil {
+			return nil, 0, fmt.Errorf("nearest neighbours: %w", err)
+		}
+	}
+	a, err := cluster.FromKNN(g, min(k, g.K))
+	if err != nil {
+		return nil, 0, err
+	}
+	return cluster.Leiden(ctx, a, cluster.Options{Resolution: resolution, Seed: s.Seed, Progress: prog})
 }
