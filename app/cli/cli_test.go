@@ -154,3 +154,18 @@ func TestScoreAndCluster(t *testing.T) {
 		t.Fatalf("clusters file starts %q", string(b)[:min(60, len(b))])
 	}
 }
+
+func TestBenchPrintsItsTables(t *testing.T) {
+	code, out, errs := run(t, "bench", "--sizes", "1500", "--sections", "knn,embed", "--iterations", "30")
+	if code != ExitOK {
+		t.Fatalf("bench: %s", errs)
+	}
+	for _, want := range []string{"k nearest neighbours", "embedding", "ms/iteration", "1500"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("bench output lacks %q:\n%s", want, out)
+		}
+	}
+	if code, _, _ := run(t, "bench", "--sizes", "12"); code != ExitUsage {
+		t.Errorf("bench --sizes 12: status %d", code)
+	}
+}

@@ -1,0 +1,240 @@
+package cli
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"math"
+	"runtime"
+	"strconv"
+	"strings"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"lodestone/compute/affinity"
+	"lodestone/compute/atlas"
+	"lodestone/compute/embed"
+	"lodestone/compute/neighbors"
+	"lodestone/compute/prep"
+	"lodestone/compute/quality"
+	"lodestone/compute/synth"
+)
+
+func init() {
+	register("bench", "time the stages on generated data: kNN, PCA and the embedding", runBench)
+}
+
+func runBench(args []string, stdout, stderr io.Writer) error {
+	fs := newFlags("bench", "[--sizes 10000,70000,250000,1000000] [--sections knn,pca,embed]", stderr)
+	sizesFlag := fs.String("sizes", "10000,70000,250000,1000000", "numbers of cells, comma-separated")
+	sectionsFlag := fs.String("sections", "knn,pca,embed", "what to time: knn, pca, embed")
+	threads := fs.Int("threads", 0, "goroutines to use (0: all processors)")
+	iterations := fs.Int("iterations", embed.DefaultIterations, "optimiser iterations of the embedding section")
+	seed := fs.Int64("seed", 1, "seed of the generated data")
+	if err := fs.parse(args); err != nil {
+		return err
+	}
+	var sizes []int
+	for _, f := range strings.Split(*sizesFlag, ",") {
+		n, err := strconv.Atoi(strings.TrimSpace(f))
+		if err != nil || n < 200 {
+			return usagef("--sizes: %q is not a number of cells ≥ 200", f)
+		}
+		sizes = append(sizes, n)
+	}
+	sections := map[string]bool{}
+	for _, s := range strings.Split(*sectionsFlag, ",") {
+		s = strings.TrimSpace(s)
+		if s != "knn" && s != "pca" && s != "embed" {
+			return usagef("--sections: unknown section %q (want knn, pca, embed)", s)
+		}
+		sections[s] = true
+	}
+	ctx, stop := interruptible()
+	defer stop()
+	fmt.Fprintf(stdout, "lodestone bench: %d processors, GOMAXPROCS %d, %s/%s, %s\n\n",
+		runtime.NumCPU(), runtime.GOMAXPROCS(0), runtime.GOOS, runtime.GOARCH, runtime.Version())
+	if sections["knn"] {
+		if err := benchKNN(ctx, stdout, sizes, *threads, *seed); err != nil {
+			return err
+		}
+	}
+	if sections["pca"] {
+		if err := benchPCA(ctx, stdout, *threads, *seed); err != nil {
+			return err
+		}
+	}
+	if sections["embed"] {
+		if err := benchEmbed(ctx, stdout, sizes, *iterations, *threads, *seed); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// peakHeap samples the heap in use every 10 ms while f runs and returns
+// the largest value seen (and the one at the end of f).
+func peakHeap(f func() error) (uint64, error) {
+	var peak atomic.Uint64
+	done := make(chan struct{})
+	var wg sync.WaitGroup
+	wg.Add(1)
+	sample := func() {
+		var m runtime.MemStats
+		runtime.ReadMemStats(&m)
+		if v := m.HeapInuse + m.StackInuse; v > peak.Load() {
+			peak.Store(v)
+		}
+	}
+	go func() {
+		defer wg.Done()
+		t := time.NewTicker(10 * time.Millisecond)
+		defer t.Stop()
+		for {
+			select {
+			case <-done:
+				return
+			case <-t.C:
+				sample()
+			}
+		}
+	}()
+	err := f()
+	sample()
+	close(done)
+	wg.Wait()
+	return peak.Load(), err
+}
+
+func mib(b uint64) string { return fmt.Sprintf("%.0f MiB", float64(b)/(1<<20)) }
+
+// benchData is the generated input of one size: a 50-D Gaussian mixture of
+// 20 clusters.
+func benchData(n int, seed int64) *synthData {
+	x, labels := synth.GaussianMixture(n, 50, 20, seed)
+	return &synthData{x: x, labels: labels}
+}
+
+type synthData struct {
+	x      *atlas.Dense
+	labels []int32
+}
+
+func benchKNN(ctx context.Context, w io.Writer, sizes []int, threads int, seed int64) error {
+	fmt.Fprintln(w, "k nearest neighbours (k = 90, 50-D Gaussian mixture; recall against exact search of 1,000 sampled cells)")
+	fmt.Fprintf(w, "%10s %12s %10s %8s %12s\n", "cells", "method", "time", "recall", "peak heap")
+	for _, n := range sizes {
+		runtime.GC()
+		d := benchData(n, seed)
+		var g *neighbors.Graph
+		start := time.Now()
+		peak, err := peakHeap(func() (err error) {
+			g, err = neighbors.Find(ctx, d.x, neighbors.Options{K: 90, Seed: seed, Threads: threads})
+			return err
+		})
+		if err != nil {
+			return err
+		}
+		elapsed := time.Since(start)
+		sample := quality.Sample(n, 1000, seed)
+		exact, err := neighbors.ExactFor(ctx, d.x, sample, neighbors.Options{K: 90, Threads: threads})
+		if err != nil {
+			return err
+		}
+		recall, err := neighbors.Recall(g, exact, sample)
+		if err != nil {
+			return err
+		}
+		method := "approximate"
+		if n <= neighbors.ExactLimit {
+			method = "exact"
+		}
+		fmt.Fprintf(w, "%10d %12s %8.2f s %8.4f %12s\n", n, method, elapsed.Seconds(), recall, mib(peak))
+	}
+	fmt.Fprintln(w)
+	return nil
+}
+
+func benchPCA(ctx context.Context, w io.Writer, threads int, seed int64) error {
+	fmt.Fprintln(w, "PCA (100,000 cells × 2,000 genes, about 10^7 counts, log-normalised, 50 components)")
+	x, err := prep.RandomCounts(100_000, 2_000, 100, seed)
+	if err != nil {
+		return err
+	}
+	norm, err := prep.Normalize(ctx, x, prep.DefaultTarget, threads, nil)
+	if err != nil {
+		return err
+	}
+	opt := prep.DefaultPCA()
+	opt.Threads, opt.Seed = threads, seed
+	start := time.Now()
+	var res *prep.PCA
+	peak, err := peakHeap(func() (err error) {
+		res, err = prep.RunPCA(ctx, norm, opt)
+		return err
+	})
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "%10s %10s %20s %12s\n", "entries", "time", "variance explained", "peak heap")
+	sum := 0.0
+	for _, r := range res.ExplainedVarianceRatio {
+		sum += r
+	}
+	fmt.Fprintf(w, "%10d %8.2f s %19.1f%% %12s\n", norm.NNZ(), time.Since(start).Seconds(), 100*sum, mib(peak))
+	fmt.Fprintln(w)
+	return nil
+}
+
+func benchEmbed(ctx context.Context, w io.Writer, sizes []int, iterations, threads int, seed int64) error {
+	fmt.Fprintf(w, "embedding (perplexity 30 on 90 neighbours, attraction 1, %d iterations; kNN preservation@15 on 1,000 cells)\n", iterations)
+	fmt.Fprintf(w, "%10s %12s %13s %10s %8s %12s %12s\n", "cells", "affinities", "ms/iteration", "total", "KL", "kNN kept@15", "peak heap")
+	for _, n := range sizes {
+		runtime.GC()
+		d := benchData(n, seed)
+		g, err := neighbors.Find(ctx, d.x, neighbors.Options{K: 90, Seed: seed, Threads: threads})
+		if err != nil {
+			return err
+		}
+		var layout []float32
+		var affTime, runTime time.Duration
+		kl := math.NaN()
+		peak, err := peakHeap(func() error {
+			start := time.Now()
+			P, err := affinity.Perplexity(ctx, g, 30, threads)
+			if err != nil {
+				return err
+			}
+			affTime = time.Since(start)
+			init, err := embed.InitPCA(d.x)
+			if err != nil {
+				return err
+			}
+			p := embed.DefaultParams()
+			p.Iterations, p.Seed, p.Threads = iterations, seed, threads
+			if p.EarlyIterations > iterations {
+				p.EarlyIterations = iterations
+			}
+			start = time.Now()
+			layout, err = embed.Run(ctx, P, init, p, func(s embed.Snapshot) {
+				if s.Done {
+					kl = s.KL
+				}
+			})
+			runTime = time.Since(start)
+			return err
+		})
+		if err != nil {
+			return err
+		}
+		kept, err := quality.KNNPreservation(ctx, d.x, layout, 15, quality.Sample(n, 1000, seed), threads)
+		if err != nil {
+			return err
+		}
+		fmt.Fprintf(w, "%10d %10.2f s %13.1f %8.1f s %8.3f %12.3f %12s\n", n, affTime.Seconds(),
+			1000*runTime.Seconds()/float64(iterations), runTime.Seconds(), kl, kept, mib(peak))
+	}
+	fmt.Fprintln(w)
+	return nil
+}
