@@ -37,7 +37,13 @@ type Figure struct {
 	View *raster.View
 	// ScreenRadius is the point radius on screen in logical pixels and
 	// Opacity the points' opacity in (0, 1]; 0 chooses
-	// raster.DefaultStyle's value for the number of points.
+	// raster.DefaultStyle's value for the number of points. The radius in
+	// the figure is
+	//
+	//	r_out = ScreenRadius · (output pixels per data unit) / (screen logical pixels per data unit)
+	//
+	// which is ScreenRadius · mapWidth / ScreenWidth when the figure shows
+	// the screen's width, kept within [0.25, raster.MaxRadius] pixels.
 	ScreenRadius, Opacity float64
 	// ScreenWidth is the width of the on-screen map in logical pixels; 0
 	// means View.Width when View is set, else DefaultScreenWidth.

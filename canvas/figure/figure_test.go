@@ -93,7 +93,7 @@ func TestFigureInputErrors(t *testing.T) {
 		{"height", func(*Figure) {}, Size{WidthPx: 300, HeightPx: raster.MaxSize + 1}, ErrSize, "HeightPx"},
 		{"dpi", func(*Figure) {}, Size{WidthPx: 300, HeightPx: 300, DPI: -72}, ErrSize, "DPI"},
 		{"text", func(*Figure) {}, Size{WidthPx: 300, HeightPx: 300, TextPx: 400}, ErrSize, "TextPx"},
-		{"no room", func(*Figure) {}, Size{WidthPx: 40, HeightPx: 30, TextPx: 12}, ErrNoRoom, "Size"},
+		{"no room", func(*Figure) {}, Size{WidthPx: 60, HeightPx: 48, TextPx: 12}, ErrNoRoom, "Size"},
 	} {
 		f := testFigure(200, 3)
 		tc.edit(f)

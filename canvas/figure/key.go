@@ -31,7 +31,7 @@ func (k *keyLayout) origin(x, y float64) {
 
 // Smallest text scale a crowded key shrinks to, and the steps it takes.
 const (
-	keyMinScale  = 0.6
+	keyMinScale  = 0.75
 	keyScaleStep = 0.1
 )
 
@@ -39,7 +39,7 @@ const (
 // A list of categories is set in columns of rows: as few columns as fit
 // the height when the key is beside the map (maxH the larger), as many as
 // fit the width when it is below. A crowded list first shrinks its text
-// (down to keyMinScale · T), then shortens its labels with an ellipsis, then
+// (down to keyMinScale · T, 5¼ pt for 7 pt text), then shortens its labels with an ellipsis, then
 // ends with a line that counts the entries left out.
 func layoutKey(ts *typesetter, k *Key, T, maxW, maxH float64) *keyLayout {
 	if len(k.Entries) == 0 {

@@ -61,9 +61,15 @@ type placedLabel struct {
 	ax, ay float64
 }
 
+// maxHalo is the widest label halo, in pixels: wide enough for any text
+// size, and it bounds the cost of widening the glyph masks.
+const maxHalo = 10
+
 // labelStyle returns the text size and halo width of labels for body text
-// size T.
-func labelStyle(T float64) (size, halo float64) { return T, math.Max(1, 0.14*T) }
+// size T: the halo is 0.14 T, within [1, maxHalo] pixels.
+func labelStyle(T float64) (size, halo float64) {
+	return T, math.Max(1, math.Min(maxHalo, 0.14*T))
+}
 
 // layoutLabels places the labels whose anchors lie in the map, in order.
 // Each label's box (its text's advance and height, widened by the halo) is

@@ -13,9 +13,9 @@ type Size struct {
 	// DPI is the resolution written into the file (pixels per inch; the PNG
 	// pHYs chunk, the SVG's physical width and height); 0 writes none.
 	DPI float64
-	// TextPx is the body text size (the em size) in pixels; 0 chooses
-	// 1/36 of the shorter side, at least 10 pixels. Titles are 1.3 times
-	// larger.
+	// TextPx is the body text size (the em size) in pixels, at most a
+	// quarter of the shorter side; 0 chooses 1/36 of the shorter side, at
+	// least 10 pixels. Titles are 1.3 times larger.
 	TextPx float64
 }
 
@@ -85,11 +85,11 @@ func Preset(name string, dpi float64) (Size, error) {
 	return Size{}, inputError("preset "+quoteName(name), -1, ErrPreset)
 }
 
-// quoteName returns name in quotes, shortened to 40 bytes, for messages.
+// quoteName returns name in quotes, shortened to 40 runes, for messages.
 func quoteName(name string) string {
 	const most = 40
-	if len(name) > most {
-		name = name[:most] + "…"
+	if r := []rune(name); len(r) > most {
+		name = string(r[:most]) + "…"
 	}
 	return `"` + name + `"`
 }
@@ -103,7 +103,7 @@ func (s Size) check() error {
 		return inputError("Size.HeightPx", -1, ErrSize)
 	case !(s.DPI >= 0) || math.IsInf(s.DPI, 1):
 		return inputError("Size.DPI", -1, ErrSize)
-	case !(s.TextPx >= 0) || s.TextPx > float64(min(s.WidthPx, s.HeightPx)):
+	case !(s.TextPx >= 0) || s.TextPx > float64(min(s.WidthPx, s.HeightPx))/4:
 		return inputError("Size.TextPx", -1, ErrSize)
 	}
 	return nil
