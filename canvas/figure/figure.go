@@ -18,6 +18,13 @@ const screenMargin = 24
 
 // Figure is a map to export: what the map widget shows, and the title, key
 // and labels around it.
+//
+// WritePNG and WriteSVG refuse a figure with an *InputError wrapping
+// ErrOddLength (Layout), ErrLength (Colours, Palette), ErrPaletteIndex
+// (Colours), ErrIndex (Order), ErrStyle (ScreenRadius, Opacity,
+// ScreenWidth), ErrView or ErrCoordinate (Labels), and a size with ErrSize,
+// or ErrNoRoom when the title and key leave the map less than 16 × 16
+// pixels.
 type Figure struct {
 	// Layout holds the points' coordinates, interleaved x0, y0, x1, y1, …
 	// in data units with y up.
