@@ -80,7 +80,7 @@ func Approximate(ctx context.Context, x *atlas.Dense, opt Options) (*Graph, erro
 			proj[w] = make([]float32, n)
 		}
 		rng := rand.New(rand.NewPCG(uint64(opt.Seed), uint64(t)+1))
-		trees[t] = buildRPTree(y, leafSize, rng, proj[w])
+		trees[t] = buildRPTree(ctx, y, leafSize, rng, proj[w])
 	})
 	if err != nil {
 		return nil, err

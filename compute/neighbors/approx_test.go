@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"slices"
+	"sync"
 	"testing"
 	"time"
 
@@ -203,5 +204,58 @@ func TestCancel(t *testing.T) {
 			t.Fatalf("error %v, want context.DeadlineExceeded", err)
 		}
 		t.Logf("stopped %v after the deadline", time.Since(start)-30*time.Millisecond)
+	}
+}
+
+// TestApproximateSmallAndCosine checks the approximate search on the
+// smallest input (k + 1 points: everyone is everyone's neighbour) and with
+// the cosine metric, against Exact.
+func TestApproximateSmallAndCosine(t *testing.T) {
+	ctx := context.Background()
+	for _, c := range []struct {
+		x   *atlas.Dense
+		opt Options
+	}{
+		{randomMatrix(16, 4, 1), Options{K: 15}},
+		{randomMatrix(2000, 12, 2), Options{K: 10, Metric: Cosine, Method: ApproximateSearch}},
+	} {
+		g, err := Find(ctx, c.x, c.opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		e, err := Exact(ctx, c.x, Options{K: c.opt.K, Metric: c.opt.Metric})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if r, err := Recall(g, e, nil); err != nil || r < 0.98 {
+			t.Fatalf("%d points, %v: recall %v, %v", c.x.Rows, c.opt.Metric, r, err)
+		}
+		for i := 0; i < g.N; i++ {
+			checkValidRow(t, g, i)
+		}
+	}
+}
+
+// TestProgress checks that both searches report progress that never goes
+// backwards, never passes the total and ends at the total.
+func TestProgress(t *testing.T) {
+	x := randomMatrix(3000, 8, 4)
+	for _, f := range []func(context.Context, *atlas.Dense, Options) (*Graph, error){Exact, Approximate} {
+		var mu sync.Mutex
+		var last, total int64 = -1, 0
+		_, err := f(context.Background(), x, Options{K: 10, Threads: 1, Progress: func(done, all int64) {
+			mu.Lock()
+			defer mu.Unlock()
+			if done < last || done > all {
+				t.Errorf("progress %d of %d after %d", done, all, last)
+			}
+			last, total = done, all
+		}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if last != total || total == 0 {
+			t.Fatalf("progress ended at %d of %d", last, total)
+		}
 	}
 }

@@ -110,8 +110,8 @@ func (j *joiner) run(ctx context.Context, n, batch int, join func(item, block in
 			j.bufs[blk] = buf
 		})
 		nb := len(parallel.Blocks(b1-b0, j.threads)) - 1
-		// Owners take interleaved runs of ownerRun ids, so that the offers
-		// of a batch of nearby points spread over all threads.
+		// Owners take interleaved runs of ownerRun ids, so that the work
+		// spreads evenly even when a batch's offers crowd in one region.
 		parallel.For(j.threads, j.threads, func(o, _, _ int) {
 			var c int64
 			for _, buf := range j.bufs[:nb] {
@@ -157,20 +157,25 @@ func (s *candidates) setShare(p int, offers int32) {
 }
 
 // offer adds q with priority pr to the list of p when pr is below p's share,
-// the list has room and q is not there yet.
-func (s *candidates) offer(p int, q int32, pr uint32) {
+// the list has room and q is not there yet. It reports whether q is in the
+// list afterwards.
+func (s *candidates) offer(p int, q int32, pr uint32) bool {
 	n := int(s.size[p])
-	if pr > s.share[p] || n == s.c {
-		return
+	if pr > s.share[p] {
+		return false
 	}
 	list := s.id[p*s.c : p*s.c+n]
 	for _, v := range list {
 		if v == q {
-			return
+			return true
 		}
+	}
+	if n == s.c {
+		return false
 	}
 	s.id[p*s.c+n] = q
 	s.size[p]++
+	return true
 }
 
 // list returns the ids of p's list.
@@ -203,11 +208,15 @@ func pairPriority(seed uint64, step int, a, b int32) uint32 {
 func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSteps int, delta float64, step func(int)) error {
 	n, k := j.x.Rows, j.l.k
 	fresh, old := newCandidates(n, maxNew), newCandidates(n, maxOld)
-	// scan calls f(p, q) for every entry (p, q) whose flag is want and for
-	// which p or q lies in [lo, hi).
-	scan := func(lo, hi int, want uint8, f func(p, q int32, pIn, qIn bool)) {
+	// scan calls f(p, q, e) for every entry e = (p, q) whose flag is want
+	// and for which p or q lies in [lo, hi). It stops early when ctx is
+	// done.
+	scan := func(lo, hi int, want uint8, f func(p, q int32, e int, pIn, qIn bool)) {
 		l, h := int32(lo), int32(hi)
 		for p := int32(0); p < int32(n); p++ {
+			if p%16384 == 0 && ctx.Err() != nil {
+				return
+			}
 			base := int(p) * k
 			pIn := p >= l && p < h
 			for e, q := range j.l.idx[base : base+k] {
@@ -215,18 +224,20 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 					continue
 				}
 				if qIn := q >= l && q < h; pIn || qIn {
-					f(p, q, pIn, qIn)
+					f(p, q, base+e, pIn, qIn)
 				}
 			}
 		}
 	}
 	// sample fills to with a sample of the ids joined to each point of
 	// [lo, hi) by an entry flagged want, in either direction, for the
-	// points where wanted is true.
+	// points where wanted is true. It returns marks with the entries of
+	// points in [lo, hi) whose own id was sampled appended.
 	count := make([][]int32, j.threads)
-	sample := func(s, lo, hi int, want uint8, to *candidates, wanted func(p int32) bool, c []int32) {
+	marks := make([][]int, j.threads)
+	sample := func(s, lo, hi int, want uint8, to *candidates, wanted func(p int32) bool, c []int32, marks []int) []int {
 		clear(c)
-		scan(lo, hi, want, func(p, q int32, pIn, qIn bool) {
+		scan(lo, hi, want, func(p, q int32, _ int, pIn, qIn bool) {
 			if pIn {
 				c[p-int32(lo)]++
 			}
@@ -242,10 +253,10 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 				to.size[p] = int32(to.c) // full: takes nothing
 			}
 		}
-		scan(lo, hi, want, func(p, q int32, pIn, qIn bool) {
+		scan(lo, hi, want, func(p, q int32, e int, pIn, qIn bool) {
 			pr := pairPriority(seed, s, p, q)
-			if pIn {
-				to.offer(int(p), q, pr)
+			if pIn && to.offer(int(p), q, pr) {
+				marks = append(marks, e)
 			}
 			if qIn {
 				to.offer(int(q), p, pr)
@@ -256,6 +267,7 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 				to.size[p] = 0
 			}
 		}
+		return marks
 	}
 	all := func(int32) bool { return true }
 	for s := 0; s < maxSteps; s++ {
@@ -264,26 +276,17 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 				count[blk] = make([]int32, hi-lo)
 			}
 			c := count[blk][:hi-lo]
-			sample(s, lo, hi, 1, fresh, all, c)
-			sample(s, lo, hi, 0, old, func(p int32) bool { return fresh.size[p] > 0 }, c)
+			marks[blk] = sample(s, lo, hi, 1, fresh, all, c, marks[blk][:0])
+			sample(s, lo, hi, 0, old, func(p int32) bool { return fresh.size[p] > 0 }, c, nil)
 		})
-		// Entries sampled as new are old from now on (after every owner has
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		// Entries sampled as new are old from now on (once every owner has
 		// read the flags).
-		parallel.For(n, j.threads, func(lo, hi, _ int) {
-			for p := lo; p < hi; p++ {
-				cand := fresh.list(p)
-				flag := j.l.flag[p*k : (p+1)*k]
-				for e, q := range j.l.idx[p*k : (p+1)*k] {
-					if flag[e] == 0 {
-						continue
-					}
-					for _, c := range cand {
-						if c == q {
-							flag[e] = 0
-							break
-						}
-					}
-				}
+		parallel.For(j.threads, j.threads, func(blk, _, _ int) {
+			for _, e := range marks[blk] {
+				j.l.flag[e] = 0
 			}
 		})
 		changed, err := j.run(ctx, n, pointBatch, func(p, blk int, buf []update) []update {

@@ -40,3 +40,18 @@ func BenchmarkSqDistRows(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*n), "ns/distance")
 }
+
+// BenchmarkSqDistTile measures the 4×16 tile kernel of the exhaustive
+// search in 50 dimensions, per distance.
+func BenchmarkSqDistTile(b *testing.B) {
+	const dim = 50
+	q := kernelData(4, dim)
+	tile := kernelData(tileRows, dim)
+	thr := []float32{1, 1, 1, 1}
+	out := make([]float32, 4*tileRows)
+	var mask [4]uint32
+	for i := 0; i < b.N; i++ {
+		sqDistTile(q, dim, tile, thr, out, &mask)
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*4*tileRows), "ns/distance")
+}

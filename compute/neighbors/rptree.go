@@ -1,6 +1,7 @@
 package neighbors
 
 import (
+	"context"
 	"math/rand/v2"
 
 	"lodestone/compute/atlas"
@@ -18,8 +19,9 @@ type rpTree struct {
 // leafSize rows. A cell is split at the median of the rows' projections on a
 // random direction, the difference of two of its rows drawn at random (a
 // random Gaussian direction when those coincide), so that the split follows
-// the spread of the data in the cell. proj is scratch of length x.Rows.
-func buildRPTree(x *atlas.Dense, leafSize int, rng *rand.Rand, proj []float32) *rpTree {
+// the spread of the data in the cell. proj is scratch of length x.Rows. It
+// returns nil when ctx is done before the tree is complete.
+func buildRPTree(ctx context.Context, x *atlas.Dense, leafSize int, rng *rand.Rand, proj []float32) *rpTree {
 	n, dim := x.Rows, x.Cols
 	t := &rpTree{perm: make([]int32, n), bounds: []int32{0}}
 	for i := range t.perm {
@@ -31,6 +33,9 @@ func buildRPTree(x *atlas.Dense, leafSize int, rng *rand.Rand, proj []float32) *
 	for len(stack) > 0 {
 		c := stack[len(stack)-1]
 		stack = stack[:len(stack)-1]
+		if c.hi-c.lo > 65536 && ctx.Err() != nil {
+			return nil
+		}
 		if c.hi-c.lo <= leafSize {
 			t.bounds = append(t.bounds, int32(c.hi))
 			continue
