@@ -81,9 +81,9 @@ func peakHeap(f func() error) (uint64, error) {
 	var wg sync.WaitGroup
 	wg.Add(1)
 	sample := func() {
-		var m runtime.MemStats
-		runtime.ReadMemStats(&m)
-		if v := m.HeapInuse + m.StackInuse; v > peak.Load() {
+		var stats runtime.MemStats
+		runtime.ReadMemStats(&stats)
+		if v := stats.HeapInuse + stats.StackInuse; v > peak.Load() {
 			peak.Store(v)
 		}
 	}
