@@ -131,9 +131,9 @@ type fftRepulsion struct {
 	kw, kxIm, kyIm []float64
 	// Near-field blocks for blockH: for each cell offset o ∈ [−1,1]², kernel
 	// k and target and source nodes t, s of their cells,
-	// nearKernel[((o·3+k)·cellNodes+t)·cellNodes+s] = K_k(node_t − node_s − o·h).
+	// nearKernel[(o·cellNodes+t)·cellNodes+s] = (K_x, K_y, K_w)(node_t − node_s − o·h).
 	blockH     float64
-	nearKernel []float64
+	nearKernel [][3]float64
 
 	// Per point: cell, Lagrange weights (x then y), and Σ_j w_ij.
 	cellOf   []int32
@@ -145,13 +145,13 @@ type fftRepulsion struct {
 	// and their coordinates in that order.
 	start  []int32
 	order  []int32
-	sorted []float64
+	sorted [][2]float64
 	// Near field only: per cell, the charges on its nodes; cell boundaries
 	// of the parts handled by each thread; per part, accumulated sums for
 	// each sorted point.
 	cellQ []float64
 	parts []int
-	acc   []float64
+	acc   [][3]float64
 
 	charge []float64    // per block: my × mx spread charges
 	spec   []complex128 // ly × (lx/2+1)
@@ -270,33 +270,75 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 	n := len(y) / 2
 	ex, ey := bounds[1]-bounds[0], bounds[3]-bounds[2]
 	extent := max(ex, ey, 1e-150)
-	// Start from the width at which a layout of uniform density over its
-	// bounding box would have nearBudget near pairs per point, at most
-	// extent/targetCells; denser spots narrow it further below.
-	area := max(ex*ey, extent*extent/float64(targetCells*targetCells))
-	h := ladder(min(extent/targetCells, math.Sqrt(nearBudget*area/(9*float64(n)))))
-	if cells := int(math.Ceil(extent / h)); 2*(cells*d+1) > maxFFTLen {
-		h = ladder(extent / float64((maxFFTLen/2-1)/d))
-	}
 	r.cellOf = grow32(r.cellOf, n)
 	r.wts = grow(r.wts, 2*interpNodes*n)
 	r.zval = grow(r.zval, n)
-	for {
+	cells := func(e, h float64) int { return max(1, int(math.Ceil(e/h))) }
+	fftLen := func(e, h float64) int { return goodFFTLen(2 * (cells(e, h)*d + 1)) }
+	place := func(h float64) {
 		r.h, r.delta, r.x0, r.y0 = h, h/d, bounds[0], bounds[2]
-		r.nx, r.ny = max(1, int(math.Ceil(ex/h))), max(1, int(math.Ceil(ey/h)))
+		r.nx, r.ny = cells(ex, h), cells(ey, h)
 		r.near = h > fineCellWidth
 		r.locate(y)
-		if !r.near {
-			break
-		}
-		// Narrower cells when the near field would cost too much and the
-		// grid can still grow.
-		if work := r.bin(y); work <= int64(nearBudget)*int64(n) ||
-			2*(2*max(r.nx, r.ny)*d+1) > maxFFTLen {
-			break
-		}
-		h = ladder(h * 0.8)
 	}
+	// The narrowest cells the FFT allows.
+	hMin := ladder(extent / float64((maxFFTLen/2-1)/d))
+	// A first guess: the width at which a layout of uniform density over its
+	// bounding box would have nearBudget near pairs per point, at most
+	// extent/targetCells.
+	area := max(ex*ey, extent*extent/float64(targetCells*targetCells))
+	h0 := max(hMin, ladder(min(extent/targetCells, math.Sqrt(nearBudget*area/(9*float64(n))))))
+	place(h0)
+	if !r.near {
+		r.finishGrid()
+		return
+	}
+	// Choose among widths 2^(k/4)·h0 by a cost model: the FFT grows as the
+	// cells narrow, the near field shrinks (its pairs as h², its occupied
+	// cells as 1/h², both extrapolated from the binning at h0).
+	work0, occ0 := r.bin(y)
+	cost := func(h float64) float64 {
+		lx, ly := fftLen(ex, h), fftLen(ey, h)
+		c := costFFT * float64(lx*ly) * math.Log2(float64(max(lx, ly)))
+		if h > fineCellWidth {
+			s := (h / h0) * (h / h0)
+			c += costPair*float64(work0)*s + costCell*min(float64(occ0)/s, float64(cells(ex, h)*cells(ey, h)))
+		}
+		return c
+	}
+	best, bestCost := h0, cost(h0)
+	for k := -12; k <= 8; k++ {
+		h := h0 * math.Exp2(float64(k)/4)
+		if h < hMin || k == 0 {
+			continue
+		}
+		if c := cost(h); c < bestCost {
+			best, bestCost = h, c
+		}
+	}
+	if best != h0 {
+		place(best)
+		if r.near {
+			r.bin(y)
+		}
+	}
+	r.finishGrid()
+}
+
+// Relative costs for choosing the cell width, in nanoseconds of one core as
+// measured on the development machine (only their ratios matter): per unit
+// of near-field work (each pair counts twice), per occupied cell (its
+// near-field potentials), and per padded node and level of the four FFTs.
+const (
+	costPair = 1.8
+	costCell = 10000
+	costFFT  = 12
+)
+
+// finishGrid sizes the FFT for the chosen cells and prepares the kernel
+// spectra, near-field blocks and buffers.
+func (r *fftRepulsion) finishGrid() {
+	const d = interpNodes - 1
 	r.mx, r.my = r.nx*d+1, r.ny*d+1
 	lx, ly := goodFFTLen(2*r.mx), goodFFTLen(2*r.my)
 	if lx != r.lx || ly != r.ly || r.delta != r.kernelDelta {
@@ -336,8 +378,9 @@ func (r *fftRepulsion) axis(v, origin float64, cells int) (int, [interpNodes]flo
 }
 
 // bin sorts the points by cell (counting sort, stable in point id) and
-// returns the number of near-field pairs: Σ_c n_c Σ_{c' adjacent or equal} n_c'.
-func (r *fftRepulsion) bin(y []float64) int64 {
+// returns the near-field work, Σ_c n_c Σ_{c' adjacent or equal} n_c' (each
+// pair counted twice), and the number of occupied cells.
+func (r *fftRepulsion) bin(y []float64) (int64, int) {
 	n, cells := len(y)/2, r.nx*r.ny
 	r.start = grow32(r.start, cells+1)
 	clear(r.start)
@@ -351,6 +394,7 @@ func (r *fftRepulsion) bin(y []float64) int64 {
 	// cost of its node potentials (worth about 4·cellNodes pairs).
 	r.cellWork = grow64(r.cellWork, cells+1)
 	var work, total int64
+	occupied := 0
 	for cy := 0; cy < r.ny; cy++ {
 		for cx := 0; cx < r.nx; cx++ {
 			c := cy*r.nx + cx
@@ -364,6 +408,7 @@ func (r *fftRepulsion) bin(y []float64) int64 {
 				}
 				work += cnt * around
 				cost = cnt*around/2 + 4*cellNodes
+				occupied++
 			}
 			total += cost
 			r.cellWork[c+1] = total
@@ -379,19 +424,22 @@ func (r *fftRepulsion) bin(y []float64) int64 {
 	}
 	r.parts = append(r.parts, cells)
 	r.order = grow32(r.order, n)
-	r.sorted = grow(r.sorted, 2*n)
+	if cap(r.sorted) < n {
+		r.sorted = make([][2]float64, n)
+	}
+	r.sorted = r.sorted[:n]
 	next := r.start[:cells] // reuse as fill cursors, then restore
 	for i := 0; i < n; i++ {
 		c := r.cellOf[i]
 		k := next[c]
 		r.order[k] = int32(i)
-		r.sorted[2*k], r.sorted[2*k+1] = y[2*i], y[2*i+1]
+		r.sorted[k] = [2]float64{y[2*i], y[2*i+1]}
 		next[c]++
 	}
 	// next[c] now holds the end of cell c, the start of c+1: shift back.
 	copy(r.start[1:], r.start[:cells])
 	r.start[0] = 0
-	return work
+	return work, occupied
 }
 
 // resize makes the per-size buffers and transforms fit lx × ly.
@@ -473,7 +521,9 @@ func (r *fftRepulsion) kernelSpectra() {
 // neighbours (itself included) for the current cell width.
 func (r *fftRepulsion) nearBlocks() {
 	r.blockH = r.h
-	r.nearKernel = grow(r.nearKernel, 9*3*cellNodes*cellNodes)
+	if r.nearKernel == nil {
+		r.nearKernel = make([][3]float64, 9*cellNodes*cellNodes)
+	}
 	for o := 0; o < 9; o++ {
 		ox, oy := float64(o%3-1), float64(o/3-1)
 		for t := 0; t < cellNodes; t++ {
@@ -482,9 +532,7 @@ func (r *fftRepulsion) nearBlocks() {
 				dx := float64(t%interpNodes-s%interpNodes)*r.delta - ox*r.h
 				dy := float64(t/interpNodes-s/interpNodes)*r.delta - oy*r.h
 				kx, ky, kw := kernel(dx, dy)
-				for k, v := range [3]float64{kx, ky, kw} {
-					r.nearKernel[((o*3+k)*cellNodes+t)*cellNodes+s] = v
-				}
+				r.nearKernel[(o*cellNodes+t)*cellNodes+s] = [3]float64{kx, ky, kw}
 			}
 		}
 	}
@@ -645,7 +693,10 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 	cells := nx * ny
 	parts := len(r.parts) - 1
 	r.cellQ = grow(r.cellQ, cells*cellNodes)
-	r.acc = grow(r.acc, parts*3*n)
+	if cap(r.acc) < parts*n {
+		r.acc = make([][3]float64, parts*n)
+	}
+	r.acc = r.acc[:parts*n]
 	// Charges of each occupied cell on its own nodes.
 	parallel.For(parts, parts, func(lo, hi, _ int) {
 		for p := lo; p < hi; p++ {
@@ -667,7 +718,7 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 	var stopped atomic.Bool
 	parallel.For(parts, parts, func(lo, hi, _ int) {
 		for p := lo; p < hi; p++ {
-			acc := r.acc[p*3*n : (p+1)*3*n]
+			acc := r.acc[p*n : (p+1)*n]
 			clear(acc)
 			for c := r.parts[p]; c < r.parts[p+1]; c++ {
 				if c%64 == 0 && stop() {
@@ -679,12 +730,11 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 				}
 				cx, cy := c%nx, c/nx
 				// v = grid potentials on the cell's nodes − the near part.
-				var v [3][cellNodes]float64
+				var v [cellNodes][3]float64
 				base := cy*d*mx + cx*d
-				for k := range v {
-					for t := range v[k] {
-						v[k][t] = r.pot[k*grid+base+(t/interpNodes)*mx+t%interpNodes]
-					}
+				for t := range v {
+					node := base + (t/interpNodes)*mx + t%interpNodes
+					v[t] = [3]float64{r.pot[node], r.pot[grid+node], r.pot[2*grid+node]}
 				}
 				for o := 0; o < 9; o++ {
 					sx, sy := cx+o%3-1, cy+o/3-1
@@ -696,28 +746,30 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 						continue
 					}
 					q := (*[cellNodes]float64)(r.cellQ[src*cellNodes:])
-					for k := range v {
-						blk := r.nearKernel[(o*3+k)*cellNodes*cellNodes:]
-						for t := range v[k] {
-							row := (*[cellNodes]float64)(blk[t*cellNodes:])
-							var s float64
-							for u := range row {
-								s += row[u] * q[u]
-							}
-							v[k][t] -= s
+					blk := r.nearKernel[o*cellNodes*cellNodes:]
+					for t := range v {
+						row := (*[cellNodes][3]float64)(blk[t*cellNodes:])
+						var sx, sy, sw float64
+						for u, k := range row {
+							sx += k[0] * q[u]
+							sy += k[1] * q[u]
+							sw += k[2] * q[u]
 						}
+						v[t][0] -= sx
+						v[t][1] -= sy
+						v[t][2] -= sw
 					}
 				}
 				for k := r.start[c]; k < r.start[c+1]; k++ {
 					w := r.wts[2*interpNodes*int(r.order[k]):]
 					var f [3]float64
-					for t := 0; t < cellNodes; t++ {
+					for t := range v {
 						wt := w[interpNodes+t/interpNodes] * w[t%interpNodes]
-						f[0] += wt * v[0][t]
-						f[1] += wt * v[1][t]
-						f[2] += wt * v[2][t]
+						f[0] += wt * v[t][0]
+						f[1] += wt * v[t][1]
+						f[2] += wt * v[t][2]
 					}
-					a := acc[3*k : 3*k+3]
+					a := &acc[k]
 					a[0] += f[0]
 					a[1] += f[1]
 					a[2] += f[2] + 1 // the exact self term, w_ii = 1
@@ -742,7 +794,7 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 		for k := lo; k < hi; k++ {
 			var f [3]float64
 			for p := 0; p < parts; p++ {
-				a := r.acc[p*3*n+3*k:]
+				a := &r.acc[p*n+k]
 				f[0] += a[0]
 				f[1] += a[1]
 				f[2] += a[2]
@@ -755,34 +807,35 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 }
 
 // pairs adds the exact kernel sums between the sorted points [alo, ahi) and
-// [blo, bhi) to acc (three values per sorted point), each pair once to both
-// points. With same, the two ranges are one cell and only pairs a < b count.
-func (r *fftRepulsion) pairs(acc []float64, alo, ahi, blo, bhi int32, same bool) {
-	pts := r.sorted
+// [blo, bhi) to acc, each pair once to both points. With same, the two ranges
+// are one cell and only pairs a < b count.
+func (r *fftRepulsion) pairs(acc [][3]float64, alo, ahi, blo, bhi int32, same bool) {
 	for a := alo; a < ahi; a++ {
-		xa, ya := pts[2*a], pts[2*a+1]
-		var fx, fy, fw float64
+		pa := r.sorted[a]
 		from := blo
 		if same {
 			from = a + 1
 		}
-		for b := from; b < bhi; b++ {
-			dx, dy := xa-pts[2*b], ya-pts[2*b+1]
+		pts, out := r.sorted[from:bhi], acc[from:bhi]
+		out = out[:len(pts)]
+		var fx, fy, fw float64
+		for b, pb := range pts {
+			dx, dy := pa[0]-pb[0], pa[1]-pb[1]
 			w := 1 / (1 + dx*dx + dy*dy)
 			w2 := w * w
 			gx, gy := w2*dx, w2*dy
 			fx += gx
 			fy += gy
 			fw += w
-			ab := acc[3*b : 3*b+3]
-			ab[0] -= gx
-			ab[1] -= gy
-			ab[2] += w
+			o := &out[b]
+			o[0] -= gx
+			o[1] -= gy
+			o[2] += w
 		}
-		aa := acc[3*a : 3*a+3]
-		aa[0] += fx
-		aa[1] += fy
-		aa[2] += fw
+		o := &acc[a]
+		o[0] += fx
+		o[1] += fy
+		o[2] += fw
 	}
 }
 
