@@ -211,6 +211,24 @@ func (m *Map) Fit() {
 	m.Refresh()
 }
 
+// Order returns the drawing order of the cells.
+func (m *Map) Order() []int32 { return m.order }
+
+// LogicalView returns the current view in logical pixels (what the user
+// sees, independent of the screen's pixel density), and the widget's width
+// in logical pixels.
+func (m *Map) LogicalView() (raster.View, int) {
+	v := m.view
+	s := m.pixScale
+	if s <= 0 {
+		s = 1
+	}
+	v.Scale /= s
+	v.Width = int(math.Round(float64(v.Width) / s))
+	v.Height = int(math.Round(float64(v.Height) / s))
+	return v, int(m.Size().Width)
+}
+
 // Pinned reports whether the user's pan or zoom holds the view.
 func (m *Map) Pinned() bool { return m.pinned }
 

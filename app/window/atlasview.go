@@ -17,6 +17,7 @@ import (
 	"fyne.io/fyne/v2/widget"
 
 	"lodestone/app/live"
+	"lodestone/app/paint"
 	"lodestone/app/session"
 	lcanvas "lodestone/canvas"
 	"lodestone/compute/atlas"
@@ -49,13 +50,13 @@ type atlasView struct {
 	dial    *lcanvas.Dial
 	key     *lcanvas.Key
 
-	paint       *paint
+	painted     *paint.Paint
 	paintedGene []float64 // values of the gene painting the map
 	hidden      []bool    // per key entry of a categorical paint
 	paintSel    *widget.Select
 	geneBox     *widget.SelectEntry
 
-	groups     []*group
+	groups     []*paint.Group
 	groupsList *widget.List
 	groupSel   int
 
@@ -443,8 +444,8 @@ func (v *atlasView) hoverText(i int) string {
 			fmt.Fprintf(&b, "\n%s: %s", c.Name, l)
 		}
 	}
-	if v.paint != nil && v.paint.source == paintGene {
-		fmt.Fprintf(&b, "\n%s: %s", v.paint.name, formatValue(v.paintValue(i)))
+	if v.painted != nil && v.painted.Source == paint.Gene {
+		fmt.Fprintf(&b, "\n%s: %s", v.painted.Name, paint.FormatValue(v.paintValue(i)))
 	}
 	return b.String()
 }

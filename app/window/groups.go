@@ -11,6 +11,7 @@ import (
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 
+	"lodestone/app/paint"
 	"lodestone/canvas/colour"
 )
 
@@ -59,7 +60,7 @@ func (v *atlasView) groupsPanel() fyne.CanvasObject {
 	return container.NewBorder(container.NewVBox(help, actions), nil, nil, nil, v.groupsList)
 }
 
-func (v *atlasView) chosenGroup() *group {
+func (v *atlasView) chosenGroup() *paint.Group {
 	if v.groupSel < 0 || v.groupSel >= len(v.groups) {
 		return nil
 	}
@@ -73,12 +74,12 @@ func (v *atlasView) groupFromSelection() {
 		v.u.showError("Nothing selected", fmt.Errorf("draw a lasso around some cells first (tool Lasso +, or Ctrl+L)"))
 		return
 	}
-	g := &group{Name: fmt.Sprintf("group %d", len(v.groups)+1), Colour: groupColour(len(v.groups)),
+	g := &paint.Group{Name: fmt.Sprintf("group %d", len(v.groups)+1), Colour: groupColour(len(v.groups)),
 		Cells: append([]bool(nil), sel...), Count: n}
 	v.addGroup(g)
 }
 
-func (v *atlasView) addGroup(g *group) {
+func (v *atlasView) addGroup(g *paint.Group) {
 	v.groups = append(v.groups, g)
 	v.groupsList.Refresh()
 	v.groupsList.Select(len(v.groups) - 1)

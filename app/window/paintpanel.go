@@ -2,6 +2,9 @@ package window
 
 import (
 	"sort"
+
+	"lodestone/app/paint"
+	lcanvas "lodestone/canvas"
 	"strings"
 
 	"fyne.io/fyne/v2"
@@ -60,69 +63,69 @@ func (v *atlasView) paintPanel() fyne.CanvasObject {
 
 // defaultPaint paints by the first categorical column with between 2 and
 // 40 levels, or plainly.
-func (v *atlasView) defaultPaint() *paint {
+func (v *atlasView) defaultPaint() *paint.Paint {
 	for k := range v.prep.Annotations {
 		c := &v.prep.Annotations[k]
 		if c.Kind == atlas.Categorical && len(c.Levels) >= 2 && len(c.Levels) <= 40 {
 			v.paintSel.SetSelected(c.Name)
-			return v.paint
+			return v.painted
 		}
 	}
 	v.paintSel.SetSelected(plainChoice)
-	return v.paint
+	return v.painted
 }
 
 func (v *atlasView) paintByChoice(s string) {
 	v.hidden = nil
 	switch s {
 	case plainChoice:
-		v.setPaint(plainPaint(v.prep.Cells()))
+		v.setPaint(paint.PlainPaint(v.prep.Cells()))
 	case groupsChoice:
-		v.setPaint(groupsPaint(v.groups, v.prep.Cells()))
+		v.setPaint(paint.GroupsPaint(v.groups, v.prep.Cells()))
 	default:
 		for k := range v.prep.Annotations {
 			if c := &v.prep.Annotations[k]; c.Name == s {
-				v.setPaint(columnPaint(c, nil))
+				v.setPaint(paint.ForColumn(c, nil))
 			}
 		}
 	}
 }
 
-// columnPaint paints by any annotation column.
-func columnPaint(c *atlas.Column, hidden []bool) *paint {
-	if c.Kind == atlas.Categorical {
-		return categoricalPaint(c, hidden)
-	}
-	lo, hi := valueRange(c.Values)
-	return continuousPaint(c.Name, c.Values, lo, hi)
-}
-
 // setPaint shows p on the map and in the key.
-func (v *atlasView) setPaint(p *paint) {
+func (v *atlasView) setPaint(p *paint.Paint) {
 	if p == nil {
 		return
 	}
-	v.paint = p
-	v.mapView.SetPaint(p.colours, p.palette)
-	if p.continuous {
-		v.key.SetRamp(p.name, p.palette[:len(p.palette)-1], formatValue(p.lo), formatValue(p.hi), p.missing)
+	v.painted = p
+	v.mapView.SetPaint(p.Colours, p.Palette)
+	if p.Continuous {
+		v.key.SetRamp(p.Name, p.Palette[:len(p.Palette)-1], paint.FormatValue(p.Lo), paint.FormatValue(p.Hi), p.Missing)
 		return
 	}
-	v.key.SetEntries(p.name, p.entries)
+	v.key.SetEntries(p.Name, keyEntries(p.Entries))
+}
+
+// keyEntries converts paint entries for the key widget.
+func keyEntries(es []paint.Entry) []lcanvas.KeyEntry {
+	out := make([]lcanvas.KeyEntry, len(es))
+	for i, e := range es {
+		out[i] = lcanvas.KeyEntry{Label: e.Label, Colour: e.Colour, Count: e.Count, Hidden: e.Hidden}
+	}
+	return out
 }
 
 // repaint recomputes the current paint (after groups or hidden categories
 // changed).
 func (v *atlasView) repaint() {
-	if v.paint == nil {
+	if v.painted == nil {
 		return
 	}
-	switch v.paint.source {
-	case paintGroups:
-		v.setPaint(groupsPaint(v.groups, v.prep.Cells()))
-	case paintColumn:
-		if c := v.column(v.paint.name); c != nil {
-			v.setPaint(columnPaint(c, v.hidden))
+	switch v.painted.Source {
+	case paint.Groups:
+		v.setPaint(paint.GroupsPaint(v.groups, v.prep.Cells()))
+	case paint.Column:
+		if c := v.column(v.painted.Name); c != nil {
+			v.setPaint(paint.ForColumn(c, v.hidden))
 		}
 	}
 }
@@ -185,10 +188,10 @@ func (v *atlasView) entryLevel(i int, c *atlas.Column) int {
 
 // categoricalColumn returns the column of a categorical paint, or nil.
 func (v *atlasView) categoricalColumn() *atlas.Column {
-	if v.paint == nil || v.paint.source != paintColumn || v.paint.continuous {
+	if v.painted == nil || v.painted.Source != paint.Column || v.painted.Continuous {
 		return nil
 	}
-	return v.column(v.paint.name)
+	return v.column(v.painted.Name)
 }
 
 // geneMatches lists up to limit genes whose symbol or ID starts with s
@@ -247,8 +250,8 @@ func (v *atlasView) paintByGene(g int) {
 	x := v.prep.Expression
 	name := geneLabel(v.prep.GeneSymbols[g], v.prep.GeneIDs[g])
 	go func() {
-		values := geneValues(x, g)
-		p := genePaint(name, values)
+		values := paint.GeneValues(x, g)
+		p := paint.GenePaint(name, values)
 		fyne.Do(func() {
 			v.paintedGene = values
 			v.hidden = nil

@@ -15,6 +15,7 @@ import (
 	"fyne.io/fyne/v2/dialog"
 
 	"lodestone/app/live"
+	"lodestone/app/paint"
 	"lodestone/app/session"
 	"lodestone/canvas/raster"
 	"lodestone/compute/atlas"
@@ -50,8 +51,8 @@ func (v *atlasView) toSession() *session.Session {
 		s.Groups = append(s.Groups, session.Group{Name: g.Name, Colour: session.Colour{R: g.Colour.R, G: g.Colour.G, B: g.Colour.B},
 			Members: session.Members(g.Cells)})
 	}
-	if v.paint != nil {
-		s.Paint = session.Paint{Source: []string{"plain", "column", "gene", "groups"}[v.paint.source], Name: v.paint.name, Hidden: v.hidden}
+	if v.painted != nil {
+		s.Paint = session.Paint{Source: []string{"plain", "column", "gene", "groups"}[v.painted.Source], Name: v.painted.Name, Hidden: v.hidden}
 	}
 	view := v.mapView.View()
 	s.View = session.View{CenterX: view.CenterX, CenterY: view.CenterY, Scale: view.Scale, Width: view.Width, Height: view.Height,
@@ -201,7 +202,7 @@ func (v *atlasView) restore(s *session.Session) {
 	v.groups = nil
 	for _, g := range s.Groups {
 		mask := g.Mask(n)
-		v.groups = append(v.groups, &group{Name: g.Name, Colour: color.NRGBA{R: g.Colour.R, G: g.Colour.G, B: g.Colour.B, A: 0xff},
+		v.groups = append(v.groups, &paint.Group{Name: g.Name, Colour: color.NRGBA{R: g.Colour.R, G: g.Colour.G, B: g.Colour.B, A: 0xff},
 			Cells: mask, Count: len(g.Members)})
 	}
 	v.groupsList.Refresh()

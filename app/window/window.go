@@ -112,6 +112,9 @@ func (u *ui) menu() *fyne.MainMenu {
 		fyne.NewMenuItem("Open the example atlas", u.openExample),
 		fyne.NewMenuItemSeparator(),
 		fyne.NewMenuItem("Save the session…", func() { u.withAtlas(func(v *atlasView) { v.askSaveSession() }) }),
+		fyne.NewMenuItem("Export the figure…", func() { u.withAtlas(func(v *atlasView) { v.askExportFigure() }) }),
+		fyne.NewMenuItem("Export the map as a table…", func() { u.withAtlas(func(v *atlasView) { v.askExportTable() }) }),
+		fyne.NewMenuItem("Export the selected cells' IDs…", func() { u.withAtlas(func(v *atlasView) { v.askExportSelection() }) }),
 		fyne.NewMenuItemSeparator(),
 		fyne.NewMenuItem("Close the atlas", u.closeAtlas),
 	)
@@ -145,6 +148,7 @@ var keys = []struct {
 }{
 	{fyne.KeyO, "open a file"},
 	{fyne.KeyS, "save the session"},
+	{fyne.KeyE, "export the figure"},
 	{fyne.KeyF, "fit the whole map"},
 	{fyne.KeyL, "lasso (again: switch between adding and removing)"},
 	{fyne.KeyM, "move tool"},
@@ -158,6 +162,7 @@ func (u *ui) addShortcuts() {
 	}
 	add(fyne.KeyO, u.askOpenFile)
 	add(fyne.KeyS, func() { u.withAtlas(func(v *atlasView) { v.askSaveSession() }) })
+	add(fyne.KeyE, func() { u.withAtlas(func(v *atlasView) { v.askExportFigure() }) })
 	add(fyne.KeyF, func() { u.withAtlas(func(v *atlasView) { v.mapView.Fit() }) })
 	add(fyne.KeyL, func() { u.withAtlas(func(v *atlasView) { v.toggleLasso() }) })
 	add(fyne.KeyM, func() { u.withAtlas(func(v *atlasView) { v.setTool(0) }) })
