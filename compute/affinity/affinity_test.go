@@ -11,54 +11,28 @@ import (
 	"os/exec"
 	"path/filepath"
 	"slices"
-	"sort"
 	"strings"
 	"testing"
 
+	"lodestone/compute/atlas"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/sparse"
 )
 
-// testGraph returns an exact k-nearest-neighbour graph of n points drawn from
-// a mixture of a few Gaussian clusters in dim dimensions, by brute force.
-func testGraph(n, dim, k int, seed uint64) *neighbors.Graph {
+// testGraph returns the exact k-nearest-neighbour graph (neighbors.Exact) of
+// n points drawn from a mixture of four Gaussian clusters in dim dimensions.
+func testGraph(t *testing.T, n, dim, k int, seed uint64) *neighbors.Graph {
 	rng := rand.New(rand.NewPCG(seed, 1))
-	x := make([]float64, n*dim)
+	x := atlas.NewDense(n, dim)
 	for i := 0; i < n; i++ {
 		c := float64(i % 4)
 		for d := 0; d < dim; d++ {
-			x[i*dim+d] = rng.NormFloat64() + 3*c*float64(d%2)
+			x.Data[i*dim+d] = float32(rng.NormFloat64() + 3*c*float64(d%2))
 		}
 	}
-	g := &neighbors.Graph{N: n, K: k, Index: make([]int32, n*k), Dist: make([]float32, n*k)}
-	type cand struct {
-		j int
-		d float64
-	}
-	cands := make([]cand, 0, n)
-	for i := 0; i < n; i++ {
-		cands = cands[:0]
-		for j := 0; j < n; j++ {
-			if j == i {
-				continue
-			}
-			var s float64
-			for d := 0; d < dim; d++ {
-				t := x[i*dim+d] - x[j*dim+d]
-				s += t * t
-			}
-			cands = append(cands, cand{j, math.Sqrt(s)})
-		}
-		sort.Slice(cands, func(a, b int) bool {
-			if cands[a].d != cands[b].d {
-				return cands[a].d < cands[b].d
-			}
-			return cands[a].j < cands[b].j
-		})
-		for a := 0; a < k; a++ {
-			g.Index[i*k+a] = int32(cands[a].j)
-			g.Dist[i*k+a] = float32(cands[a].d)
-		}
+	g, err := neighbors.Exact(context.Background(), x, neighbors.Options{K: k})
+	if err != nil {
+		t.Fatal(err)
 	}
 	return g
 }
@@ -148,7 +122,7 @@ func checkStructure(t *testing.T, p *sparse.CSR) {
 // H(P_i) = −Σ_j p_j|i log2 p_j|i. Every point's conditional distribution must
 // have entropy log2(perplexity) within 1e-4 bits.
 func TestCalibrationEntropy(t *testing.T) {
-	g := testGraph(400, 6, 90, 1)
+	g := testGraph(t, 400, 6, 90, 1)
 	for _, perp := range []float64{5, 30} {
 		k := min(g.K, int(3*perp))
 		p, d2 := make([]float64, k), make([]float64, k)
@@ -183,7 +157,7 @@ func TestCalibrationEntropy(t *testing.T) {
 // spread of β·d²; 1e-3 relative bounds it with room for float32 storage.
 func TestPerplexityAgainstDefinition(t *testing.T) {
 	const perp = 10
-	g := testGraph(300, 5, 40, 2)
+	g := testGraph(t, 300, 5, 40, 2)
 	p, err := Perplexity(context.Background(), g, perp, 2)
 	if err != nil {
 		t.Fatal(err)
@@ -238,7 +212,7 @@ func pythonWithSklearn(t *testing.T) string {
 func TestPerplexityAgainstSklearn(t *testing.T) {
 	py := pythonWithSklearn(t)
 	const perp = 30
-	g := testGraph(500, 8, 90, 3)
+	g := testGraph(t, 500, 8, 90, 3)
 	p, err := Perplexity(context.Background(), g, perp, 0)
 	if err != nil {
 		t.Fatal(err)
@@ -312,7 +286,7 @@ func readBin[T int32 | int64 | float64](t *testing.T, path string) []T {
 // TestUniformExact checks Uniform against the dense definition
 // p_ij = (1[j∈N_k(i)] + 1[i∈N_k(j)]) / (2Nk) computed directly.
 func TestUniformExact(t *testing.T) {
-	g := testGraph(200, 4, 20, 4)
+	g := testGraph(t, 200, 4, 20, 4)
 	const k = 15
 	p, err := Uniform(g, k)
 	if err != nil {
@@ -341,7 +315,7 @@ func TestUniformExact(t *testing.T) {
 // graph where groups of points coincide still gives finite, calibrated
 // affinities. Entropy target: van der Maaten & Hinton (2008).
 func TestDuplicatePoints(t *testing.T) {
-	g := testGraph(120, 3, 30, 5)
+	g := testGraph(t, 120, 3, 30, 5)
 	// Make every point's three nearest neighbours duplicates (distance 0).
 	for i := 0; i < g.N; i++ {
 		for a := 0; a < 3; a++ {
@@ -393,7 +367,7 @@ func TestDuplicatePoints(t *testing.T) {
 // TestThreadsGiveSameResult checks that the result does not depend on the
 // number of threads (common practice for reproducible parallel code).
 func TestThreadsGiveSameResult(t *testing.T) {
-	g := testGraph(700, 5, 45, 6)
+	g := testGraph(t, 700, 5, 45, 6)
 	a, err := Perplexity(context.Background(), g, 15, 1)
 	if err != nil {
 		t.Fatal(err)
@@ -409,7 +383,7 @@ func TestThreadsGiveSameResult(t *testing.T) {
 
 func TestErrors(t *testing.T) {
 	ctx := context.Background()
-	fresh := func() *neighbors.Graph { return testGraph(50, 3, 12, 7) }
+	fresh := func() *neighbors.Graph { return testGraph(t, 50, 3, 12, 7) }
 
 	g := fresh()
 	if _, err := Perplexity(ctx, g, 20, 0); !errors.Is(err, ErrPerplexity) {

@@ -25,7 +25,7 @@ func smallCase(t *testing.T, n int, seed uint64) (*sparse.CSR, []float64) {
 	for i := range x.Data {
 		x.Data[i] = float32(rng.NormFloat64())
 	}
-	g := bruteKNN(x, 15)
+	g := exactKNN(t, x, 15)
 	p, err := affinity.Perplexity(context.Background(), g, 5, 0)
 	if err != nil {
 		t.Fatal(err)

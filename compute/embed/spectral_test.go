@@ -28,7 +28,7 @@ func rectangleAffinity(t *testing.T, n int, seed uint64) *sparse.CSR {
 	for i := 0; i < n; i++ {
 		x.Data[2*i], x.Data[2*i+1] = float32(3*rng.Float64()), float32(1.7*rng.Float64())
 	}
-	p, err := affinity.Uniform(bruteKNN(x, 15), 15)
+	p, err := affinity.Uniform(exactKNN(t, x, 15), 15)
 	if err != nil {
 		t.Fatal(err)
 	}
