@@ -60,14 +60,15 @@ type atlasView struct {
 	groupsList *widget.List
 	groupSel   int
 
-	tools      *widget.RadioGroup
-	selLabel   *widget.Label
-	perplexity *widget.Entry
-	iterations *widget.Entry
-	stopBtn    *widget.Button
-	restartBtn *widget.Button
-	dotSlider  *widget.Slider
-	inkSlider  *widget.Slider
+	tools       *widget.RadioGroup
+	selLabel    *widget.Label
+	perplexity  *widget.Entry
+	iterations  *widget.Entry
+	stopBtn     *widget.Button
+	restartBtn  *widget.Button
+	clustersBtn *widget.Button
+	dotSlider   *widget.Slider
+	inkSlider   *widget.Slider
 
 	stage    *widget.Label
 	progress *widget.ProgressBar
@@ -84,6 +85,8 @@ type atlasView struct {
 	sessionPath    string          // the session the view was opened from, if any
 	pendingGene    string          // a gene to paint by once the atlas is prepared
 	atlasTab       *container.TabItem
+	markers        *markersState
+	sweep          *sweepState
 	fidelityCancel context.CancelFunc
 	settingsBusy   bool
 }
@@ -286,6 +289,7 @@ func (v *atlasView) build() {
 	v.fidelity = widget.NewLabel("fidelity: after the run")
 	v.selLabel = widget.NewLabel("nothing selected")
 	v.stopBtn = widget.NewButtonWithIcon("Stop", theme.MediaStopIcon(), v.stopOrContinue)
+	v.clustersBtn = widget.NewButtonWithIcon("Find clusters…", theme.ViewRefreshIcon(), v.askClusters)
 }
 
 // content lays the view out: the map with its tool strip on the left, the
@@ -326,6 +330,8 @@ func (v *atlasView) content() fyne.CanvasObject {
 	tabs := container.NewAppTabs(
 		container.NewTabItem("Paint", v.paintPanel()),
 		container.NewTabItem("Groups", v.groupsPanel()),
+		container.NewTabItem("Markers", v.markersPanel()),
+		container.NewTabItem("Sweep", v.sweepPanel()),
 		v.atlasTab,
 	)
 	column := container.NewBorder(v.dialPanel(), nil, nil, nil, tabs)
@@ -354,6 +360,7 @@ func (v *atlasView) dialPanel() fyne.CanvasObject {
 	buttons := container.NewGridWithColumns(2, v.stopBtn, restart)
 	if !v.ready {
 		v.stopBtn.Disable()
+		v.clustersBtn.Disable()
 		restart.Disable()
 		v.perplexity.Disable()
 	}
@@ -378,6 +385,7 @@ func (v *atlasView) iterationsPerTurn() int {
 func (v *atlasView) enableControls() {
 	v.stopBtn.Enable()
 	v.restartBtn.Enable()
+	v.clustersBtn.Enable()
 	v.perplexity.Enable()
 	if v.prep.Expression != nil {
 		v.geneBox.Enable()

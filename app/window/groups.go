@@ -82,6 +82,9 @@ func (v *atlasView) groupFromSelection() {
 func (v *atlasView) addGroup(g *paint.Group) {
 	v.groups = append(v.groups, g)
 	v.groupsList.Refresh()
+	if v.markers != nil && v.markers.source.Selected == groupsSource {
+		v.fillMarkerChoices()
+	}
 	v.groupsList.Select(len(v.groups) - 1)
 	v.repaint()
 }

@@ -57,6 +57,7 @@ func (v *atlasView) paintPanel() fyne.CanvasObject {
 		v.paintSel,
 		widget.NewLabel("or by a gene"),
 		v.geneBox,
+		v.clustersBtn,
 		widget.NewSeparator())
 	return container.NewBorder(top, nil, nil, nil, v.key)
 }

@@ -64,9 +64,24 @@ func (u *ui) selfTestPass() {
 	u.app.Quit()
 }
 
-// selfTestAtlasShown is called when the atlas view first appears.
+// selfTestAtlasShown is called when the atlas view first appears; from
+// then on the self-test reports the run's progress every 15 seconds.
 func (u *ui) selfTestAtlasShown(v *atlasView) {
 	fmt.Fprintf(os.Stderr, "self-test: %d cells on the map; first run at attraction %s\n", v.prep.Cells(), lcanvas.FormatAttraction(v.dial.Value))
+	t := time.NewTicker(15 * time.Second)
+	go func() {
+		defer t.Stop()
+		for {
+			select {
+			case <-v.closed:
+				return
+			case <-t.C:
+				_, st := v.engine.Latest()
+				fmt.Fprintf(os.Stderr, "self-test: run %d at attraction %s, iteration %d/%d, running %v, %.0f s\n",
+					st.Runs, lcanvas.FormatAttraction(st.Attraction), st.Iteration, st.Iterations, st.Running, st.Elapsed.Seconds())
+			}
+		}
+	}()
 }
 
 // selfTestRunEnded advances the self-test after each run.
