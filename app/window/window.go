@@ -20,6 +20,8 @@ import (
 	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/driver/desktop"
 	"fyne.io/fyne/v2/widget"
+
+	"lodestone/assets"
 )
 
 // Options say what the window does when it opens.
@@ -52,6 +54,7 @@ type ui struct {
 // Run opens the window and returns the process exit status when it closes.
 func Run(opts Options) int {
 	a := fyneapp.NewWithID("org.lodestone.atlas")
+	a.SetIcon(fyne.NewStaticResource("lodestone.png", assets.IconPNG))
 	a.Settings().SetTheme(look{})
 	crashed := false
 	if opts.SelfTest == "" {
