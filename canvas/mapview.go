@@ -4,6 +4,7 @@ import (
 	"image"
 	"image/color"
 	"math"
+	"sort"
 	"time"
 
 	"fyne.io/fyne/v2"
@@ -260,15 +261,62 @@ func (m *Map) deviceSize() (int, int) {
 	return int(math.Round(float64(s.Width) * m.pixScale)), int(math.Round(float64(s.Height) * m.pixScale))
 }
 
-// fitted returns the view that shows the whole layout in the widget.
+// fitted returns the view that shows the layout in the widget: its bulk,
+// that is, so that a few stragglers far outside do not shrink the map to a
+// dot (see FitBox).
 func (m *Map) fitted() (raster.View, bool) {
 	w, h := m.deviceSize()
 	if w < 8 || h < 8 || len(m.layout) == 0 {
 		return raster.View{}, false
 	}
 	margin := math.Min(24*m.pixScale, float64(min(w, h))/4)
-	v, err := raster.Fit(m.layout, w, h, margin)
+	x0, x1, y0, y1, ok := FitBox(m.layout)
+	if !ok {
+		v, err := raster.Fit(m.layout, w, h, margin)
+		return v, err == nil
+	}
+	box := []float32{float32(x0), float32(y0), float32(x1), float32(y1)}
+	v, err := raster.Fit(box, w, h, margin)
 	return v, err == nil
+}
+
+// fitSample is the number of points FitBox looks at.
+const fitSample = 20000
+
+// FitBox returns the box that a fitted view shows: the box of the points
+// between the 0.2 and 99.8 percentiles of each coordinate (over a regular
+// sample of at most fitSample points), widened by a quarter of its size on
+// each side but not beyond the extreme points. Points beyond it are a
+// handful of stragglers; they stay reachable by zooming out. ok is false
+// when the layout has no finite point.
+func FitBox(layout []float32) (x0, x1, y0, y1 float64, ok bool) {
+	n := len(layout) / 2
+	step := max(1, n/fitSample)
+	xs := make([]float64, 0, n/step+1)
+	ys := make([]float64, 0, n/step+1)
+	minX, maxX, minY, maxY := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	for i := 0; i < n; i++ {
+		x, y := float64(layout[2*i]), float64(layout[2*i+1])
+		if math.IsNaN(x) || math.IsNaN(y) || math.IsInf(x, 0) || math.IsInf(y, 0) {
+			continue
+		}
+		minX, maxX = math.Min(minX, x), math.Max(maxX, x)
+		minY, maxY = math.Min(minY, y), math.Max(maxY, y)
+		if i%step == 0 {
+			xs = append(xs, x)
+			ys = append(ys, y)
+		}
+	}
+	if len(xs) == 0 {
+		return 0, 0, 0, 0, false
+	}
+	sort.Float64s(xs)
+	sort.Float64s(ys)
+	q := func(s []float64, p float64) float64 { return s[min(len(s)-1, int(p*float64(len(s))))] }
+	x0, x1 = q(xs, 0.002), q(xs, 0.998)
+	y0, y1 = q(ys, 0.002), q(ys, 0.998)
+	dx, dy := (x1-x0)/4, (y1-y0)/4
+	return math.Max(minX, x0-dx), math.Min(maxX, x1+dx), math.Max(minY, y0-dy), math.Min(maxY, y1+dy), true
 }
 
 // follow moves the view towards the fitted view: at once when there is no

@@ -183,3 +183,25 @@ func absDiff(a, b uint32) uint32 {
 	}
 	return b - a
 }
+
+// TestFitBoxIgnoresStragglers checks that a handful of far points do not
+// set the fitted view, while an ordinary layout is shown whole.
+func TestFitBoxIgnoresStragglers(t *testing.T) {
+	l := randomLayout(10000, 9)
+	x0, x1, y0, y1, ok := FitBox(l)
+	if !ok {
+		t.Fatal("no box")
+	}
+	// Gaussian points: the box reaches past ±2.5 (beyond the 0.2–99.8
+	// percentiles, ±2.88, by a quarter of the span, clipped to the extremes).
+	if x0 > -2.5 || x1 < 2.5 || y0 > -2.5 || y1 < 2.5 {
+		t.Fatalf("box (%v,%v)×(%v,%v) cuts the bulk", x0, x1, y0, y1)
+	}
+	for i := 0; i < 10; i++ {
+		l[2*i], l[2*i+1] = 1000+float32(i), -500
+	}
+	x0, x1, y0, y1, _ = FitBox(l)
+	if x1 > 10 || y0 < -10 {
+		t.Fatalf("10 stragglers stretched the box to (%v,%v)×(%v,%v)", x0, x1, y0, y1)
+	}
+}
