@@ -9,8 +9,16 @@ import (
 	"golang.org/x/image/vector"
 )
 
-// ErrSize is returned by Render for an image size that is not positive.
-var ErrSize = errors.New("flatsvg: image size must be positive")
+// The errors Render returns; test for them with errors.Is.
+var (
+	ErrSize  = errors.New("flatsvg: image size must be positive")
+	ErrRange = errors.New("flatsvg: shape reaches too far outside the image")
+)
+
+// maxReach bounds the pixel coordinates Render accepts, in multiples of
+// the image's size: far enough for any drawing meant for the image, near
+// enough that the rasteriser's work stays proportional to the image.
+const maxReach = 64
 
 // floatColumns is a rasteriser width on x/image/vector's float32 path.
 const floatColumns = 513
@@ -29,7 +37,8 @@ const Tolerance = 1.0 / 512
 // coverage and composited with Porter–Duff "over" in painting order.
 // Curves are replaced by straight segments no farther than Tolerance from
 // them. Render returns an error wrapping ErrSize when w or h is not
-// positive.
+// positive, and one wrapping ErrRange when a point of a shape maps farther
+// than 64 image widths or heights from the image.
 func (im *Image) Render(w, h int) (*image.RGBA, error) {
 	if w <= 0 || h <= 0 {
 		return nil, fmt.Errorf("%w: %d × %d", ErrSize, w, h)
@@ -44,6 +53,17 @@ func (im *Image) Render(w, h int) (*image.RGBA, error) {
 	z := vector.NewRasterizer(zw, h)
 	sx, sy := float64(w)/im.Width, float64(h)/im.Height
 	px := func(p Point) Point { return Point{(p.X - im.MinX) * sx, (p.Y - im.MinY) * sy} }
+	for i, s := range im.Shapes {
+		for _, seg := range s.Path {
+			for _, p := range seg.P[:points(seg.Op)] {
+				q := px(p)
+				if !(math.Abs(q.X) <= maxReach*float64(w) && math.Abs(q.Y) <= maxReach*float64(h)) {
+					return nil, fmt.Errorf("%w: shape %d has the point (%g, %g), at pixel (%g, %g) of a %d × %d image",
+						ErrRange, i, p.X, p.Y, q.X, q.Y, w, h)
+				}
+			}
+		}
+	}
 	for _, s := range im.Shapes {
 		z.Reset(zw, h)
 		var pen, start Point
@@ -72,6 +92,17 @@ func (im *Image) Render(w, h int) (*image.RGBA, error) {
 		z.Draw(dst, dst.Bounds(), image.NewUniform(s.Fill), image.Point{})
 	}
 	return dst, nil
+}
+
+// points is the number of points a segment of kind op uses.
+func points(op Op) int {
+	switch op {
+	case MoveTo, LineTo:
+		return 1
+	case CubicTo:
+		return 3
+	}
+	return 0
 }
 
 // cubicSegments returns how many equal parameter steps keep the chords of

@@ -181,11 +181,26 @@ func TestRenderMatchesLibrsvg(t *testing.T) {
 	}
 }
 
-func TestRenderSize(t *testing.T) {
+func TestRenderErrors(t *testing.T) {
 	img := parseString(t, features)
 	for _, s := range [][2]int{{0, 5}, {5, 0}, {-1, -1}} {
 		if _, err := img.Render(s[0], s[1]); !errors.Is(err, ErrSize) {
 			t.Errorf("Render(%d, %d): error %v, want ErrSize", s[0], s[1], err)
+		}
+	}
+	// Points far outside the image are refused rather than rasterised at
+	// great cost; 64 image sizes away is still drawn.
+	for _, tc := range []struct {
+		src  string
+		want error
+	}{
+		{`<svg viewBox="0 0 10 10"><polygon points="0,0 1e300,0 1e300,-1e300"/></svg>`, ErrRange},
+		{`<svg viewBox="0 0 1e-30 1e-30"><polygon points="0,0 1,0 1,1"/></svg>`, ErrRange},
+		{`<svg viewBox="0 0 10 10"><path d="M0 0 C0 0 0 650 1 1 Z"/></svg>`, ErrRange},
+		{`<svg viewBox="0 0 10 10"><polygon points="0,0 640,0 -640,-640"/></svg>`, nil},
+	} {
+		if _, err := parseString(t, tc.src).Render(8, 8); !errors.Is(err, tc.want) {
+			t.Errorf("%s: error %v, want %v", tc.src, err, tc.want)
 		}
 	}
 }

@@ -178,6 +178,15 @@ func Decode(r io.Reader) ([]image.Image, error) {
 		}
 		blob := data[offset : offset+size]
 		if bytes.HasPrefix(blob, pngSignature) {
+			// Read the size first: an icon's images have at most 256
+			// pixels a side, and a larger one is not decoded at all.
+			cfg, err := png.DecodeConfig(bytes.NewReader(blob))
+			if err != nil {
+				return nil, &FormatError{Entry: i, Offset: offset, Err: err}
+			}
+			if cfg.Width > maxSide || cfg.Height > maxSide {
+				return nil, &FormatError{Entry: i, Offset: offset, Err: fmt.Errorf("%w: PNG image of %d × %d", ErrUnsupported, cfg.Width, cfg.Height)}
+			}
 			img, err := png.Decode(bytes.NewReader(blob))
 			if err != nil {
 				return nil, &FormatError{Entry: i, Offset: offset, Err: err}

@@ -2,6 +2,7 @@ package ico
 
 import (
 	"bytes"
+	"encoding/binary"
 	"errors"
 	"fmt"
 	"image"
@@ -198,6 +199,7 @@ func TestErrors(t *testing.T) {
 		{"24 bits", with(func(b []byte) []byte { b[22+14] = 24; return b }), ErrUnsupported, 0, 22},
 		{"compressed", with(func(b []byte) []byte { b[22+16] = 3; return b }), ErrUnsupported, 0, 22},
 		{"odd height", with(func(b []byte) []byte { b[22+8] = 7; return b }), ErrUnsupported, 0, 22},
+		{"large PNG", largePNG(t), ErrUnsupported, 0, 22},
 	} {
 		_, err := Decode(bytes.NewReader(tc.data))
 		var fe *FormatError
@@ -215,6 +217,17 @@ func TestErrors(t *testing.T) {
 	if err := Encode(&bytes.Buffer{}, []image.Image{testImage(300, 300, 1)}); !errors.Is(err, ErrSize) {
 		t.Errorf("Encode(300 × 300): error %v, want ErrSize", err)
 	}
+}
+
+// largePNG returns an icon file whose one entry is a 300 × 1 PNG image.
+func largePNG(t *testing.T) []byte {
+	var img bytes.Buffer
+	if err := png.Encode(&img, testImage(300, 1, 5)); err != nil {
+		t.Fatal(err)
+	}
+	head := []byte{0, 0, 1, 0, 1, 0, 0, 1, 0, 0, 1, 0, 32, 0, 0, 0, 0, 0, 22, 0, 0, 0}
+	binary.LittleEndian.PutUint32(head[14:], uint32(img.Len()))
+	return append(head, img.Bytes()...)
 }
 
 func lookConvert(t *testing.T) string {
