@@ -40,6 +40,7 @@ func windowOptions(args []string, stderr io.Writer) (window.Options, error) {
 	selfTest := fs.Bool("selftest", false, "run the self-test on the example atlas and exit (0 when it passes)")
 	fs.StringVar(&o.SelfTest, "selftest-out", "", "folder for the self-test's screenshots (default: a new temporary folder)")
 	fs.Float64Var(&o.SelfTestDial, "selftest-dial", 10, "the attraction the self-test turns the dial to")
+	fs.BoolVar(&o.SelfTestTour, "selftest-tour", false, "the self-test also finds markers and runs a sweep, saving screenshots")
 	fs.IntVar(&o.Threads, "threads", 0, "goroutines for computing (0: all processors)")
 	if err := fs.Parse(args); err != nil {
 		return o, err

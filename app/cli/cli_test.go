@@ -207,4 +207,3 @@ func TestFigureFromSession(t *testing.T) {
 		}
 	}
 }
-

@@ -85,6 +85,7 @@ type atlasView struct {
 	sessionPath    string          // the session the view was opened from, if any
 	pendingGene    string          // a gene to paint by once the atlas is prepared
 	atlasTab       *container.TabItem
+	tabs           *container.AppTabs
 	markers        *markersState
 	sweep          *sweepState
 	fidelityCancel context.CancelFunc
@@ -327,14 +328,14 @@ func (v *atlasView) content() fyne.CanvasObject {
 	mapArea := container.NewBorder(strip, nil, nil, nil, container.NewStack(frame, container.NewPadded(v.mapView)))
 
 	v.atlasTab = container.NewTabItem("Atlas", v.atlasPanel())
-	tabs := container.NewAppTabs(
+	v.tabs = container.NewAppTabs(
 		container.NewTabItem("Paint", v.paintPanel()),
 		container.NewTabItem("Groups", v.groupsPanel()),
 		container.NewTabItem("Markers", v.markersPanel()),
 		container.NewTabItem("Sweep", v.sweepPanel()),
 		v.atlasTab,
 	)
-	column := container.NewBorder(v.dialPanel(), nil, nil, nil, tabs)
+	column := container.NewBorder(v.dialPanel(), nil, nil, nil, v.tabs)
 	columnBox := container.New(&fixedWidth{width: 340}, column)
 
 	status := container.NewHBox(v.stage, container.NewGridWrap(fyne.NewSize(160, 20), v.progress), v.elapsed,

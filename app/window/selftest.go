@@ -112,6 +112,10 @@ func (u *ui) selfTestRunEnded(v *atlasView, st live.Status) {
 					u.selfTestFail(err)
 					return
 				}
+				if u.opts.SelfTestTour {
+					u.selfTestTour(v)
+					return
+				}
 				u.selfTestPass()
 			}
 		})
@@ -192,4 +196,49 @@ func MapColours(img image.Image, r image.Rectangle) (colours int, inked float64)
 		}
 	}
 	return colours, float64(total-bgCount) / float64(total)
+}
+
+// selfTestTour goes on to the markers of the first state and a short
+// sweep, saving a screenshot of each (for the README).
+func (u *ui) selfTestTour(v *atlasView) {
+	m := v.markers
+	v.tabs.SelectIndex(2)
+	m.source.SetSelected("state")
+	m.onDone = func() {
+		m.onDone = nil
+		time.AfterFunc(300*time.Millisecond, func() {
+			fyne.Do(func() {
+				if err := u.selfTestShot("markers.png"); err != nil {
+					u.selfTestFail(err)
+					return
+				}
+				s := v.sweep
+				v.tabs.SelectIndex(3)
+				s.values.SetText("1, 4, 30, inf")
+				v.iterations.SetText("250")
+				s.onDone = func() {
+					s.onDone = nil
+					time.AfterFunc(300*time.Millisecond, func() {
+						fyne.Do(func() {
+							if err := u.selfTestShot("sweep.png"); err != nil {
+								u.selfTestFail(err)
+								return
+							}
+							u.selfTestPass()
+						})
+					})
+				}
+				v.toggleSweep()
+			})
+		})
+	}
+	v.findMarkers()
+}
+
+// selfTestShot saves a screenshot of the window only.
+func (u *ui) selfTestShot(name string) error {
+	path := filepath.Join(u.opts.SelfTest, name)
+	shot, how := u.screenshot()
+	fmt.Fprintf(os.Stderr, "self-test: saved %s (%s)\n", path, how)
+	return writePNG(path, shot)
 }

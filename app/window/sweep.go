@@ -49,6 +49,7 @@ type sweepState struct {
 	grid    *fyne.Container
 	cancel  context.CancelFunc
 	results []sweepResult
+	onDone  func() // called after a sweep ended (used by the self-test)
 }
 
 const noLabel = "(none)"
@@ -189,6 +190,9 @@ func (v *atlasView) toggleSweep() {
 			default:
 				s.info.SetText(fmt.Sprintf("%d maps in %.0f s. Tap a map to adopt it; the dial moves to its value.",
 					len(s.results), time.Since(start).Seconds()))
+			}
+			if s.onDone != nil {
+				s.onDone()
 			}
 		})
 	}()

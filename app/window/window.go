@@ -30,6 +30,7 @@ type Options struct {
 	Example      bool    // open the bundled example atlas at once
 	SelfTest     string  // run the self-test, saving screenshots into this folder
 	SelfTestDial float64 // the dial value the self-test turns to (10 when 0)
+	SelfTestTour bool    // the self-test also shows markers and a sweep, with screenshots
 	Threads      int     // goroutines for computing; 0 means all processors
 }
 
