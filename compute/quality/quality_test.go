@@ -151,11 +151,12 @@ except ImportError as e:
 `
 
 // sklearnTrust prints sklearn.manifold.trustworthiness(X, Y, n_neighbors=k)
-// for each k given, X and Y read from text files.
+// for each pair of files X, Y and each k given: arguments X1 Y1 X2 Y2 k….
 const sklearnTrust = `
-x, y = numpy.loadtxt(sys.argv[1], ndmin=2), numpy.loadtxt(sys.argv[2], ndmin=2)
-for k in sys.argv[3:]:
-    print(repr(float(trustworthiness(x, y, n_neighbors=int(k)))))
+pairs = [(numpy.loadtxt(sys.argv[i], ndmin=2), numpy.loadtxt(sys.argv[i + 1], ndmin=2)) for i in (1, 3)]
+for x, y in pairs:
+    for k in sys.argv[5:]:
+        print(repr(float(trustworthiness(x, y, n_neighbors=int(k)))))
 `
 
 func writeRows(t *testing.T, name string, rows, cols int, at func(i, j int) float32) string {
@@ -195,8 +196,8 @@ func TestTrustworthinessSklearn(t *testing.T) {
 	for _, k := range ks {
 		args = append(args, strconv.Itoa(k))
 	}
-	full := runSklearn(t, sklearnTrust, append([]string{hp, lp}, args...)...)
-	part := runSklearn(t, sklearnTrust, append([]string{hs, ls}, args...)...)
+	ref := runSklearn(t, sklearnTrust, append([]string{hp, lp, hs, ls}, args...)...)
+	full, part := ref[:len(ks)], ref[len(ks):]
 	for e, k := range ks {
 		got, err := Trustworthiness(x, xy, k, nil)
 		if err != nil {
