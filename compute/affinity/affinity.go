@@ -102,9 +102,15 @@ func Uniform(g *neighbors.Graph, k int) (*sparse.CSR, error) {
 }
 
 // calibrate writes to p the Gaussian weights exp(−β d2_j) / Σ_l exp(−β d2_l)
-// of one point's neighbours, at squared distances d2, with β chosen by binary
-// search so that the entropy of p in bits is target within EntropyTolerance.
-// It returns the entropy reached. d2 is overwritten.
+// of one point's neighbours, at squared distances d2, with β chosen so that
+// the entropy of p in bits is target within EntropyTolerance, and returns the
+// entropy reached. d2 is overwritten.
+//
+// The entropy H(β) = log Σ_j w_j + β⟨e⟩ (nats; w_j = exp(−β e_j), ⟨·⟩ the
+// mean under p) falls monotonically with β, with dH/dβ = −β Var_p(e). The
+// search keeps a bracket [lo, hi] around the root, as binary search does
+// (van der Maaten & Hinton 2008), but steps by Newton's method whenever the
+// step stays inside the bracket, which cuts the steps from about 30 to 5.
 func calibrate(p, d2 []float64, target float64) float64 {
 	// Shift by the smallest squared distance: p is unchanged and the largest
 	// weight is exp(0) = 1, so no weight underflows to give a zero sum.
@@ -121,39 +127,47 @@ func calibrate(p, d2 []float64, target float64) float64 {
 		}
 		return math.Log2(float64(len(p)))
 	}
+	goal := target * math.Ln2 // nats
 	beta, betaLo, betaHi := 1/mean, 0.0, math.Inf(1)
 	var sum, h float64
 	for step := 0; step < maxSearchSteps; step++ {
-		var sumE float64
+		var sumE, sumE2 float64
 		sum = 0
 		for j, e := range d2 {
 			w := math.Exp(-beta * e)
 			p[j] = w
 			sum += w
 			sumE += w * e
+			sumE2 += w * e * e
 		}
-		// H = log Σw + β Σ w e / Σ w, in nats; converted to bits.
-		h = (math.Log(sum) + beta*sumE/sum) / math.Ln2
-		diff := h - target
-		if math.Abs(diff) < EntropyTolerance {
+		meanE := sumE / sum
+		h = math.Log(sum) + beta*meanE
+		diff := h - goal
+		if math.Abs(diff) < EntropyTolerance*math.Ln2 {
 			break
 		}
 		if diff > 0 {
 			betaLo = beta
-			if math.IsInf(betaHi, 1) {
-				beta *= 2
-			} else {
-				beta = (beta + betaHi) / 2
-			}
 		} else {
 			betaHi = beta
-			beta = (beta + betaLo) / 2
+		}
+		next := math.NaN()
+		if slope := -beta * (sumE2/sum - meanE*meanE); slope < 0 {
+			next = beta - diff/slope
+		}
+		switch {
+		case next > betaLo && next < betaHi:
+			beta = next
+		case math.IsInf(betaHi, 1):
+			beta *= 2
+		default:
+			beta = (betaLo + betaHi) / 2
 		}
 	}
 	for j := range p {
 		p[j] /= sum
 	}
-	return h
+	return h / math.Ln2
 }
 
 // checkShape checks the sizes of g's arrays.

@@ -19,6 +19,9 @@
 // ρ = 1 is t-SNE (van der Maaten & Hinton 2008); larger ρ is exaggeration,
 // which closes the gaps between groups and tends, as ρ → ∞, to the Laplacian
 // eigenmap of P (Linderman & Steinerberger 2019; Arora, Hu & Kothari 2018).
+// For ρ < 1, C_ρ has no minimum: under a uniform scale s of the map it falls
+// as 2(ρ−1)·log s, so the map keeps growing slowly while its shape, and
+// KL(P‖Q), settle.
 package embed
 
 import (
@@ -90,11 +93,13 @@ type Snapshot struct {
 	Iterations int       // iterations planned
 	// KL is the Kullback–Leibler divergence KL(P‖Q) of the layout at the start
 	// of the last iteration, for P itself (not the exaggerated P), estimated
-	// from the interpolated Z. It is NaN for the spectral layout.
+	// from the interpolated Z. It is NaN in the first snapshot of a run, which
+	// is published as soon as possible, and for the spectral layout.
 	KL         float64
 	Attraction float64 // the attraction of the run (Params.Attraction)
 	// Settled reports that the mean step of the last iteration was below
-	// 1e-3 of the layout's extent (the longer side of its bounding box).
+	// 1e-3 of the layout's extent (the longer side of its bounding box), from
+	// the 30th iteration on (before, momentum is still building up).
 	Settled bool
 	Done    bool // the last snapshot of a run that finished
 }
@@ -122,8 +127,11 @@ const initialStd = 1e-4
 // strong attraction. A warm restart (EarlyIterations 0) starts with fresh
 // gains and no momentum.
 //
-// The repulsion is computed exactly for fewer than exactBelow points and by
-// FFT-accelerated interpolation otherwise (Linderman et al. 2019). With
+// P must be symmetric (it is not checked) and is used as P/ΣP. The repulsion
+// is summed exactly for fewer than 1,000 points and otherwise by
+// FFT-accelerated interpolation (Linderman et al. 2019) with the near field
+// summed exactly (Phillips & White 1997), to a relative error of about 1e-4.
+// With
 // p.Attraction = +Inf, Run returns the spectral layout of P (Spectral) turned
 // and scaled to match init by ScaleLike, or with unit standard deviation when
 // init is nil.

@@ -9,11 +9,21 @@ import (
 	"lodestone/compute/sparse"
 )
 
-// affinity is a checked affinity matrix with the sums the optimiser needs.
+// affinities is a checked affinity matrix with the sums the optimiser needs.
 type affinities struct {
 	*sparse.CSR
 	sum     float64 // Σ p_ij over the stored entries
-	entropy float64 // Σ p̃_ij log p̃_ij with p̃ = p / sum
+	entropy float64 // Σ p̃_ij log p̃_ij with p̃ = p / sum, once known
+	known   bool    // entropy has been computed
+}
+
+// setEntropy records Σ p log p, summed by blocks, as Σ p̃ log p̃ = (Σ p log p)/S − log S.
+func (a *affinities) setEntropy(plogp []float64) {
+	var e float64
+	for _, v := range plogp {
+		e += v
+	}
+	a.entropy, a.known = e/a.sum-math.Log(a.sum), true
 }
 
 // checkAffinity validates P for a layout of n points (n < 0: any) and
@@ -31,13 +41,13 @@ func checkAffinity(p *sparse.CSR, n, threads int) (*affinities, error) {
 		return nil, &LayoutError{What: "initial layout", Point: -1, Err: ErrShape}
 	}
 	threads = parallel.Threads(threads)
-	sums := make([]float64, 2*threads)
+	sums := make([]float64, threads)
 	var (
 		mu    sync.Mutex
 		fault *AffinityError
 	)
 	parallel.For(p.Rows, threads, func(lo, hi, block int) {
-		var s, e float64
+		var s float64
 		for i := lo; i < hi; i++ {
 			start, end := p.RowPtr[i], p.RowPtr[i+1]
 			if end < start || end > int64(len(p.ColIdx)) {
@@ -69,27 +79,22 @@ func checkAffinity(p *sparse.CSR, n, threads int) (*affinities, error) {
 					return
 				}
 				prev = c
-				if v > 0 {
-					s += v
-					e += v * math.Log(v)
-				}
+				s += v
 			}
 		}
-		sums[2*block], sums[2*block+1] = s, e
+		sums[block] = s
 	})
 	if fault != nil {
 		return nil, fault
 	}
-	var s, e float64
-	for b := 0; b < threads; b++ {
-		s += sums[2*b]
-		e += sums[2*b+1]
+	var s float64
+	for _, v := range sums {
+		s += v
 	}
 	if !(s > 0) {
 		return nil, &AffinityError{Row: -1, Entry: -1, Err: ErrEmpty}
 	}
-	// Σ p̃ log p̃ = (Σ p log p)/S − log S.
-	return &affinities{CSR: p, sum: s, entropy: e/s - math.Log(s)}, nil
+	return &affinities{CSR: p, sum: s}, nil
 }
 
 // attract writes the attractive sums of the layout y to dst,
@@ -98,12 +103,13 @@ func checkAffinity(p *sparse.CSR, n, threads int) (*affinities, error) {
 //
 // over the stored entries of P, one block of rows per thread. When logs is
 // not nil it also stores in logs[block] the block's Σ p_ij log(1 + |y_i − y_j|²)
-// (that is −Σ p_ij log w_ij), for the KL divergence. It returns false when
-// stop reported true part-way.
-func attract(dst, y []float64, p *sparse.CSR, logs []float64, threads int, stop func() bool) bool {
+// (that is −Σ p_ij log w_ij), and when plogp is not nil as well the block's
+// Σ p_ij log p_ij, for the KL divergence. It returns false when stop reported
+// true part-way.
+func attract(dst, y []float64, p *sparse.CSR, logs, plogp []float64, threads int, stop func() bool) bool {
 	var stopped atomic.Bool
 	parallel.For(p.Rows, threads, func(lo, hi, block int) {
-		var ls float64
+		var ls, pl float64
 		for i := lo; i < hi; i++ {
 			if (i-lo)%stopEvery == stopEvery-1 && stop() {
 				stopped.Store(true)
@@ -130,11 +136,21 @@ func attract(dst, y []float64, p *sparse.CSR, logs []float64, threads int, stop 
 					fy += pw * dy
 					ls += v * math.Log(q)
 				}
+				if plogp != nil {
+					for _, v := range vals {
+						if v > 0 {
+							pl += float64(v) * math.Log(float64(v))
+						}
+					}
+				}
 			}
 			dst[2*i], dst[2*i+1] = fx, fy
 		}
 		if logs != nil {
 			logs[block] = ls
+		}
+		if plogp != nil {
+			plogp[block] = pl
 		}
 	})
 	return !stopped.Load()
@@ -165,8 +181,9 @@ func KL(p *sparse.CSR, layout []float32, threads int) (float64, error) {
 	threads = parallel.Threads(threads)
 	rep := make([]float64, len(y))
 	z := ExactRepulsion(rep, y, threads)
-	logs := make([]float64, threads)
-	attract(rep, y, p, logs, threads, func() bool { return false })
+	logs, plogp := make([]float64, threads), make([]float64, threads)
+	attract(rep, y, p, logs, plogp, threads, func() bool { return false })
+	a.setEntropy(plogp)
 	var ls float64
 	for _, v := range logs {
 		ls += v

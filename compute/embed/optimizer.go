@@ -18,6 +18,11 @@ const exactBelow = 1000
 // would otherwise throw far outside the map.
 const stepCap = 0.5
 
+// settleAfter is the number of iterations before a run may count as settled:
+// after a restart the steps start small and grow for a few tens of
+// iterations while momentum builds up.
+const settleAfter = 30
+
 // Gains and momentum (van der Maaten & Hinton 2008; common practice for the
 // values).
 const (
@@ -40,6 +45,7 @@ type optimizer struct {
 	rep     []float64 // repulsive sums
 	fft     *fftRepulsion
 	logs    []float64    // per block: Σ p log(1 + d²)
+	plogp   []float64    // per block: Σ p log p, computed with the first KL
 	sums    [][4]float64 // per block scratch
 	boxes   [][4]float64 // per block bounding boxes
 	bounds  [4]float64   // xmin, xmax, ymin, ymax
@@ -56,6 +62,7 @@ func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
 		attr:  make([]float64, 2*n),
 		rep:   make([]float64, 2*n),
 		logs:  make([]float64, p.Threads),
+		plogp: make([]float64, p.Threads),
 		sums:  make([][4]float64, p.Threads),
 		boxes: make([][4]float64, p.Threads),
 	}
@@ -101,13 +108,15 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 		}
 		last := t == total-1
 		snap := publish != nil && (t == 0 || last || time.Since(lastPublish) >= o.p.SnapshotEvery)
-		kl, ok := o.iterate(rho, momentum, eta, snap, stop)
+		// The first snapshot goes out as early as possible, without the KL
+		// estimate's logarithms.
+		kl, ok := o.iterate(rho, momentum, eta, snap && t > 0, stop)
 		if !ok {
 			return o.layout(), ctx.Err()
 		}
 		if snap {
 			publish(Snapshot{Layout: o.layout(), Iteration: t + 1, Iterations: total, KL: kl,
-				Attraction: o.p.Attraction, Settled: o.settled, Done: last})
+				Attraction: o.p.Attraction, Settled: o.settled && t+1 >= settleAfter, Done: last})
 			lastPublish = time.Now()
 		}
 	}
@@ -134,8 +143,15 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 		logs = o.logs
 		clear(logs)
 	}
-	if !attract(o.attr, o.y, o.a.CSR, logs, threads, stop) {
+	var plogp []float64
+	if wantKL && !o.a.known {
+		plogp = o.plogp
+	}
+	if !attract(o.attr, o.y, o.a.CSR, logs, plogp, threads, stop) {
 		return 0, false
+	}
+	if plogp != nil {
+		o.a.setEntropy(plogp)
 	}
 	var z float64
 	if o.fft == nil {

@@ -51,25 +51,28 @@ func ExactRepulsion(dst, y []float64, threads int) float64 {
 
 // Settings of the interpolated repulsion, chosen by measuring the relative
 // error of the forces against ExactRepulsion on clustered and t-SNE layouts
-// of 5,000 points (repulsion_test.go): about 1e-4 to 3e-4 with these values,
-// against 3e-3 to 7e-3 for degree-2 interpolation in cells of width 1 and 3e-2
-// to 8e-2 for the grid alone at node spacing 1/3.
+// of 5,000 points (repulsion_test.go): about 1e-4 with these values, against
+// 3e-3 to 7e-3 for degree-2 interpolation with the same near field and 1e-2 to
+// 8e-2 for the grid alone at node spacings of 1/3 to 1/2.
 const (
 	// interpNodes is the number of interpolation nodes per cell and axis,
 	// the cell's two ends included (polynomials of degree 4); neighbouring
 	// cells share nodes.
 	interpNodes = 5
-	// targetCells is the number of cells along the layout's longer side for
-	// small layouts; the cell width is rounded up from extent/targetCells to a
-	// power of 2^(1/8), so the kernel transforms are recomputed only after the
-	// layout has grown by 9 %.
+	// targetCells is the least number of cells along the layout's longer
+	// side. Cell widths are powers of 2^(1/8), so the kernel transforms are
+	// recomputed only when the layout has grown or shrunk by 9 % or the cost
+	// model moves to another width.
 	targetCells = 8
 	// fineCellWidth is the width at or below which the grid alone is accurate
 	// (node spacing 1/8): no near-field correction.
 	fineCellWidth = 0.5
-	// nearBudget bounds the near-field pairs, per point on average; denser
-	// layouts get narrower cells instead (more grid, fewer pairs).
+	// nearBudget is the number of near-field pairs per point that the first
+	// guess of the cell width aims at, for a layout of uniform density.
 	nearBudget = 400
+	// maxNearWork bounds the near-field work per point (Σ_c n_c Σ n_c' / N);
+	// beyond it the grid alone is used.
+	maxNearWork = 8192
 	// maxFFTLen caps the padded grid per axis; beyond it the cells widen with
 	// the layout and the accuracy of the far field degrades.
 	maxFFTLen = 4096
@@ -77,7 +80,7 @@ const (
 	stopEvery = 4096
 )
 
-// node counts per cell, as a constant for array sizes.
+// cellNodes is the number of nodes per cell, for array sizes.
 const cellNodes = interpNodes * interpNodes
 
 // fftRepulsion computes the sums of ExactRepulsion in O(N) per call by
@@ -111,9 +114,15 @@ const cellNodes = interpNodes * interpNodes
 // the node-to-node kernel between them — and replaced by the exact sum over
 // those pairs.
 //
+// Cell width. With the near field exact, the remaining error comes from pairs
+// at least one cell apart, whose kernel varies on the scale of their distance,
+// so it hardly depends on h: h only trades the size of the FFT (which grows as
+// h shrinks) against the near-field work (which grows with h² times the local
+// density). setGrid picks h by a cost model each call.
+//
 // The transforms of the kernels and the near-field blocks are computed once
-// per grid size and cell width and kept; all buffers are reused, so calls
-// allocate nothing once the grid has stopped growing.
+// per grid size and cell width and kept, and all buffers are reused between
+// calls.
 type fftRepulsion struct {
 	threads int
 
@@ -319,8 +328,14 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 	if best != h0 {
 		place(best)
 		if r.near {
-			r.bin(y)
+			work0, _ = r.bin(y)
 		}
+	}
+	if r.near && work0 > maxNearWork*int64(n) {
+		// Only a layout with a few points very far from the rest gets here
+		// (the cells are as narrow as the FFT allows and still crowded): the
+		// grid alone bounds the time of a call, at a loss of accuracy.
+		r.near = false
 	}
 	r.finishGrid()
 }
