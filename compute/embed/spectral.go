@@ -139,6 +139,21 @@ func Spectral(ctx context.Context, P *sparse.CSR, threads int) ([]float32, *Spec
 	return out, info, nil
 }
 
+// SpectralInit returns the spectral layout of P (Spectral) scaled to standard
+// deviation 1e-4 over all coordinates: an initial layout for Run (common
+// practice), an alternative to InitPCA when only the affinities are at hand.
+// Errors are those of Spectral.
+func SpectralInit(ctx context.Context, P *sparse.CSR, threads int) ([]float32, error) {
+	layout, _, err := Spectral(ctx, P, threads)
+	if err != nil {
+		return nil, err
+	}
+	for i := range layout {
+		layout[i] *= initialStd
+	}
+	return layout, nil
+}
+
 // normalise centres the interleaved layout y and scales it to the given
 // root-mean-square radius; a layout of coincident points is only centred.
 func normalise(y []float64, radius float64) {

@@ -211,6 +211,31 @@ func TestSpectralDeterministic(t *testing.T) {
 	}
 }
 
+// TestSpectralInit checks the scaling of the spectral initial layout: the
+// eigenmap times 1e-4, so standard deviation 1e-4 over all coordinates
+// (common practice for initial layouts).
+func TestSpectralInit(t *testing.T) {
+	p := rectangleAffinity(t, 500, 6)
+	spec, _, err := Spectral(context.Background(), p, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	init, err := SpectralInit(context.Background(), p, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ss float64
+	for i, v := range init {
+		if v != spec[i]*1e-4 {
+			t.Fatalf("coordinate %d: %g, want %g", i, v, spec[i]*1e-4)
+		}
+		ss += float64(v) * float64(v)
+	}
+	if sd := math.Sqrt(ss / float64(len(init))); math.Abs(sd-1e-4) > 1e-9 {
+		t.Errorf("standard deviation %.6g, want 1e-4", sd)
+	}
+}
+
 // TestScaleLike checks orthogonal Procrustes on a constructed case: a layout
 // that is a rotated, reflected, scaled and shifted copy of the reference is
 // mapped back onto it (exact computation as reference).
