@@ -29,6 +29,9 @@ const EntropyTolerance = 1e-5
 // EntropyTolerance in far fewer steps.
 const maxSearchSteps = 200
 
+// noReverse marks an entry i→j of the conditional matrix without j→i.
+const noReverse = 0xffff
+
 // chunkRows is the number of points handed to a worker at a time; small
 // enough that a cancelled context is noticed within a few milliseconds.
 const chunkRows = 512
@@ -193,6 +196,9 @@ type rowScratch struct {
 // It checks every entry of g it reads and reports the faulty entry with the
 // smallest point index.
 func build(ctx context.Context, g *neighbors.Graph, k int, weigh func(p, d2 []float64), threads int) (*sparse.CSR, error) {
+	if k >= noReverse {
+		return nil, &ParamError{Name: "neighbours per point", Value: float64(k), Reason: "must be below 65535", Err: ErrNeighborCount}
+	}
 	threads = parallel.Threads(threads)
 	n := g.N
 	// Conditional weights, each row sorted by neighbour id so that p_i|j can
@@ -259,22 +265,21 @@ func build(ctx context.Context, g *neighbors.Graph, k int, weigh func(p, d2 []fl
 
 // symmetrize returns P = (C + Cᵀ)/(2n) for the conditional matrix C whose row
 // i holds the k entries cols[i*k:(i+1)*k] (strictly increasing) with values
-// vals[i*k:(i+1)*k].
+// vals[i*k:(i+1)*k]. One binary search per entry finds the reverse entry; the
+// entries without one become extra entries of the other row.
 func symmetrize(ctx context.Context, n, k int, cols []int32, vals []float32, threads int) (*sparse.CSR, error) {
-	row := func(i int) []int32 { return cols[i*k : (i+1)*k] }
-	// find returns the position of j in row i, or -1.
-	find := func(i int, j int32) int {
-		if a, ok := slices.BinarySearch(row(i), j); ok {
-			return a
-		}
-		return -1
-	}
-	// An edge i→j whose reverse j→i is absent adds entry i to row j of P.
+	// rev[e] is the position of i in row j for the entry e = i*k+a naming j,
+	// or noReverse.
+	rev := make([]uint16, n*k)
 	extra := make([]int32, n)
 	err := parallel.ForChunks(ctx, n, chunkRows, threads, func(lo, hi, _ int) {
 		for i := lo; i < hi; i++ {
-			for _, j := range row(i) {
-				if find(int(j), int32(i)) < 0 {
+			for a, j := range cols[i*k : (i+1)*k] {
+				r, ok := slices.BinarySearch(cols[int(j)*k:(int(j)+1)*k], int32(i))
+				if ok {
+					rev[i*k+a] = uint16(r)
+				} else {
+					rev[i*k+a] = noReverse
 					atomic.AddInt32(&extra[j], 1)
 				}
 			}
@@ -287,15 +292,16 @@ func symmetrize(ctx context.Context, n, k int, cols []int32, vals []float32, thr
 	for i := 0; i < n; i++ {
 		extraPtr[i+1] = extraPtr[i] + int64(extra[i])
 	}
-	extraSrc := make([]int32, extraPtr[n])
+	// Extra entries of row j: the entry numbers e of i→j, sorted by e (that
+	// is by i) once placed, so the result does not depend on scheduling.
+	extraEntry := make([]int64, extraPtr[n])
 	fill := make([]int32, n) // next free slot per row, as an offset
 	err = parallel.ForChunks(ctx, n, chunkRows, threads, func(lo, hi, _ int) {
-		for i := lo; i < hi; i++ {
-			for _, j := range row(i) {
-				if find(int(j), int32(i)) < 0 {
-					slot := atomic.AddInt32(&fill[j], 1) - 1
-					extraSrc[extraPtr[j]+int64(slot)] = int32(i)
-				}
+		for e := lo * k; e < hi*k; e++ {
+			if rev[e] == noReverse {
+				j := cols[e]
+				slot := atomic.AddInt32(&fill[j], 1) - 1
+				extraEntry[extraPtr[j]+int64(slot)] = int64(e)
 			}
 		}
 	})
@@ -312,26 +318,24 @@ func symmetrize(ctx context.Context, n, k int, cols []int32, vals []float32, thr
 	scale := 1 / (2 * float64(n))
 	err = parallel.ForChunks(ctx, n, chunkRows, threads, func(lo, hi, _ int) {
 		for i := lo; i < hi; i++ {
-			// The extra sources were placed in arbitrary order; sorting makes
-			// the result independent of scheduling.
-			src := extraSrc[extraPtr[i]:extraPtr[i+1]]
-			slices.Sort(src)
-			own, ownVal := row(i), vals[i*k:(i+1)*k]
+			ext := extraEntry[extraPtr[i]:extraPtr[i+1]]
+			slices.Sort(ext)
+			own := cols[i*k : (i+1)*k]
 			out := p.ColIdx[p.RowPtr[i]:p.RowPtr[i+1]]
 			outVal := p.Val[p.RowPtr[i]:p.RowPtr[i+1]]
 			a, b := 0, 0
 			for o := range out {
-				if b == len(src) || (a < len(own) && own[a] < src[b]) {
-					j := own[a]
-					v := float64(ownVal[a])
-					if r := find(int(j), int32(i)); r >= 0 {
-						v += float64(vals[int(j)*k+r])
+				if b == len(ext) || (a < len(own) && int64(own[a]) < ext[b]/int64(k)) {
+					j, e := own[a], i*k+a
+					v := float64(vals[e])
+					if r := rev[e]; r != noReverse {
+						v += float64(vals[int(j)*k+int(r)])
 					}
 					out[o], outVal[o] = j, float32(v*scale)
 					a++
 				} else {
-					j := src[b]
-					out[o], outVal[o] = j, float32(float64(vals[int(j)*k+find(int(j), int32(i))])*scale)
+					e := ext[b]
+					out[o], outVal[o] = int32(e/int64(k)), float32(float64(vals[e])*scale)
 					b++
 				}
 			}
