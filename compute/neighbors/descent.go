@@ -156,12 +156,12 @@ func (s *candidates) setShare(p int, offers int32) {
 	s.share[p] = uint32(uint64(s.c) << 32 / uint64(offers))
 }
 
-// offer adds q with priority pr to the list of p when pr is below p's share,
-// the list has room and q is not there yet. It reports whether q is in the
-// list afterwards.
+// offer adds q with priority pr to the list of p when pr is below p's share
+// (a share of 0 takes nothing), the list has room and q is not there yet. It
+// reports whether q is in the list afterwards.
 func (s *candidates) offer(p int, q int32, pr uint32) bool {
 	n := int(s.size[p])
-	if pr > s.share[p] {
+	if s.share[p] == 0 || pr > s.share[p] {
 		return false
 	}
 	list := s.id[p*s.c : p*s.c+n]
@@ -278,8 +278,8 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 	}
 	// sample fills to with a sample of the ids joined to each point of
 	// [lo, hi) by an entry flagged want, in either direction, for the
-	// points where wanted is true. It returns marks with the entries of
-	// points in [lo, hi) whose own id was sampled appended.
+	// points where wanted is true. For new entries it returns marks with
+	// the entries of points in [lo, hi) whose id was sampled appended.
 	count := make([][]int32, j.threads)
 	marks := make([][]int, j.threads)
 	sample := func(s, lo, hi int, want uint8, to *candidates, wanted func(p int32) bool, c []int32, marks []int) []int {
@@ -297,23 +297,17 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 			to.setShare(p, c[p-lo])
 			if !wanted(int32(p)) {
 				to.share[p] = 0
-				to.size[p] = int32(to.c) // full: takes nothing
 			}
 		}
 		scan(lo, hi, want, func(p, q int32, e int, pIn, qIn bool) {
 			pr := pairPriority(seed, s, p, q)
-			if pIn && to.offer(int(p), q, pr) {
+			if pIn && to.offer(int(p), q, pr) && want == 1 {
 				marks = append(marks, e)
 			}
 			if qIn {
 				to.offer(int(q), p, pr)
 			}
 		})
-		for p := lo; p < hi; p++ {
-			if !wanted(int32(p)) {
-				to.size[p] = 0
-			}
-		}
 		return marks
 	}
 	all := func(int32) bool { return true }

@@ -104,3 +104,16 @@ func sqDistTileGo(q []float32, dim int, tile, thr, out []float32, mask *[4]uint3
 		mask[i] = m
 	}
 }
+
+// SquaredDistances sets dst[r] to the squared Euclidean distance between q
+// and row r of rows, a row-major block of len(dst) rows of len(q) values:
+//
+//	dst[r] = Σ_j (q_j − rows[r·len(q) + j])²
+//
+// summed in float32 by the kernel of the approximate search (AVX2 where the
+// processor has it). It serves callers that need many distances from one
+// point, such as fidelity scores. rows must hold at least len(dst)·len(q)
+// values.
+func SquaredDistances(dst, q, rows []float32) {
+	sqDistRows(q, rows, dst)
+}

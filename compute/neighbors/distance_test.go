@@ -99,3 +99,30 @@ func TestTileKernel(t *testing.T) {
 		}
 	}
 }
+
+// TestSquaredDistances checks the exported kernel against a float64 sum of
+// squares (an exact slow computation).
+func TestSquaredDistances(t *testing.T) {
+	rng := rand.New(rand.NewPCG(8, 9))
+	const n, dim = 37, 50
+	rows := make([]float32, n*dim)
+	q := make([]float32, dim)
+	for i := range rows {
+		rows[i] = float32(rng.NormFloat64())
+	}
+	for i := range q {
+		q[i] = float32(rng.NormFloat64())
+	}
+	dst := make([]float32, n)
+	SquaredDistances(dst, q, rows)
+	for r := range dst {
+		want := 0.0
+		for j := range q {
+			d := float64(q[j]) - float64(rows[r*dim+j])
+			want += d * d
+		}
+		if math.Abs(float64(dst[r])-want) > float64(dim+2)*0x1p-24*want {
+			t.Fatalf("row %d: %g, float64 sum %g", r, dst[r], want)
+		}
+	}
+}

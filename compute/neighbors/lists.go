@@ -50,27 +50,6 @@ func (l *lists) worst(p int) float32 { return l.dist[(p+1)*l.k-1] }
 // full reports whether p's list has no empty slot.
 func (l *lists) full(p int) bool { return l.idx[(p+1)*l.k-1] >= 0 }
 
-// admits reports whether insert(p, q, d) would change p's list: (d, q)
-// ranks before the last entry and is not in the list.
-func (l *lists) admits(p int, q int32, d float32) bool {
-	base := p * l.k
-	dist, idx := l.dist[base:base+l.k], l.idx[base:base+l.k]
-	last := l.k - 1
-	if !before(d, q, dist[last], idx[last]) {
-		return false
-	}
-	lo, hi := 0, last
-	for lo < hi {
-		m := int(uint(lo+hi) >> 1)
-		if before(d, q, dist[m], idx[m]) {
-			hi = m
-		} else {
-			lo = m + 1
-		}
-	}
-	return lo == 0 || idx[lo-1] != q || dist[lo-1] != d
-}
-
 // insert offers (d, q) to p's list and reports whether it entered: it must
 // rank before the last entry and q must not be in the list already. The new
 // entry is flagged new when the lists have flags.

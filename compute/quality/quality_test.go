@@ -113,7 +113,14 @@ func TestKNNPreservationNaive(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	highDist := func(i, j int) float64 { return sqDist64(x.Row(i), x.Row(j)) }
+	highDist := func(i, j int) float64 {
+		s := 0.0
+		for c := 0; c < x.Cols; c++ {
+			d := float64(x.At(i, c)) - float64(x.At(j, c))
+			s += d * d
+		}
+		return s
+	}
 	shared := 0
 	for _, i := range sample {
 		hi := naiveKNN(x.Rows, i, k, highDist)

@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"sort"
 
 	"lodestone/compute/atlas"
 	"lodestone/compute/neighbors"
@@ -85,8 +86,9 @@ func orAll(sample []int, n int) []int {
 //
 // where U_k(i) holds the cells among i's k nearest in the map that are not
 // among its k nearest in the data, and r(i, j) is the rank of j among i's
-// neighbours in the data (1 for the nearest). Distances are Euclidean, in
-// float64; ties in rank go to the smaller id, ties among the map's
+// neighbours in the data (1 for the nearest). Distances are Euclidean (in
+// the data, squared and summed in float32 by neighbors.SquaredDistances;
+// in the map, in float64); ties in rank go to the smaller id, ties among the map's
 // neighbours to the earlier row of the sample (the smaller id when the
 // sample is sorted, as Sample returns it).
 // It equals scikit-learn's sklearn.manifold.trustworthiness of the sampled
@@ -124,26 +126,45 @@ func Trustworthiness(high *atlas.Dense, layout []float32, k int, sample []int) (
 	g := newGrid(sub, m)
 	threads := parallel.Threads(0)
 	sums := make([]float64, threads)
+	// The sampled rows, gathered for the distance kernel.
+	dim := high.Cols
+	rows := make([]float32, m*dim)
+	for r, i := range sample {
+		copy(rows[r*dim:(r+1)*dim], high.Row(i))
+	}
 	parallel.For(m, threads, func(lo, hi, b int) {
-		d := make([]float64, m)
+		d := make([]float32, m)
 		buf := make([]neighbor, 0, k)
+		keys := make([]rankKey, 0, k)
+		before := make([]int, k+1)
 		var sum float64
 		for r := lo; r < hi; r++ {
-			xi := high.Row(sample[r])
-			for s := range d {
-				d[s] = sqDist64(xi, high.Row(sample[s]))
-			}
+			neighbors.SquaredDistances(d, rows[r*dim:(r+1)*dim], rows)
+			// The ranks in the data of i's map neighbours: sort their keys,
+			// then count, in one pass over the others, how many rank before
+			// each key (binary search into the sorted keys and a running
+			// sum).
 			buf = g.nearest(r, k, buf)
+			keys = keys[:0]
 			for _, nb := range buf {
-				// rank of j = 1 + #{l ≠ i ranking before j}
-				j := int(nb.id)
-				rank := 1
-				for l, dl := range d {
-					if l != r && (dl < d[j] || dl == d[j] && sample[l] < sample[j]) {
-						rank++
-					}
+				keys = append(keys, rankKey{d[nb.id], sample[nb.id]})
+			}
+			sort.Slice(keys, func(a, b int) bool { return keys[a].less(keys[b]) })
+			clear(before)
+			for l, dl := range d {
+				if l == r {
+					continue
 				}
-				if rank > k {
+				key := rankKey{dl, sample[l]}
+				// Keys after position p rank after l.
+				p := sort.Search(len(keys), func(e int) bool { return key.less(keys[e]) })
+				before[p]++
+			}
+			// rank of keys[e] = 1 + #{l ranking before it} = 1 + Σ_{p ≤ e} before[p].
+			ahead := 0
+			for e := range keys {
+				ahead += before[e]
+				if rank := 1 + ahead; rank > k {
 					sum += float64(rank - k)
 				}
 			}
@@ -158,22 +179,13 @@ func Trustworthiness(high *atlas.Dense, layout []float32, k int, sample []int) (
 	return 1 - 2/(nf*kf*(2*nf-3*kf-1))*total, nil
 }
 
-// sqDist64 returns Σ (a_j − b_j)² in float64.
-func sqDist64(a, b []float32) float64 {
-	var s0, s1 float64
-	j := 0
-	for ; j+2 <= len(a); j += 2 {
-		d0 := float64(a[j]) - float64(b[j])
-		d1 := float64(a[j+1]) - float64(b[j+1])
-		s0 += d0 * d0
-		s1 += d1 * d1
-	}
-	if j < len(a) {
-		d := float64(a[j]) - float64(b[j])
-		s0 += d * d
-	}
-	return s0 + s1
+// rankKey orders the data's neighbours of a cell: by distance, then id.
+type rankKey struct {
+	d  float32
+	id int
 }
+
+func (a rankKey) less(b rankKey) bool { return a.d < b.d || a.d == b.d && a.id < b.id }
 
 // LabelAccuracy returns how often a sampled cell's label is the majority
 // label of its k nearest neighbours in the map:
