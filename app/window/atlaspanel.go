@@ -81,7 +81,11 @@ func atlasSummary(name string, d *atlas.Dataset, v *atlasView) string {
 		}
 	}
 	s := p.Settings
-	fmt.Fprintf(&b, "\n**Neighbour graph**: %d neighbours per cell, perplexity %g, seed %d\n", p.Graph.K, s.Perplexity, s.Seed)
+	if p.Graph != nil {
+		fmt.Fprintf(&b, "\n**Neighbour graph**: %d neighbours per cell, perplexity %g, seed %d\n", p.Graph.K, s.Perplexity, s.Seed)
+	} else {
+		b.WriteString("\n*The atlas behind this stored map is being prepared.*\n")
+	}
 	for _, n := range p.Notes {
 		fmt.Fprintf(&b, "\n- note: %s", n)
 	}
