@@ -278,11 +278,11 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 	}
 	// sample fills to with a sample of the ids joined to each point of
 	// [lo, hi) by an entry flagged want, in either direction, for the
-	// points where wanted is true. For new entries it returns marks with
-	// the entries of points in [lo, hi) whose id was sampled appended.
+	// points where wanted is true. For new entries it sets sampled[e] for
+	// the entries e of points in [lo, hi) whose id was sampled.
 	count := make([][]int32, j.threads)
-	marks := make([][]int, j.threads)
-	sample := func(s, lo, hi int, want uint8, to *candidates, wanted func(p int32) bool, c []int32, marks []int) []int {
+	sampled := make([]uint8, n*k)
+	sample := func(s, lo, hi int, want uint8, to *candidates, wanted func(p int32) bool, c []int32) {
 		clear(c)
 		scan(lo, hi, want, func(p, q int32, _ int, pIn, qIn bool) {
 			if pIn {
@@ -302,13 +302,12 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 		scan(lo, hi, want, func(p, q int32, e int, pIn, qIn bool) {
 			pr := pairPriority(seed, s, p, q)
 			if pIn && to.offer(int(p), q, pr) && want == 1 {
-				marks = append(marks, e)
+				sampled[e] = 1
 			}
 			if qIn {
 				to.offer(int(q), p, pr)
 			}
 		})
-		return marks
 	}
 	all := func(int32) bool { return true }
 	members := newFilters(n)
@@ -318,20 +317,20 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 				count[blk] = make([]int32, hi-lo)
 			}
 			c := count[blk][:hi-lo]
-			marks[blk] = sample(s, lo, hi, 1, fresh, all, c, marks[blk][:0])
-			sample(s, lo, hi, 0, old, func(p int32) bool { return fresh.size[p] > 0 }, c, nil)
+			sample(s, lo, hi, 1, fresh, all, c)
+			sample(s, lo, hi, 0, old, func(p int32) bool { return fresh.size[p] > 0 }, c)
 		})
 		if err := ctx.Err(); err != nil {
 			return err
 		}
 		// Entries sampled as new are old from now on (once every owner has
 		// read the flags). The filters take a picture of the lists.
-		parallel.For(j.threads, j.threads, func(blk, _, _ int) {
-			for _, e := range marks[blk] {
-				j.l.flag[e] = 0
-			}
-		})
 		parallel.For(n, j.threads, func(lo, hi, _ int) {
+			for e := lo * k; e < hi*k; e++ {
+				if sampled[e] == 1 {
+					j.l.flag[e], sampled[e] = 0, 0
+				}
+			}
 			for p := lo; p < hi; p++ {
 				members.set(p, j.l.idx[p*k:(p+1)*k])
 			}
