@@ -2,6 +2,8 @@ package neighbors
 
 import (
 	"context"
+	"flag"
+	"strings"
 	"testing"
 
 	"lodestone/compute/atlas"
@@ -71,8 +73,11 @@ func BenchmarkExactFor70k(b *testing.B) {
 
 // BenchmarkApproximate1M times Approximate on a million points in 50
 // dimensions (k = 90) and reports recall on 1,000 of them; it needs about
-// 2 GB of memory and minutes, so it runs only when asked for by name.
+// 2 GB of memory and minutes, so it runs only when -bench names it.
 func BenchmarkApproximate1M(b *testing.B) {
+	if !strings.Contains(flag.Lookup("test.bench").Value.String(), "1M") {
+		b.Skip("a million points take minutes: run with -bench Approximate1M")
+	}
 	x, _ := synth.GaussianMixture(1000000, 50, 20, 1)
 	benchApproximate(b, x, 90)
 }
