@@ -223,46 +223,11 @@ func Graph(ctx context.Context, out *Prepared, report func(stage string, done, t
 	return nil
 }
 
-// initStd is the standard deviation of the initial layout (common practice).
-const initStd = 1e-4
-
 func initialLayout(ctx context.Context, p *Prepared, s Settings) ([]float32, error) {
 	if s.Init == InitSpectral {
-		y, _, err := embed.Spectral(ctx, p.P, s.Threads)
-		if err != nil {
-			return nil, err
-		}
-		return scaleToStd(y, initStd), nil
+		return embed.SpectralInit(ctx, p.P, s.Threads)
 	}
 	return embed.InitPCA(p.Features)
-}
-
-// scaleToStd centres y and scales it so that its coordinates have standard
-// deviation std (over both axes together).
-func scaleToStd(y []float32, std float64) []float32 {
-	n := len(y) / 2
-	var mx, my float64
-	for i := 0; i < n; i++ {
-		mx += float64(y[2*i])
-		my += float64(y[2*i+1])
-	}
-	mx /= float64(n)
-	my /= float64(n)
-	var ss float64
-	for i := 0; i < n; i++ {
-		dx, dy := float64(y[2*i])-mx, float64(y[2*i+1])-my
-		ss += dx*dx + dy*dy
-	}
-	f := 0.0
-	if ss > 0 {
-		f = std / math.Sqrt(ss/float64(2*n))
-	}
-	out := make([]float32, len(y))
-	for i := 0; i < n; i++ {
-		out[2*i] = float32((float64(y[2*i]) - mx) * f)
-		out[2*i+1] = float32((float64(y[2*i+1]) - my) * f)
-	}
-	return out
 }
 
 func continuous(name string, v []float32) atlas.Column {
