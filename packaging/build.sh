@@ -147,9 +147,23 @@ mkdir -p "$DIST"
 rm -f "$DIST"/lodestone_*_amd64.deb "$DIST"/lodestone-*-linux-x86_64.tar.xz "$DIST"/lodestone-*-windows-x86_64.zip "$DIST/SHA256SUMS"
 
 # licences GOOS FILE: LICENSES.md, then the licence files of the Go
-# standard library, of every module compiled in for GOOS, and of the fonts
-# the toolkit embeds.
+# standard library and of every module compiled in for GOOS: those at the
+# module's root, in the folders of the packages compiled in, and in their
+# subfolders that hold no Go code (C sources, fonts) other than testdata.
 licences() {
+	GOOS=$1 GOARCH=amd64 CGO_ENABLED=1 go list -deps \
+		-f '{{with .Module}}{{if not .Main}}{{.Path}} {{.Version}} {{.Dir}} {{end}}{{end}}{{.Dir}}' . |
+		while read -r path version moddir pkgdir; do
+			[ -n "${pkgdir:-}" ] || continue # the standard library and the main module
+			for d in "$moddir" "$pkgdir" "$pkgdir"/*/; do
+				d=${d%/}
+				case $d in */testdata) continue ;; esac
+				if [ "$d" != "$moddir" ] && [ "$d" != "$pkgdir" ] && ls "$d"/*.go >/dev/null 2>&1; then continue; fi
+				for f in "$d"/LICENSE* "$d"/LICENCE* "$d"/COPYING* "$d"/NOTICE*; do
+					[ -f "$f" ] && echo "$path $version $moddir $f"
+				done
+			done
+		done | sort -u >"$WORK/licence-files"
 	{
 		echo "Licences of the software compiled into Lodestone $VERSION ($1/amd64)"
 		echo "=================================================================="
@@ -157,20 +171,16 @@ licences() {
 		cat assets/LICENSES.md
 		echo
 		echo "------------------------------------------------------------------"
-		echo "Go standard library and runtime ($(go env GOVERSION)): $(go env GOROOT)/LICENSE"
+		echo "Go standard library and runtime ($(go env GOVERSION)): LICENSE"
 		echo "------------------------------------------------------------------"
 		cat "$(go env GOROOT)/LICENSE"
-		GOOS=$1 GOARCH=amd64 CGO_ENABLED=1 go list -deps -f '{{with .Module}}{{if not .Main}}{{.Path}} {{.Version}} {{.Dir}}{{end}}{{end}}' . |
-			sort -u | while read -r path version dir; do
-			for f in "$dir"/LICENSE* "$dir"/LICENCE* "$dir"/COPYING* "$dir"/NOTICE* "$dir"/theme/font/LICENSE*; do
-				[ -f "$f" ] || continue
-				echo
-				echo "------------------------------------------------------------------"
-				echo "$path $version: ${f#"$dir"/}"
-				echo "------------------------------------------------------------------"
-				cat "$f"
-			done
-		done
+		while read -r path version moddir f; do
+			echo
+			echo "------------------------------------------------------------------"
+			echo "$path $version: ${f#"$moddir"/}"
+			echo "------------------------------------------------------------------"
+			cat "$f"
+		done <"$WORK/licence-files"
 	} >"$2"
 	grep -q "^fyne.io/fyne/v2 .*: LICENSE\$" "$2" || die "the licence of fyne.io/fyne/v2 was not found in the module cache"
 }
