@@ -388,3 +388,24 @@ func readRGBA(t *testing.T, path string) *image.RGBA {
 	}
 	return out
 }
+
+func BenchmarkRenderIcon(b *testing.B) {
+	f, err := os.Open(iconPath)
+	if err != nil {
+		b.Fatal(err)
+	}
+	img, err := Parse(f)
+	f.Close()
+	if err != nil {
+		b.Fatal(err)
+	}
+	for _, size := range []int{32, 256, 1024} {
+		b.Run(fmt.Sprint(size), func(b *testing.B) {
+			for b.Loop() {
+				if _, err := img.Render(size, size); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
