@@ -24,7 +24,7 @@ import (
 // between a point's entropy H(P_i) and log2(perplexity).
 const EntropyTolerance = 1e-5
 
-// maxSearchSteps bounds the binary search on one point's precision. Doubling
+// maxSearchSteps bounds the search on one point's precision. Doubling
 // and halving from a scale-aware start reach any reachable entropy to
 // EntropyTolerance in far fewer steps.
 const maxSearchSteps = 200
@@ -43,7 +43,8 @@ const chunkRows = 512
 //
 //	p_j|i = exp(−β_i d_ij²) / Σ_l exp(−β_i d_il²)
 //
-// with the precision β_i found by binary search so that the entropy
+// with the precision β_i found by a bracketed search (binary search, van der
+// Maaten & Hinton 2008, sped up by Newton steps) so that the entropy
 // H(P_i) = −Σ_j p_j|i log2 p_j|i equals log2(perplexity) within
 // EntropyTolerance (van der Maaten & Hinton 2008). The result is the
 // symmetrised matrix
