@@ -1,0 +1,86 @@
+package live
+
+import (
+	"context"
+	"math"
+	"testing"
+	"time"
+
+	"lodestone/compute/affinity"
+	"lodestone/compute/embed"
+	"lodestone/compute/neighbors"
+	"lodestone/compute/synth"
+)
+
+// realOptimizer returns the window's optimiser on the affinities of a small
+// Gaussian mixture, and its PCA initial layout.
+func realOptimizer(t *testing.T) (*TSNE, []float32) {
+	t.Helper()
+	x, _ := synth.GaussianMixture(1500, 10, 5, 3)
+	g, err := neighbors.Exact(context.Background(), x, neighbors.Options{K: 30})
+	if err != nil {
+		t.Fatal(err)
+	}
+	P, err := affinity.Perplexity(context.Background(), g, 10, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	init, err := embed.InitPCA(x)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return &TSNE{P: P, Seed: 1}, init
+}
+
+// TestRapidTurnsOfTheRealOptimiser turns the dial 50 times while the
+// optimiser runs, as a user spinning it would, with the spectral end among
+// the values; run with -race. Afterwards the history replays to the layout
+// on screen.
+func TestRapidTurnsOfTheRealOptimiser(t *testing.T) {
+	opt, init := realOptimizer(t)
+	e := New(opt, 10, init, func() {})
+	e.Restart(1, 300)
+	values := []float64{1, 2, 4, 10, 30, 100, math.Inf(1), 0.5}
+	for i := 0; i < 50; i++ {
+		e.Turn(values[i%len(values)], 200)
+		time.Sleep(time.Duration(i%4) * time.Millisecond)
+		e.Latest()
+	}
+	e.Turn(4, 100)
+	e.Wait()
+	got, st := e.Latest()
+	if st.Running || st.Err != nil || st.Iteration != 100 {
+		t.Fatalf("status after the last turn: %+v", st)
+	}
+	for _, v := range got {
+		if math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
+			t.Fatal("the layout holds a value that is not finite")
+		}
+	}
+	replayed, err := Replay(context.Background(), init, e.History(), func(float64) (Optimizer, error) { return opt, nil })
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range got {
+		if math.Float32bits(got[i]) != math.Float32bits(replayed[i]) {
+			t.Fatalf("replayed layout differs at %d: %v vs %v", i, replayed[i], got[i])
+		}
+	}
+}
+
+// TestStopReturnsQuickly measures how long the optimiser takes to return
+// after Stop (the requirement is 50 ms; the figure is logged, not timed as
+// a pass/fail, since the machine may be loaded).
+func TestStopReturnsQuickly(t *testing.T) {
+	opt, init := realOptimizer(t)
+	e := New(opt, 10, init, nil)
+	e.Restart(1, 100000)
+	time.Sleep(50 * time.Millisecond)
+	start := time.Now()
+	e.Stop()
+	e.Wait()
+	t.Logf("the run returned %v after Stop", time.Since(start))
+	if _, st := e.Latest(); st.Running {
+		t.Fatal("still running after Stop and Wait")
+	}
+}
