@@ -78,6 +78,53 @@ type Step struct {
 	// Setting is the optimiser's setting in force (the window stores the
 	// perplexity of the affinities).
 	Setting float64 `json:"setting"`
+	// Compact reports that the step started from the layout compacted to
+	// unit size (see Compact): a warm step that raised the attraction.
+	Compact bool `json:"compact"`
+}
+
+// Compact returns y centred and scaled to a root-mean-square radius of 1.
+//
+// A warm run that raises the attraction starts from the compacted layout:
+// the shape is the one on screen (the view fits it), but at a size where
+// the stronger attraction can pull the map's groups together along their
+// connections, as it does when a run at that attraction starts from a
+// small initial layout. Started at the old size, strong attraction only
+// shrinks each group in place and leaves the groups stranded far apart.
+func Compact(y []float32) []float32 {
+	n := len(y) / 2
+	out := make([]float32, len(y))
+	if n == 0 {
+		return out
+	}
+	var cx, cy float64
+	for i := 0; i < n; i++ {
+		cx += float64(y[2*i])
+		cy += float64(y[2*i+1])
+	}
+	cx /= float64(n)
+	cy /= float64(n)
+	var r2 float64
+	for i := 0; i < n; i++ {
+		dx, dy := float64(y[2*i])-cx, float64(y[2*i+1])-cy
+		r2 += dx*dx + dy*dy
+	}
+	f := 1.0
+	if r2 > 0 {
+		f = 1 / math.Sqrt(r2/float64(n))
+	}
+	for i := 0; i < n; i++ {
+		out[2*i] = float32((float64(y[2*i]) - cx) * f)
+		out[2*i+1] = float32((float64(y[2*i+1]) - cy) * f)
+	}
+	return out
+}
+
+// raises reports whether a warm step at attraction a after the given
+// history raises the attraction of the map on screen.
+func raises(history []Step, a float64) bool {
+	n := len(history)
+	return n > 0 && !math.IsInf(a, 1) && a > history[n-1].Attraction
 }
 
 // Engine runs an Optimizer in the background. The zero value is not usable;
@@ -219,6 +266,9 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 		from = e.initial
 		step.Kind = Fresh
 		e.history = e.history[:0]
+	case raises(e.history, attraction):
+		step.Compact = true
+		from = Compact(from)
 	}
 	e.history = append(e.history, step)
 	ctx, cancel := context.WithCancel(context.Background())

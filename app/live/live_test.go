@@ -61,11 +61,22 @@ func TestTurnStartsFromTheLayoutOnScreen(t *testing.T) {
 	if got[0] != 5 || st.Running || st.Iteration != 5 || st.KL != 0.2 {
 		t.Fatalf("after a 5-step run: layout %v, status %+v", got, st)
 	}
+	e.Turn(0.5, 4)
+	e.Wait()
+	got, _ = e.Latest()
+	if got[0] != 7 {
+		t.Fatalf("warm run did not start from the layout on screen: %v", got)
+	}
+	// Raising the attraction starts from the layout compacted to unit
+	// size: this one is a single point, which compacts to the origin.
 	e.Turn(2, 3)
 	e.Wait()
 	got, _ = e.Latest()
-	if got[0] != 11 {
-		t.Fatalf("warm run did not start from the layout on screen: %v", got)
+	if got[0] != 6 {
+		t.Fatalf("a raising turn did not start from the compacted layout: %v", got)
+	}
+	if h := e.History(); !h[len(h)-1].Compact || h[len(h)-2].Compact {
+		t.Fatalf("compaction not recorded as expected: %+v", h)
 	}
 	e.Restart(1, 2)
 	e.Wait()
@@ -177,6 +188,18 @@ func TestHistoryReplaysToTheLayoutOnScreen(t *testing.T) {
 	for i := range want {
 		if got[i] != want[i] {
 			t.Fatalf("replayed layout %v, shown %v", got, want)
+		}
+	}
+}
+
+func TestCompactKeepsShape(t *testing.T) {
+	y := []float32{0, 0, 4, 0, 0, 3, 4, 3}
+	c := Compact(y)
+	// Centre (2, 1.5); RMS radius 2.5; so the corners go to (±0.8, ±0.6).
+	want := []float32{-0.8, -0.6, 0.8, -0.6, -0.8, 0.6, 0.8, 0.6}
+	for i := range want {
+		if math.Abs(float64(c[i]-want[i])) > 1e-6 {
+			t.Fatalf("Compact = %v, want %v", c, want)
 		}
 	}
 }

@@ -16,19 +16,23 @@ import (
 func Replay(ctx context.Context, initial []float32, steps []Step, optimizerFor func(setting float64) (Optimizer, error)) ([]float32, error) {
 	layout := initial
 	for i, s := range steps {
+		if s.Done == 0 {
+			continue // turned away from before it showed anything
+		}
 		opt, err := optimizerFor(s.Setting)
 		if err != nil {
 			return nil, fmt.Errorf("step %d: %w", i+1, err)
 		}
 		from := layout
-		if s.Kind == Fresh {
+		switch {
+		case s.Kind == Fresh:
 			from = initial
+		case s.Compact:
+			from = Compact(from)
 		}
 		switch {
 		case s.Done < 0:
 			return nil, fmt.Errorf("step %d: negative iteration count %d", i+1, s.Done)
-		case s.Done == 0:
-			layout = from
 		case s.Kind == Spectral:
 			target, err := opt.Spectral(ctx, from)
 			if err != nil {

@@ -72,7 +72,7 @@ func methodName(m neighbors.Method) string {
 func FromSteps(h []live.Step) []Step {
 	out := make([]Step, len(h))
 	for i, s := range h {
-		out[i] = Step{Kind: string(s.Kind), Attraction: Attraction(s.Attraction), Iterations: s.Iterations, Done: s.Done, Setting: s.Setting}
+		out[i] = Step{Kind: string(s.Kind), Attraction: Attraction(s.Attraction), Iterations: s.Iterations, Done: s.Done, Setting: s.Setting, Compact: s.Compact}
 	}
 	return out
 }
@@ -81,7 +81,7 @@ func FromSteps(h []live.Step) []Step {
 func (s *Session) Steps() []live.Step {
 	out := make([]live.Step, len(s.History))
 	for i, st := range s.History {
-		out[i] = live.Step{Kind: live.StepKind(st.Kind), Attraction: float64(st.Attraction), Iterations: st.Iterations, Done: st.Done, Setting: st.Setting}
+		out[i] = live.Step{Kind: live.StepKind(st.Kind), Attraction: float64(st.Attraction), Iterations: st.Iterations, Done: st.Done, Setting: st.Setting, Compact: st.Compact}
 	}
 	return out
 }

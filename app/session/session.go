@@ -100,6 +100,7 @@ type Step struct {
 	Iterations int        `json:"iterations"`
 	Done       int        `json:"done"`
 	Setting    float64    `json:"setting"`
+	Compact    bool       `json:"compact,omitempty"`
 }
 
 // Attraction is a dial value that marshals +Inf as the string "inf".

@@ -290,7 +290,7 @@ func (v *atlasView) build() {
 	v.fidelity = widget.NewLabel("fidelity: after the run")
 	v.selLabel = widget.NewLabel("nothing selected")
 	v.stopBtn = widget.NewButtonWithIcon("Stop", theme.MediaStopIcon(), v.stopOrContinue)
-	v.clustersBtn = widget.NewButtonWithIcon("Find clusters…", theme.ViewRefreshIcon(), v.askClusters)
+	v.clustersBtn = widget.NewButtonWithIcon("Leiden clusters…", theme.ViewRefreshIcon(), v.askClusters)
 }
 
 // content lays the view out: the map with its tool strip on the left, the

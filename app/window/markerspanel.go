@@ -55,7 +55,7 @@ func (v *atlasView) markersPanel() fyne.CanvasObject {
 	m.which = widget.NewSelect(nil, nil)
 	m.against = widget.NewSelect(nil, nil)
 	m.source = widget.NewSelect(nil, func(string) { v.fillMarkerChoices() })
-	m.run = widget.NewButtonWithIcon("Find markers", theme.SearchIcon(), v.findMarkers)
+	m.run = widget.NewButtonWithIcon("Rank the genes", theme.SearchIcon(), v.rankMarkers)
 	m.info = widget.NewLabel("Choose a group or a category, then find the genes that mark it (Wilcoxon rank-sum test, Benjamini–Hochberg q-values).")
 	m.info.Wrapping = fyne.TextWrapWord
 	m.info.Importance = widget.LowImportance
@@ -182,8 +182,8 @@ func (v *atlasView) markerMask(name string) []bool {
 	return mask
 }
 
-// findMarkers ranks the genes for the chosen cells in the background.
-func (v *atlasView) findMarkers() {
+// rankMarkers ranks the genes for the chosen cells in the background.
+func (v *atlasView) rankMarkers() {
 	m := v.markers
 	if !v.ready || v.prep.Expression == nil {
 		v.u.showError("No expression values", fmt.Errorf("marker genes need the expression of the atlas (counts or a wide table)"))
@@ -308,7 +308,7 @@ func (v *atlasView) sortMarkers(col int) {
 func (v *atlasView) askSaveMarkers() {
 	m := v.markers
 	if len(m.results) == 0 {
-		v.u.showError("No markers yet", fmt.Errorf("find markers first"))
+		v.u.showError("No markers yet", fmt.Errorf("rank the genes first"))
 		return
 	}
 	res := append([]markers.Result(nil), m.results...)
@@ -323,7 +323,7 @@ func (v *atlasView) askSaveMarkers() {
 func (v *atlasView) askExpressionPlot() {
 	m := v.markers
 	if len(m.results) == 0 {
-		v.u.showError("No markers yet", fmt.Errorf("find markers first; the plot shows the top ones across the categories"))
+		v.u.showError("No markers yet", fmt.Errorf("rank the genes first; the plot shows the top ones across the categories"))
 		return
 	}
 	var genes []int
@@ -396,7 +396,7 @@ func (v *atlasView) askClusters() {
 	}
 	e := widget.NewEntry()
 	e.SetText("1")
-	dialog.ShowForm("Find clusters (Leiden)", "Find", "Cancel", []*widget.FormItem{
+	dialog.ShowForm("Leiden clusters", "Cluster", "Cancel", []*widget.FormItem{
 		widget.NewFormItem("resolution", e),
 		widget.NewFormItem("", widget.NewLabel("Larger values give more, smaller clusters.")),
 	}, func(ok bool) {
@@ -408,18 +408,18 @@ func (v *atlasView) askClusters() {
 			v.u.showError("Resolution", fmt.Errorf("give a positive number, e.g. 0.5, 1 or 2"))
 			return
 		}
-		v.findClusters(res)
+		v.clusterCells(res)
 	}, v.u.win)
 }
 
-func (v *atlasView) findClusters(resolution float64) {
+func (v *atlasView) clusterCells(resolution float64) {
 	p := v.prep
 	v.note(fmt.Sprintf("finding clusters at resolution %g…", resolution))
 	go func() {
 		labels, q, err := pipeline.Clusters(context.Background(), p, 15, resolution, nil)
 		fyne.Do(func() {
 			if err != nil {
-				v.u.showError("Could not find clusters", err)
+				v.u.showError("Could not cluster the cells", err)
 				return
 			}
 			n := 0

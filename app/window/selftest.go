@@ -232,7 +232,7 @@ func (u *ui) selfTestTour(v *atlasView) {
 			})
 		})
 	}
-	v.findMarkers()
+	v.rankMarkers()
 }
 
 // selfTestShot saves a screenshot of the window only.

@@ -129,7 +129,7 @@ func (u *ui) menu() *fyne.MainMenu {
 		fyne.NewMenuItem("Lasso: remove from selection", func() { u.withAtlas(func(v *atlasView) { v.setTool(2) }) }),
 		fyne.NewMenuItem("Undo the last selection change", func() { u.withAtlas(func(v *atlasView) { v.mapView.Undo() }) }),
 		fyne.NewMenuItemSeparator(),
-		fyne.NewMenuItem("Find clusters (Leiden)…", func() { u.withAtlas(func(v *atlasView) { v.askClusters() }) }),
+		fyne.NewMenuItem("Leiden clusters…", func() { u.withAtlas(func(v *atlasView) { v.askClusters() }) }),
 		fyne.NewMenuItem("Recompute the map from its history", func() { u.withAtlas(func(v *atlasView) { v.recompute() }) }),
 	)
 	help := fyne.NewMenu("Help",

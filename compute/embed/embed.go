@@ -91,10 +91,12 @@ type Snapshot struct {
 	Layout     []float32 // a copy of the layout; owned by the receiver
 	Iteration  int       // iterations done
 	Iterations int       // iterations planned
-	// KL is the Kullback–Leibler divergence KL(P‖Q) of the layout at the start
-	// of the last iteration, for P itself (not the exaggerated P), estimated
-	// from the interpolated Z. It is NaN in the first snapshot of a run, which
-	// is published as soon as possible, and for the spectral layout.
+	// KL is the Kullback–Leibler divergence KL(P‖Q) of the layout, for P
+	// itself (not the exaggerated P), estimated from the interpolated Z at
+	// the start of an iteration at most 0.4 s before the snapshot (the
+	// last iteration's for the last snapshot). It is NaN until the first
+	// estimate (the first snapshot of a run is published as soon as
+	// possible, without one) and for the spectral layout.
 	KL         float64
 	Attraction float64 // the attraction of the run (Params.Attraction)
 	// Settled reports that the mean step of the last iteration was below

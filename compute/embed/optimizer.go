@@ -23,6 +23,9 @@ const stepCap = 0.5
 // iterations while momentum builds up.
 const settleAfter = 30
 
+// klEvery is the least time between two KL estimates of the snapshots.
+const klEvery = 400 * time.Millisecond
+
 // Gains and momentum (van der Maaten & Hinton 2008; common practice for the
 // values).
 const (
@@ -92,7 +95,8 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 			return false
 		}
 	}
-	var lastPublish time.Time
+	var lastPublish, lastKL time.Time
+	kl := math.NaN()
 	total := o.p.Iterations
 	for t := 0; t < total; t++ {
 		if err := ctx.Err(); err != nil {
@@ -109,10 +113,16 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 		last := t == total-1
 		snap := publish != nil && (t == 0 || last || time.Since(lastPublish) >= o.p.SnapshotEvery)
 		// The first snapshot goes out as early as possible, without the KL
-		// estimate's logarithms.
-		kl, ok := o.iterate(rho, momentum, eta, snap && t > 0, stop)
+		// estimate's logarithms; later ones carry an estimate at most
+		// klEvery old, since the logarithms cost as much as the rest of the
+		// attractive pass.
+		withKL := snap && t > 0 && (last || time.Since(lastKL) >= klEvery)
+		k, ok := o.iterate(rho, momentum, eta, withKL, stop)
 		if !ok {
 			return o.layout(), ctx.Err()
+		}
+		if withKL {
+			kl, lastKL = k, time.Now()
 		}
 		if snap {
 			publish(Snapshot{Layout: o.layout(), Iteration: t + 1, Iterations: total, KL: kl,

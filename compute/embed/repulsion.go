@@ -72,7 +72,7 @@ const (
 	nearBudget = 400
 	// maxNearWork bounds the near-field work per point (Σ_c n_c Σ n_c' / N);
 	// beyond it the grid alone is used.
-	maxNearWork = 8192
+	maxNearWork = 1024
 	// maxFFTLen caps the padded grid per axis; beyond it the cells widen with
 	// the layout and the accuracy of the far field degrades.
 	maxFFTLen = 4096
