@@ -12,6 +12,7 @@ import (
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/layout"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 
@@ -80,7 +81,7 @@ func (v *atlasView) markersPanel() fyne.CanvasObject {
 		col := id.Col
 		b.OnTapped = func() { v.sortMarkers(col) }
 	}
-	for c, w := range []float32{96, 64, 70, 46, 52} {
+	for c, w := range []float32{104, 58, 64, 40, 48} {
 		m.table.SetColumnWidth(c, w)
 	}
 	m.table.OnSelected = func(id widget.TableCellID) {
@@ -93,9 +94,10 @@ func (v *atlasView) markersPanel() fyne.CanvasObject {
 	save := widget.NewButtonWithIcon("Save table…", theme.DocumentSaveIcon(), v.askSaveMarkers)
 	plot := widget.NewButtonWithIcon("Expression plot…", theme.GridIcon(), v.askExpressionPlot)
 	form := container.NewVBox(
-		widget.NewLabelWithStyle("Markers of", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
-		m.source, m.which,
-		widget.NewLabel("against"), m.against,
+		container.New(layout.NewFormLayout(),
+			widget.NewLabelWithStyle("markers of", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}), m.source,
+			widget.NewLabel(""), m.which,
+			widget.NewLabel("against"), m.against),
 		m.run, m.info)
 	v.fillMarkerSources()
 	return container.NewBorder(form, container.NewGridWithColumns(2, save, plot), nil, nil, m.table)
@@ -250,7 +252,10 @@ func (v *atlasView) markerCell(row, col int) string {
 	r := v.markers.results[row]
 	switch col {
 	case 0:
-		return geneLabel(v.prep.GeneSymbols[r.Gene], v.prep.GeneIDs[r.Gene])
+		if sym := v.prep.GeneSymbols[r.Gene]; sym != "" {
+			return sym
+		}
+		return v.prep.GeneIDs[r.Gene]
 	case 1:
 		return fmt.Sprintf("%.2f", r.LogFoldChange)
 	case 2:

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"fmt"
 	"image"
+	"image/color"
 	"image/png"
 	"io"
 	"math"
@@ -139,11 +140,18 @@ func (u *ui) selfTestCapture(v *atlasView, name string) error {
 	if err := writePNG(mapPath, drawn); err != nil {
 		return err
 	}
-	colours, inked := MapColours(drawn, drawn.Rect)
-	fmt.Fprintf(os.Stderr, "self-test: saved %s (%s) and %s; the map holds %d distinct colours, %.1f%% of it inked\n",
-		path, how, mapPath, colours, 100*inked)
-	if colours < 3 || inked < 0.01 {
-		return fmt.Errorf("the map in %s looks blank (%d colours, %.2f%% inked)", mapPath, colours, 100*inked)
+	shares, inked := PaletteShares(drawn, v.painted.Palette)
+	seen := 0
+	for _, sh := range shares {
+		if sh >= 0.005 {
+			seen++
+		}
+	}
+	want := min(3, len(v.painted.Palette)-1)
+	fmt.Fprintf(os.Stderr, "self-test: saved %s (%s) and %s; %d paint colours each hold ≥ 0.5%% of the inked pixels, %.1f%% of the map inked\n",
+		path, how, mapPath, seen, 100*inked)
+	if seen < want || inked < 0.01 {
+		return fmt.Errorf("the map in %s looks blank (%d paint colours seen, %.2f%% inked)", mapPath, seen, 100*inked)
 	}
 	return nil
 }
@@ -167,6 +175,65 @@ func (u *ui) screenshot() (image.Image, string) {
 		}
 	}
 	return u.win.Canvas().Capture(), "canvas capture"
+}
+
+// PaletteShares classifies each pixel of img by the nearest (in RGB) of
+// the palette's colours and the image's most common colour (the
+// background), and returns each palette colour's share of the pixels not
+// classed as background, and the share of those in the image.
+func PaletteShares(img image.Image, palette []color.NRGBA) (shares []float64, inked float64) {
+	b := img.Bounds()
+	bg := dominant(img)
+	counts := make([]int, len(palette))
+	ink := 0
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		for x := b.Min.X; x < b.Max.X; x++ {
+			r, g, bl, _ := img.At(x, y).RGBA()
+			p := [3]int{int(r >> 8), int(g >> 8), int(bl >> 8)}
+			best, bestD := -1, sqDist(p, bg)
+			for i, c := range palette {
+				if d := sqDist(p, [3]int{int(c.R), int(c.G), int(c.B)}); d < bestD {
+					best, bestD = i, d
+				}
+			}
+			if best >= 0 {
+				counts[best]++
+				ink++
+			}
+		}
+	}
+	shares = make([]float64, len(palette))
+	for i, c := range counts {
+		if ink > 0 {
+			shares[i] = float64(c) / float64(ink)
+		}
+	}
+	return shares, float64(ink) / float64(max(1, b.Dx()*b.Dy()))
+}
+
+func sqDist(a, b [3]int) int {
+	d0, d1, d2 := a[0]-b[0], a[1]-b[1], a[2]-b[2]
+	return d0*d0 + d1*d1 + d2*d2
+}
+
+// dominant returns the most common colour of img.
+func dominant(img image.Image) [3]int {
+	counts := map[[3]int]int{}
+	b := img.Bounds()
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		for x := b.Min.X; x < b.Max.X; x++ {
+			r, g, bl, _ := img.At(x, y).RGBA()
+			counts[[3]int{int(r >> 8), int(g >> 8), int(bl >> 8)}]++
+		}
+	}
+	var best [3]int
+	n := -1
+	for c, k := range counts {
+		if k > n || k == n && (c[0] < best[0] || c[0] == best[0] && (c[1] < best[1] || c[1] == best[1] && c[2] < best[2])) {
+			best, n = c, k
+		}
+	}
+	return best
 }
 
 // MapColours counts the distinct colours that cover at least 0.05% of the

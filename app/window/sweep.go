@@ -156,8 +156,15 @@ func (v *atlasView) toggleSweep() {
 				layout, err = opt.Spectral(ctx, prev)
 				step = live.Step{Kind: live.Spectral, Attraction: a, Iterations: 15, Done: 15, Setting: setting}
 			} else {
-				layout, err = opt.Run(ctx, prev, a, iters, false, nil)
+				// as the dial does: raising the attraction starts from the
+				// compacted layout
 				step = live.Step{Kind: live.Warm, Attraction: a, Iterations: iters, Done: iters, Setting: setting}
+				from := prev
+				if n := len(steps); n > 0 && a > steps[n-1].Attraction {
+					step.Compact = true
+					from = live.Compact(prev)
+				}
+				layout, err = opt.Run(ctx, from, a, iters, false, nil)
 			}
 			if err != nil {
 				break
@@ -230,7 +237,11 @@ func (v *atlasView) adoptSweep(i int) {
 // thumbnail draws a layout with the current paint into a square image.
 func (v *atlasView) thumbnail(layout []float32, size int) image.Image {
 	img := image.NewRGBA(image.Rect(0, 0, size, size))
-	view, err := raster.Fit(layout, size, size, 4)
+	fit := layout
+	if x0, x1, y0, y1, ok := lcanvas.FitBox(layout); ok {
+		fit = []float32{float32(x0), float32(y0), float32(x1), float32(y1)}
+	}
+	view, err := raster.Fit(fit, size, size, 4)
 	if err != nil || v.painted == nil {
 		return img
 	}

@@ -57,7 +57,7 @@ func TestSelfTestInRealWindow(t *testing.T) {
 				t.Errorf("%s: day %d's colour covers %.3f%% of the map, want ≥ 0.1%%", name, i+1, 100*s)
 			}
 		}
-		if _, inked := MapColours(img, img.Bounds()); inked < 0.02 {
+		if _, inked := MapColours(img, img.Bounds()); inked < 0.01 {
 			t.Errorf("%s: only %.2f%% of the map is inked", name, 100*inked)
 		}
 	}
