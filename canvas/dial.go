@@ -213,7 +213,7 @@ func (d *Dial) TypedKey(e *fyne.KeyEvent) {
 
 // MinSize is large enough for the face, its tick labels and the two end
 // captions.
-func (d *Dial) MinSize() fyne.Size { return fyne.NewSize(220, 200) }
+func (d *Dial) MinSize() fyne.Size { return fyne.NewSize(210, 180) }
 
 // CreateRenderer builds the dial's face.
 func (d *Dial) CreateRenderer() fyne.WidgetRenderer {

@@ -354,9 +354,9 @@ func (v *atlasView) dialPanel() fyne.CanvasObject {
 	restart := widget.NewButtonWithIcon("Restart", theme.MediaReplayIcon(), func() {
 		v.engine.Restart(v.dial.Value, freshIterations)
 	})
-	form := container.New(layout.NewFormLayout(),
-		widget.NewLabel("neighbourhood (perplexity)"), v.perplexity,
-		widget.NewLabel("iterations per turn"), v.iterations)
+	form := container.NewGridWithColumns(4,
+		widget.NewLabel("perplexity"), v.perplexity,
+		widget.NewLabel("iterations"), v.iterations)
 	v.restartBtn = restart
 	buttons := container.NewGridWithColumns(2, v.stopBtn, restart)
 	if !v.ready {
@@ -365,7 +365,7 @@ func (v *atlasView) dialPanel() fyne.CanvasObject {
 		restart.Disable()
 		v.perplexity.Disable()
 	}
-	return container.NewVBox(title, container.NewCenter(v.dial), form, buttons, widget.NewSeparator())
+	return container.NewVBox(container.NewBorder(nil, nil, title, nil, container.NewCenter(v.dial)), form, buttons, widget.NewSeparator())
 }
 
 // turn reruns the optimiser from the layout on screen at attraction x.

@@ -57,7 +57,7 @@ func (v *atlasView) markersPanel() fyne.CanvasObject {
 	m.against = widget.NewSelect(nil, nil)
 	m.source = widget.NewSelect(nil, func(string) { v.fillMarkerChoices() })
 	m.run = widget.NewButtonWithIcon("Rank the genes", theme.SearchIcon(), v.rankMarkers)
-	m.info = widget.NewLabel("Choose a group or a category, then find the genes that mark it (Wilcoxon rank-sum test, Benjamini–Hochberg q-values).")
+	m.info = widget.NewLabel("Genes that mark a group or category: Wilcoxon rank-sum test, Benjamini–Hochberg q-values.")
 	m.info.Wrapping = fyne.TextWrapWord
 	m.info.Importance = widget.LowImportance
 	m.table = widget.NewTableWithHeaders(
@@ -236,8 +236,7 @@ func (v *atlasView) rankMarkers() {
 					up++
 				}
 			}
-			m.info.SetText(fmt.Sprintf("%s: %d genes higher at q < 0.05, ranked by z (%.1f s). Tap a gene to paint the map by it.",
-				label, up, time.Since(start).Seconds()))
+			m.info.SetText(fmt.Sprintf("%d genes higher at q < 0.05 (%.1f s); tap one to paint by it", up, time.Since(start).Seconds()))
 			m.table.Refresh()
 			m.table.ScrollToTop()
 			if m.onDone != nil {
@@ -259,6 +258,9 @@ func (v *atlasView) markerCell(row, col int) string {
 	case 1:
 		return fmt.Sprintf("%.2f", r.LogFoldChange)
 	case 2:
+		if r.Q == 0 {
+			return "< 1e-300" // below the smallest double
+		}
 		return fmt.Sprintf("%.1e", r.Q)
 	case 3:
 		return fmt.Sprintf("%.0f", 100*r.FractionIn)
