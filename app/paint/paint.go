@@ -10,6 +10,7 @@ import (
 	"image/color"
 	"math"
 	"sort"
+	"strconv"
 
 	"lodestone/canvas/colour"
 	"lodestone/canvas/figure"
@@ -239,7 +240,8 @@ func ForColumn(c *atlas.Column, hidden []bool) *Paint {
 // counts (hidden ones left out), or its colour bar.
 func (p *Paint) Key() *figure.Key {
 	if p.Continuous {
-		return &figure.Key{Title: p.Name, Ramp: p.Palette[:len(p.Palette)-1], Low: FormatValue(p.Lo), High: FormatValue(p.Hi), Missing: p.Missing}
+		lo, hi := FormatRange(p.Lo, p.Hi)
+		return &figure.Key{Title: p.Name, Ramp: p.Palette[:len(p.Palette)-1], Low: lo, High: hi, Missing: p.Missing}
 	}
 	k := &figure.Key{Title: p.Name, Counts: true}
 	for _, e := range p.Entries {
@@ -290,4 +292,17 @@ func (p *Paint) Labels(ctx context.Context, layout []float32) ([]figure.Label, e
 		out[i] = figure.Label{Text: c.label, X: float64(layout[2*c.at]), Y: float64(layout[2*c.at+1])}
 	}
 	return out, nil
+}
+
+// FormatRange writes the ends of a colour bar with the same number of
+// decimals, enough to tell them apart: 0.00 and 1.00 for a range of about
+// 1, 0 and 1200 for one of thousands. Very large or very small ranges use
+// FormatValue.
+func FormatRange(lo, hi float64) (string, string) {
+	span := hi - lo
+	if span <= 0 || math.IsNaN(span) || math.IsInf(span, 0) || span >= 1e6 || span < 1e-6 {
+		return FormatValue(lo), FormatValue(hi)
+	}
+	decimals := max(0, 2-int(math.Floor(math.Log10(span))))
+	return strconv.FormatFloat(lo, 'f', decimals, 64), strconv.FormatFloat(hi, 'f', decimals, 64)
 }

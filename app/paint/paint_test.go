@@ -115,3 +115,19 @@ func TestLabelsSitAtCategoryCentres(t *testing.T) {
 		}
 	}
 }
+
+func TestFormatRange(t *testing.T) {
+	for _, c := range []struct {
+		lo, hi float64
+		a, b   string
+	}{
+		{5.1e-5, 0.999, "0.000", "0.999"},
+		{0, 1, "0.00", "1.00"},
+		{3, 1203, "3", "1203"},
+		{0.5, 0.75, "0.500", "0.750"},
+	} {
+		if a, b := FormatRange(c.lo, c.hi); a != c.a || b != c.b {
+			t.Errorf("FormatRange(%v, %v) = %q, %q; want %q, %q", c.lo, c.hi, a, b, c.a, c.b)
+		}
+	}
+}

@@ -100,7 +100,8 @@ func (v *atlasView) setPaint(p *paint.Paint) {
 	v.painted = p
 	v.mapView.SetPaint(p.Colours, p.Palette)
 	if p.Continuous {
-		v.key.SetRamp(p.Name, p.Palette[:len(p.Palette)-1], paint.FormatValue(p.Lo), paint.FormatValue(p.Hi), p.Missing)
+		lo, hi := paint.FormatRange(p.Lo, p.Hi)
+		v.key.SetRamp(p.Name, p.Palette[:len(p.Palette)-1], lo, hi, p.Missing)
 		return
 	}
 	v.key.SetEntries(p.Name, keyEntries(p.Entries))
