@@ -65,6 +65,9 @@ func BenchmarkDialTurn70k(b *testing.B) {
 		var e *Engine
 		e = New(opt, 30, layout, func() {
 			_, st := e.Latest()
+			if st.Runs == 0 {
+				return // SetLayout's own notice, before the turn
+			}
 			mu.Lock()
 			defer mu.Unlock()
 			if st.Iteration > 0 && firstAt.IsZero() {
