@@ -116,16 +116,7 @@ func prepare(ctx context.Context, in *inputFlags, pf *prepFlags, b *bar) (*pipel
 	if err != nil {
 		return nil, err
 	}
-	labels := map[string]string{}
-	for _, st := range pipeline.Stages {
-		labels[st.Name] = st.Label
-	}
-	return pipeline.Prepare(ctx, d, s, func(stage string, done, total int64) {
-		if l, ok := labels[stage]; ok {
-			stage = l
-		}
-		b.report(stage, done, total)
-	})
+	return pipeline.Prepare(ctx, d, s, stageReporter(b))
 }
 
 // attractionFlag parses an attraction: a number ≥ 0.5, or "inf" / "∞".

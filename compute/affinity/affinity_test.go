@@ -16,6 +16,7 @@ import (
 
 	"lodestone/compute/atlas"
 	"lodestone/compute/neighbors"
+	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
 )
 
@@ -194,23 +195,13 @@ func TestPerplexityAgainstDefinition(t *testing.T) {
 	}
 }
 
-// pythonWithSklearn returns the reference interpreter, or skips the test.
-func pythonWithSklearn(t *testing.T) string {
-	t.Helper()
-	const py = "/usr/bin/python3"
-	if err := exec.Command(py, "-c", "import numpy, scipy, sklearn").Run(); err != nil {
-		t.Skipf("reference check skipped: %s cannot import numpy, scipy and sklearn (%v); install python3-sklearn", py, err)
-	}
-	return py
-}
-
 // TestPerplexityAgainstSklearn compares P with the joint probabilities that
 // scikit-learn's Barnes–Hut t-SNE builds from the same neighbour distances
 // (sklearn.manifold._t_sne._joint_probabilities_nn: binary search to an
 // entropy tolerance of 1e-5, then (P + Pᵀ)/ΣP). Both searches stop within
 // 1e-5 of the target entropy, so entries agree to about 1e-3 relative.
 func TestPerplexityAgainstSklearn(t *testing.T) {
-	py := pythonWithSklearn(t)
+	py := pyref.Require(t, "numpy, scipy, sklearn")
 	const perp = 30
 	g := testGraph(t, 500, 8, 90, 3)
 	p, err := Perplexity(context.Background(), g, perp, 0)

@@ -9,6 +9,7 @@ import (
 	"testing"
 	"time"
 
+	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
 )
 
@@ -145,7 +146,7 @@ func TestLeidenKarate(t *testing.T) {
 	}
 	t.Run("networkx Louvain", func(t *testing.T) {
 		var louvain float64
-		runReference(t, "networkx", networkxLouvainBest, nil, &louvain)
+		pyref.JSON(t, "networkx", networkxLouvainBest, nil, &louvain)
 		if louvain > best+1e-12 {
 			t.Errorf("networkx's Louvain finds Q = %.15g, above our best %.15g", louvain, best)
 		}

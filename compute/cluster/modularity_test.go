@@ -6,6 +6,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
 )
 
@@ -154,7 +155,7 @@ func TestModularityNetworkx(t *testing.T) {
 		add(a, randomLabels(20, 3, rng), 1)
 	}
 	var want []float64
-	runReference(t, "networkx", networkxModularity, cases, &want)
+	pyref.JSON(t, "networkx", networkxModularity, cases, &want)
 	for c, tc := range cases {
 		got, err := Modularity(graphs[c], tc.Labels, tc.Gamma)
 		if err != nil {
@@ -173,7 +174,7 @@ func TestKarateEdgesMatchNetworkx(t *testing.T) {
 		Edges [][3]int `json:"edges"`
 		Clubs []string `json:"clubs"`
 	}
-	runReference(t, "networkx", `
+	pyref.JSON(t, "networkx", `
 import json, networkx as nx
 g = nx.karate_club_graph()
 print(json.dumps({"edges": [[u, v, d["weight"]] for u, v, d in g.edges(data=True)],

@@ -5,6 +5,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"lodestone/compute/pyref"
 )
 
 // sklearnARI computes sklearn.metrics.adjusted_rand_score for each pair.
@@ -41,7 +43,7 @@ func TestAdjustedRandIndexSklearn(t *testing.T) {
 		[2][]int32{together, together}, [2][]int32{alone, alone}, [2][]int32{same, alone},
 		[2][]int32{{1}, {2}})
 	var want []float64
-	runReference(t, "sklearn", sklearnARI, pairs, &want)
+	pyref.JSON(t, "sklearn", sklearnARI, pairs, &want)
 	for c, p := range pairs {
 		got, err := AdjustedRandIndex(p[0], p[1])
 		if err != nil {

@@ -14,23 +14,13 @@ import (
 	"testing"
 
 	"lodestone/compute/atlas"
+	"lodestone/compute/pyref"
 )
-
-// referencePython returns the interpreter with the reference libraries, or
-// skips the test.
-func referencePython(t *testing.T) string {
-	t.Helper()
-	const py = "/usr/bin/python3"
-	if err := exec.Command(py, "-c", "import numpy, scipy, sklearn").Run(); err != nil {
-		t.Skipf("reference check skipped: %s cannot import numpy, scipy and sklearn (%v); install python3-sklearn", py, err)
-	}
-	return py
-}
 
 // loadDigits returns scikit-learn's copy of the optical digits data
 // (sklearn.datasets.load_digits: 1797 images of 8×8 pixels) and its labels.
 func loadDigits(t *testing.T) (*atlas.Dense, []int32) {
-	py := referencePython(t)
+	py := pyref.Require(t, "numpy, scipy, sklearn")
 	dir := t.TempDir()
 	script := `
 import sys, numpy as np

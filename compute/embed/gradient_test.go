@@ -13,6 +13,7 @@ import (
 
 	"lodestone/compute/affinity"
 	"lodestone/compute/atlas"
+	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
 )
 
@@ -101,7 +102,7 @@ func TestGradientFiniteDifferences(t *testing.T) {
 // scikit-learn's exact t-SNE objective, sklearn.manifold._t_sne._kl_divergence
 // (degrees of freedom 1), on the same P and layout: both to 1e-9 relative.
 func TestKLAndGradientAgainstSklearn(t *testing.T) {
-	py := referencePython(t)
+	py := pyref.Require(t, "numpy, scipy, sklearn")
 	p, y := smallCase(t, 40, 2)
 	n := p.Rows
 	layout := make([]float32, len(y))

@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"lodestone/compute/atlas"
+	"lodestone/compute/pyref"
 )
 
 // TestInitPCAAgainstSklearn compares InitPCA on the digits data with
@@ -18,7 +19,7 @@ import (
 // coordinate's standard deviation equal to 1e-4 (common practice).
 func TestInitPCAAgainstSklearn(t *testing.T) {
 	x, _ := loadDigits(t)
-	py := referencePython(t)
+	py := pyref.Require(t, "numpy, scipy, sklearn")
 	script := `
 import sys, numpy as np
 from sklearn.datasets import load_digits

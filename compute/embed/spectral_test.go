@@ -14,6 +14,7 @@ import (
 
 	"lodestone/compute/affinity"
 	"lodestone/compute/atlas"
+	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
 )
 
@@ -40,7 +41,7 @@ func rectangleAffinity(t *testing.T, n int, seed uint64) *sparse.CSR {
 // (scipy.sparse.linalg.eigsh, which="LA"), divided by D^{1/2}, and the
 // eigenvalues.
 func eigshReference(t *testing.T, p *sparse.CSR) ([2][]float64, [2]float64) {
-	py := referencePython(t)
+	py := pyref.Require(t, "numpy, scipy, sklearn")
 	dir := t.TempDir()
 	var b strings.Builder
 	for i := 0; i < p.Rows; i++ {

@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"encoding/binary"
 	"fmt"
+	"lodestone/compute/pyref"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -15,21 +16,15 @@ import (
 	"lodestone/compute/sparse"
 )
 
-// referencePython is Debian's interpreter, for which python3-scipy is
-// installed.
-const referencePython = "/usr/bin/python3"
-
 // needScipy skips the test when scipy cannot be imported.
 func needScipy(t *testing.T) {
 	t.Helper()
-	if err := exec.Command(referencePython, "-c", "import numpy, scipy.io, scipy.sparse").Run(); err != nil {
-		t.Skipf("skipping: %s cannot import numpy and scipy (install python3-scipy): %v", referencePython, err)
-	}
+	pyref.Require(t, "numpy, scipy.io, scipy.sparse")
 }
 
 func runMMCheck(t *testing.T, mode, dir string) string {
 	t.Helper()
-	out, err := exec.Command(referencePython, filepath.Join("testdata", "mmcheck.py"), mode, dir).CombinedOutput()
+	out, err := exec.Command(pyref.Python, filepath.Join("testdata", "mmcheck.py"), mode, dir).CombinedOutput()
 	if err != nil {
 		t.Fatalf("mmcheck.py %s: %v\n%s", mode, err, out)
 	}

@@ -5,6 +5,8 @@ import (
 	"math/rand/v2"
 	"slices"
 	"testing"
+
+	"lodestone/compute/pyref"
 )
 
 // stepUp is the procedure as Benjamini & Hochberg (1995) state it: with the
@@ -165,7 +167,7 @@ func TestBenjaminiHochbergScipy(t *testing.T) {
 		p[i] = math.Pow(rng.Float64(), 4)
 	}
 	var want []float64
-	runReference(t, "scipy.stats", scipyFDR, p, &want)
+	pyref.JSON(t, "scipy.stats", scipyFDR, p, &want)
 	if want == nil {
 		t.Skip("reference check skipped: scipy.stats.false_discovery_control needs scipy ≥ 1.11")
 	}

@@ -9,6 +9,7 @@ import (
 	"slices"
 	"testing"
 
+	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
 )
 
@@ -137,7 +138,7 @@ func TestRankScipy(t *testing.T) {
 		}
 		for _, continuity := range []bool{true, false} {
 			var want []scipyGene
-			runReference(t, "scipy.stats, numpy", scipyRankSum, map[string]any{
+			pyref.JSON(t, "scipy.stats, numpy", scipyRankSum, map[string]any{
 				"x": dense, "side": side, "continuity": continuity}, &want)
 			res, err := e.Rank(context.Background(), inGroup, ref, Options{NoContinuityCorrection: !continuity})
 			if err != nil {

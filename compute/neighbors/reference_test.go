@@ -1,51 +1,21 @@
 package neighbors
 
 import (
-	"bytes"
 	"context"
-	"errors"
-	"io/fs"
+	"lodestone/compute/pyref"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
 )
 
-// referencePython is the interpreter that has Debian's python3-sklearn.
-const referencePython = "/usr/bin/python3"
-
-// importCheck starts every reference script: it exits with status 77 when
-// the reference libraries cannot be imported.
-const importCheck = `
-import sys
-try:
-    import numpy, sklearn
-except ImportError as e:
-    print(e, file=sys.stderr)
-    sys.exit(77)
-`
-
-// runReference runs a Python script under referencePython with args and
-// returns its standard output. It skips the test, saying why, when the
-// interpreter or scikit-learn is missing.
+// runReference runs a Python script with args under the reference
+// interpreter and returns its standard output; it skips the test when
+// scikit-learn is missing.
 func runReference(t *testing.T, script string, args ...string) string {
 	t.Helper()
-	cmd := exec.Command(referencePython, append([]string{"-c", importCheck + script}, args...)...)
-	var out, stderr bytes.Buffer
-	cmd.Stdout, cmd.Stderr = &out, &stderr
-	err := cmd.Run()
-	var exit *exec.ExitError
-	switch {
-	case errors.Is(err, exec.ErrNotFound) || errors.Is(err, fs.ErrNotExist):
-		t.Skipf("reference check skipped: %s not found (install python3-sklearn)", referencePython)
-	case errors.As(err, &exit) && exit.ExitCode() == 77:
-		t.Skipf("reference check skipped: %s cannot import numpy and sklearn (install python3-sklearn): %s", referencePython, strings.TrimSpace(stderr.String()))
-	case err != nil:
-		t.Fatalf("reference script failed: %v\n%s", err, stderr.String())
-	}
-	return out.String()
+	return string(pyref.Output(t, "numpy, sklearn", "import sys\nimport numpy, sklearn\n"+script, args...))
 }
 
 // writeMatrix writes the rows of a matrix as text, one row a line.

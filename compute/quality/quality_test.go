@@ -1,14 +1,12 @@
 package quality
 
 import (
-	"bytes"
 	"context"
 	"errors"
-	"io/fs"
+	"lodestone/compute/pyref"
 	"math"
 	"math/rand/v2"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"slices"
 	"sort"
@@ -146,15 +144,11 @@ func TestKNNPreservationNaive(t *testing.T) {
 	}
 }
 
-// importCheck exits with status 77 when scikit-learn cannot be imported.
+// importCheck starts every reference script with its imports.
 const importCheck = `
 import sys
-try:
-    import numpy, sklearn
-    from sklearn.manifold import trustworthiness
-except ImportError as e:
-    print(e, file=sys.stderr)
-    sys.exit(77)
+import numpy, sklearn
+from sklearn.manifold import trustworthiness
 `
 
 // sklearnTrust prints sklearn.manifold.trustworthiness(X, Y, n_neighbors=k)
@@ -223,26 +217,13 @@ func TestTrustworthinessSklearn(t *testing.T) {
 	}
 }
 
-// runSklearn runs a script under /usr/bin/python3 and parses one number a
-// line; it skips the test when scikit-learn is missing.
+// runSklearn runs a script under the reference interpreter and parses one
+// number a line; it skips the test when scikit-learn is missing.
 func runSklearn(t *testing.T, script string, args ...string) []float64 {
 	t.Helper()
-	const python = "/usr/bin/python3"
-	cmd := exec.Command(python, append([]string{"-c", importCheck + script}, args...)...)
-	var out, stderr bytes.Buffer
-	cmd.Stdout, cmd.Stderr = &out, &stderr
-	err := cmd.Run()
-	var exit *exec.ExitError
-	switch {
-	case errors.Is(err, exec.ErrNotFound) || errors.Is(err, fs.ErrNotExist):
-		t.Skipf("reference check skipped: %s not found (install python3-sklearn)", python)
-	case errors.As(err, &exit) && exit.ExitCode() == 77:
-		t.Skipf("reference check skipped: %s cannot import sklearn (install python3-sklearn): %s", python, strings.TrimSpace(stderr.String()))
-	case err != nil:
-		t.Fatalf("reference script failed: %v\n%s", err, stderr.String())
-	}
+	out := pyref.Output(t, "numpy, sklearn", importCheck+script, args...)
 	var vals []float64
-	for _, f := range strings.Fields(out.String()) {
+	for _, f := range strings.Fields(string(out)) {
 		v, err := strconv.ParseFloat(f, 64)
 		if err != nil {
 			t.Fatal(err)
