@@ -110,7 +110,7 @@ func newAtlasView(u *ui, src source, d *atlas.Dataset, p *pipeline.Prepared) *at
 
 // showAtlas replaces the window's content with the atlas view and starts
 // the first run.
-func (u *ui) showAtlas(src source, d *atlas.Dataset, p *pipeline.Prepared, lv *loadingView) {
+func (u *ui) showAtlas(src source, d *atlas.Dataset, p *pipeline.Prepared) {
 	if u.atlas != nil {
 		u.atlas.close()
 	}

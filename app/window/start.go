@@ -260,7 +260,7 @@ func (u *ui) open(src source) {
 			if !src.example {
 				u.remember(src.path)
 			}
-			u.showAtlas(src, d, prep, lv)
+			u.showAtlas(src, d, prep)
 		})
 	}()
 }
