@@ -109,7 +109,6 @@ type loadingView struct {
 func newLoadingView(name string, cancel func()) *loadingView {
 	lv := &loadingView{rows: map[string]*stageRow{}, started: time.Now()}
 	stages := append([]struct{ Name, Label string }{{"read", "reading the files"}}, pipeline.Stages...)
-	stages = append(stages, struct{ Name, Label string }{"map", "first map"})
 	grid := container.New(layout.NewFormLayout())
 	for _, st := range stages {
 		r := &stageRow{label: widget.NewLabel(st.Label), bar: widget.NewProgressBar()}
