@@ -138,11 +138,12 @@ type fftRepulsion struct {
 	// odd kernels K_x and K_y imaginary; only those parts are stored.
 	kernelDelta    float64
 	kw, kxIm, kyIm []float64
-	// Near-field blocks for blockH: for each cell offset o ∈ [−1,1]², kernel
-	// k and target and source nodes t, s of their cells,
-	// nearKernel[(o·cellNodes+t)·cellNodes+s] = (K_x, K_y, K_w)(node_t − node_s − o·h).
+	// Near-field blocks for blockH: for each cell offset o ∈ [−1,1]², source
+	// node s of cell c + o, target node t of cell c and kernel k,
+	// nearKernel[(o·cellNodes+s)·blockRows + 3t+k] = (K_x, K_y, K_w)_k(node_t − node_s − o·h),
+	// column-major blocks of blockRows rows (the last one zero).
 	blockH     float64
-	nearKernel [][3]float64
+	nearKernel []float64
 
 	// Per point: cell, Lagrange weights (x then y), and Σ_j w_ij.
 	cellOf   []int32
@@ -154,13 +155,13 @@ type fftRepulsion struct {
 	// and their coordinates in that order.
 	start  []int32
 	order  []int32
-	sorted [][2]float64
+	sx, sy []float64
 	// Near field only: per cell, the charges on its nodes; cell boundaries
-	// of the parts handled by each thread; per part, accumulated sums for
-	// each sorted point.
-	cellQ []float64
-	parts []int
-	acc   [][3]float64
+	// of the parts handled by each thread; per part, the accumulated sums
+	// (K_x, K_y, K_w) for each sorted point.
+	cellQ            []float64
+	parts            []int
+	accX, accY, accW []float64
 
 	charge []float64    // per block: my × mx spread charges
 	spec   []complex128 // ly × (lx/2+1)
@@ -439,16 +440,13 @@ func (r *fftRepulsion) bin(y []float64) (int64, int) {
 	}
 	r.parts = append(r.parts, cells)
 	r.order = grow32(r.order, n)
-	if cap(r.sorted) < n {
-		r.sorted = make([][2]float64, n)
-	}
-	r.sorted = r.sorted[:n]
+	r.sx, r.sy = grow(r.sx, n), grow(r.sy, n)
 	next := r.start[:cells] // reuse as fill cursors, then restore
 	for i := 0; i < n; i++ {
 		c := r.cellOf[i]
 		k := next[c]
 		r.order[k] = int32(i)
-		r.sorted[k] = [2]float64{y[2*i], y[2*i+1]}
+		r.sx[k], r.sy[k] = y[2*i], y[2*i+1]
 		next[c]++
 	}
 	// next[c] now holds the end of cell c, the start of c+1: shift back.
@@ -537,7 +535,7 @@ func (r *fftRepulsion) kernelSpectra() {
 func (r *fftRepulsion) nearBlocks() {
 	r.blockH = r.h
 	if r.nearKernel == nil {
-		r.nearKernel = make([][3]float64, 9*cellNodes*cellNodes)
+		r.nearKernel = make([]float64, 9*cellNodes*blockRows)
 	}
 	for o := 0; o < 9; o++ {
 		ox, oy := float64(o%3-1), float64(o/3-1)
@@ -547,7 +545,8 @@ func (r *fftRepulsion) nearBlocks() {
 				dx := float64(t%interpNodes-s%interpNodes)*r.delta - ox*r.h
 				dy := float64(t/interpNodes-s/interpNodes)*r.delta - oy*r.h
 				kx, ky, kw := kernel(dx, dy)
-				r.nearKernel[(o*cellNodes+t)*cellNodes+s] = [3]float64{kx, ky, kw}
+				col := r.nearKernel[(o*cellNodes+s)*blockRows:]
+				col[3*t], col[3*t+1], col[3*t+2] = kx, ky, kw
 			}
 		}
 	}
@@ -708,10 +707,7 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 	cells := nx * ny
 	parts := len(r.parts) - 1
 	r.cellQ = grow(r.cellQ, cells*cellNodes)
-	if cap(r.acc) < parts*n {
-		r.acc = make([][3]float64, parts*n)
-	}
-	r.acc = r.acc[:parts*n]
+	r.accX, r.accY, r.accW = grow(r.accX, parts*n), grow(r.accY, parts*n), grow(r.accW, parts*n)
 	// Charges of each occupied cell on its own nodes.
 	parallel.For(parts, parts, func(lo, hi, _ int) {
 		for p := lo; p < hi; p++ {
@@ -719,9 +715,12 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 				q := (*[cellNodes]float64)(r.cellQ[c*cellNodes:])
 				*q = [cellNodes]float64{}
 				for k := r.start[c]; k < r.start[c+1]; k++ {
-					w := r.wts[2*interpNodes*int(r.order[k]):]
-					for t := range q {
-						q[t] += w[interpNodes+t/interpNodes] * w[t%interpNodes]
+					w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*int(r.order[k]):])
+					for b := 0; b < interpNodes; b++ {
+						wy, row := w[interpNodes+b], q[b*interpNodes:(b+1)*interpNodes]
+						for a := range row {
+							row[a] += wy * w[a]
+						}
 					}
 				}
 			}
@@ -733,8 +732,10 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 	var stopped atomic.Bool
 	parallel.For(parts, parts, func(lo, hi, _ int) {
 		for p := lo; p < hi; p++ {
-			acc := r.acc[p*n : (p+1)*n]
-			clear(acc)
+			ax, ay, aw := r.accX[p*n:(p+1)*n], r.accY[p*n:(p+1)*n], r.accW[p*n:(p+1)*n]
+			clear(ax)
+			clear(ay)
+			clear(aw)
 			for c := r.parts[p]; c < r.parts[p+1]; c++ {
 				if c%64 == 0 && stop() {
 					stopped.Store(true)
@@ -745,11 +746,12 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 				}
 				cx, cy := c%nx, c/nx
 				// v = grid potentials on the cell's nodes − the near part.
-				var v [cellNodes][3]float64
+				// Node t's three potentials are v[3t], v[3t+1], v[3t+2].
+				var v [blockRows]float64
 				base := cy*d*mx + cx*d
-				for t := range v {
+				for t := 0; t < cellNodes; t++ {
 					node := base + (t/interpNodes)*mx + t%interpNodes
-					v[t] = [3]float64{r.pot[node], r.pot[grid+node], r.pot[2*grid+node]}
+					v[3*t], v[3*t+1], v[3*t+2] = r.pot[node], r.pot[grid+node], r.pot[2*grid+node]
 				}
 				for o := 0; o < 9; o++ {
 					sx, sy := cx+o%3-1, cy+o/3-1
@@ -760,44 +762,37 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 					if r.start[src] == r.start[src+1] {
 						continue
 					}
-					q := (*[cellNodes]float64)(r.cellQ[src*cellNodes:])
-					blk := r.nearKernel[o*cellNodes*cellNodes:]
-					for t := range v {
-						row := (*[cellNodes][3]float64)(blk[t*cellNodes:])
-						var sx, sy, sw float64
-						for u, k := range row {
-							sx += k[0] * q[u]
-							sy += k[1] * q[u]
-							sw += k[2] * q[u]
-						}
-						v[t][0] -= sx
-						v[t][1] -= sy
-						v[t][2] -= sw
-					}
+					subBlock(&v, r.nearKernel[o*cellNodes*blockRows:(o+1)*cellNodes*blockRows], r.cellQ[src*cellNodes:(src+1)*cellNodes])
 				}
 				for k := r.start[c]; k < r.start[c+1]; k++ {
-					w := r.wts[2*interpNodes*int(r.order[k]):]
+					w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*int(r.order[k]):])
 					var f [3]float64
-					for t := range v {
-						wt := w[interpNodes+t/interpNodes] * w[t%interpNodes]
-						f[0] += wt * v[t][0]
-						f[1] += wt * v[t][1]
-						f[2] += wt * v[t][2]
+					for b := 0; b < interpNodes; b++ {
+						var g [3]float64
+						row := v[3*interpNodes*b : 3*interpNodes*(b+1)]
+						for a := 0; a < interpNodes; a++ {
+							g[0] += w[a] * row[3*a]
+							g[1] += w[a] * row[3*a+1]
+							g[2] += w[a] * row[3*a+2]
+						}
+						wy := w[interpNodes+b]
+						f[0] += wy * g[0]
+						f[1] += wy * g[1]
+						f[2] += wy * g[2]
 					}
-					a := &acc[k]
-					a[0] += f[0]
-					a[1] += f[1]
-					a[2] += f[2] + 1 // the exact self term, w_ii = 1
+					ax[k] += f[0]
+					ay[k] += f[1]
+					aw[k] += f[2] + 1 // the exact self term, w_ii = 1
 				}
 				// Exact pairs: within the cell, then with the forward neighbours.
-				r.pairs(acc, r.start[c], r.start[c+1], r.start[c], r.start[c+1], true)
+				r.pairs(ax, ay, aw, r.start[c], r.start[c+1], r.start[c], r.start[c+1], true)
 				for _, o := range [4][2]int{{1, 0}, {-1, 1}, {0, 1}, {1, 1}} {
 					sx, sy := cx+o[0], cy+o[1]
 					if sx < 0 || sx >= nx || sy >= ny {
 						continue
 					}
 					src := sy*nx + sx
-					r.pairs(acc, r.start[c], r.start[c+1], r.start[src], r.start[src+1], false)
+					r.pairs(ax, ay, aw, r.start[c], r.start[c+1], r.start[src], r.start[src+1], false)
 				}
 			}
 		}
@@ -809,10 +804,9 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 		for k := lo; k < hi; k++ {
 			var f [3]float64
 			for p := 0; p < parts; p++ {
-				a := &r.acc[p*n+k]
-				f[0] += a[0]
-				f[1] += a[1]
-				f[2] += a[2]
+				f[0] += r.accX[p*n+k]
+				f[1] += r.accY[p*n+k]
+				f[2] += r.accW[p*n+k]
 			}
 			i := r.order[k]
 			dst[2*i], dst[2*i+1], r.zval[i] = f[0], f[1], f[2]
@@ -822,35 +816,21 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 }
 
 // pairs adds the exact kernel sums between the sorted points [alo, ahi) and
-// [blo, bhi) to acc, each pair once to both points. With same, the two ranges
-// are one cell and only pairs a < b count.
-func (r *fftRepulsion) pairs(acc [][3]float64, alo, ahi, blo, bhi int32, same bool) {
+// [blo, bhi) to the sums (ax, ay, aw), each pair once to both points. With
+// same, the two ranges are one cell and only pairs a < b count.
+func (r *fftRepulsion) pairs(ax, ay, aw []float64, alo, ahi, blo, bhi int32, same bool) {
 	for a := alo; a < ahi; a++ {
-		pa := r.sorted[a]
 		from := blo
 		if same {
 			from = a + 1
 		}
-		pts, out := r.sorted[from:bhi], acc[from:bhi]
-		out = out[:len(pts)]
-		var fx, fy, fw float64
-		for b, pb := range pts {
-			dx, dy := pa[0]-pb[0], pa[1]-pb[1]
-			w := 1 / (1 + dx*dx + dy*dy)
-			w2 := w * w
-			gx, gy := w2*dx, w2*dy
-			fx += gx
-			fy += gy
-			fw += w
-			o := &out[b]
-			o[0] -= gx
-			o[1] -= gy
-			o[2] += w
+		if from >= bhi {
+			continue
 		}
-		o := &acc[a]
-		o[0] += fx
-		o[1] += fy
-		o[2] += fw
+		fx, fy, fw := pairSums(r.sx[a], r.sy[a], r.sx[from:bhi], r.sy[from:bhi], ax[from:bhi], ay[from:bhi], aw[from:bhi])
+		ax[a] += fx
+		ay[a] += fy
+		aw[a] += fw
 	}
 }
 

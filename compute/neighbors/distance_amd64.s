@@ -26,25 +26,6 @@ DATA tailmask<>+56(SB)/4, $0
 DATA tailmask<>+60(SB)/4, $0
 GLOBL tailmask<>(SB), RODATA|NOPTR, $64
 
-// func cpuid(leaf, sub uint32) (eax, ebx, ecx, edx uint32)
-TEXT ·cpuid(SB), NOSPLIT, $0-24
-	MOVL leaf+0(FP), AX
-	MOVL sub+4(FP), CX
-	CPUID
-	MOVL AX, eax+8(FP)
-	MOVL BX, ebx+12(FP)
-	MOVL CX, ecx+16(FP)
-	MOVL DX, edx+20(FP)
-	RET
-
-// func xgetbv() (eax, edx uint32)
-TEXT ·xgetbv(SB), NOSPLIT, $0-8
-	MOVL $0, CX
-	XGETBV
-	MOVL AX, eax+0(FP)
-	MOVL DX, edx+4(FP)
-	RET
-
 // func sqDistAVX2(a, b *float32, n int) float32
 TEXT ·sqDistAVX2(SB), NOSPLIT, $0-28
 	MOVQ a+0(FP), SI

@@ -1,0 +1,17 @@
+package embed
+
+import "lodestone/compute/cpufeat"
+
+// haveAVX2 reports whether pairSums may use its AVX2 kernel. Tests clear it
+// to run the portable code.
+var haveAVX2 = cpufeat.AVX2FMA
+
+// pairSumsAVX2 is pairSums for the first n points, n a positive multiple of 4.
+//
+//go:noescape
+func pairSumsAVX2(xa, ya float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64)
+
+// subBlockAVX2 is subBlock for the block m of n ≥ 1 columns and the vector q.
+//
+//go:noescape
+func subBlockAVX2(v, m, q *float64, n int)

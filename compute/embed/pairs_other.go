@@ -1,0 +1,14 @@
+//go:build !amd64
+
+package embed
+
+// haveAVX2 is false where no assembly kernels exist.
+const haveAVX2 = false
+
+func pairSumsAVX2(xa, ya float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64) {
+	panic("embed: no AVX2 kernel on this architecture")
+}
+
+func subBlockAVX2(v, m, q *float64, n int) {
+	panic("embed: no AVX2 kernel on this architecture")
+}

@@ -1,0 +1,72 @@
+package embed
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// TestPairSums checks pairSums, on whatever kernel this processor runs,
+// against its definition evaluated term by term, for every length from 0 to
+// 19 (full blocks of four and every remainder).
+func TestPairSums(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 9))
+	for n := 0; n < 20; n++ {
+		xs, ys := make([]float64, n), make([]float64, n)
+		ax, ay, aw := make([]float64, n), make([]float64, n), make([]float64, n)
+		for b := range xs {
+			xs[b], ys[b] = 3*rng.NormFloat64(), 3*rng.NormFloat64()
+			ax[b], ay[b], aw[b] = rng.Float64(), rng.Float64(), rng.Float64()
+		}
+		wantX, wantY, wantW := append([]float64(nil), ax...), append([]float64(nil), ay...), append([]float64(nil), aw...)
+		xa, ya := rng.NormFloat64(), rng.NormFloat64()
+		var fx, fy, fw float64
+		for b := range xs {
+			kx, ky, kw := kernel(xa-xs[b], ya-ys[b])
+			fx, fy, fw = fx+kx, fy+ky, fw+kw
+			wantX[b] -= kx
+			wantY[b] -= ky
+			wantW[b] += kw
+		}
+		gx, gy, gw := pairSums(xa, ya, xs, ys, ax, ay, aw)
+		close := func(got, want float64) bool { return math.Abs(got-want) <= 1e-14*(1+math.Abs(want)) }
+		if !close(gx, fx) || !close(gy, fy) || !close(gw, fw) {
+			t.Fatalf("n = %d: sums (%v, %v, %v), want (%v, %v, %v)", n, gx, gy, gw, fx, fy, fw)
+		}
+		for b := range xs {
+			if !close(ax[b], wantX[b]) || !close(ay[b], wantY[b]) || !close(aw[b], wantW[b]) {
+				t.Fatalf("n = %d, point %d: (%v, %v, %v), want (%v, %v, %v)", n, b, ax[b], ay[b], aw[b], wantX[b], wantY[b], wantW[b])
+			}
+		}
+	}
+}
+
+// TestSubBlock checks subBlock, on whatever kernel this processor runs,
+// against its definition summed term by term, for 1 to 30 columns.
+func TestSubBlock(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 1))
+	for n := 1; n <= 30; n++ {
+		m, q := make([]float64, n*blockRows), make([]float64, n)
+		for k := range m {
+			m[k] = rng.NormFloat64()
+		}
+		for c := range q {
+			q[c] = rng.NormFloat64()
+		}
+		var v, want [blockRows]float64
+		for r := range v {
+			v[r] = rng.NormFloat64()
+			var s float64
+			for c := range q {
+				s += m[c*blockRows+r] * q[c]
+			}
+			want[r] = v[r] - s
+		}
+		subBlock(&v, m, q)
+		for r := range v {
+			if math.Abs(v[r]-want[r]) > 1e-13*(1+math.Abs(want[r])) {
+				t.Fatalf("%d columns, row %d: %v, want %v", n, r, v[r], want[r])
+			}
+		}
+	}
+}
