@@ -120,12 +120,7 @@ func attract(dst, y []float64, p *sparse.CSR, logs, plogp []float64, threads int
 			start, end := p.RowPtr[i], p.RowPtr[i+1]
 			cols, vals := p.ColIdx[start:end], p.Val[start:end]
 			if logs == nil {
-				for k, j := range cols {
-					dx, dy := xi-y[2*j], yi-y[2*j+1]
-					pw := float64(vals[k]) / (1 + dx*dx + dy*dy)
-					fx += pw * dx
-					fy += pw * dy
-				}
+				fx, fy = attractRow(xi, yi, y, cols, vals)
 			} else {
 				for k, j := range cols {
 					dx, dy := xi-y[2*j], yi-y[2*j+1]
@@ -154,6 +149,28 @@ func attract(dst, y []float64, p *sparse.CSR, logs, plogp []float64, threads int
 		}
 	})
 	return !stopped.Load()
+}
+
+// attractRow returns Σ_k v_k w_k (x_i − x_{j_k}) and Σ_k v_k w_k (y_i − y_{j_k}),
+// w_k = 1/(1 + |y_i − y_{j_k}|²), over the entries (cols, vals) of one row of
+// P, for the point (xi, yi) of the interleaved layout y. With AVX2 the first
+// len(cols) &^ 3 entries go four at a time (each lane summed separately, the
+// lanes then added as (l0+l2)+(l1+l3)); the rest, and every entry elsewhere,
+// go one by one in order.
+func attractRow(xi, yi float64, y []float64, cols []int32, vals []float32) (fx, fy float64) {
+	m := 0
+	if haveAVX2 && len(cols) >= 4 {
+		m = len(cols) &^ 3
+		fx, fy = attractRowAVX2(xi, yi, &y[0], &cols[0], &vals[0], m)
+	}
+	vals = vals[:len(cols)]
+	for k, j := range cols[m:] {
+		dx, dy := xi-y[2*j], yi-y[2*j+1]
+		pw := float64(vals[m+k]) / (1 + dx*dx + dy*dy)
+		fx += pw * dx
+		fy += pw * dy
+	}
+	return fx, fy
 }
 
 // KL returns the Kullback–Leibler divergence of the layout's similarities Q

@@ -15,3 +15,10 @@ func pairSumsAVX2(xa, ya float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, f
 //
 //go:noescape
 func subBlockAVX2(v, m, q *float64, n int)
+
+// attractRowAVX2 is attractRow for the first n entries, n a positive
+// multiple of 4. Every column index must be in range: the kernel gathers
+// without bounds checks.
+//
+//go:noescape
+func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy float64)

@@ -183,3 +183,49 @@ pass1:
 	VMOVUPD Y14, 576(DX)
 	VZEROUPPER
 	RET
+
+// func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy float64)
+// Four entries per step: their columns j (doubled, as the layout is
+// interleaved) gather x_j and y_j, their values are widened to float64.
+TEXT ·attractRowAVX2(SB), NOSPLIT, $0-64
+	VBROADCASTSD xi+0(FP), Y0
+	VBROADCASTSD yi+8(FP), Y1
+	MOVQ y+16(FP), SI
+	MOVQ cols+24(FP), DI
+	MOVQ vals+32(FP), R8
+	MOVQ n+40(FP), CX
+	VXORPD Y2, Y2, Y2 // Σ v·w·dx
+	VXORPD Y3, Y3, Y3 // Σ v·w·dy
+	VBROADCASTSD one<>(SB), Y5
+	XORQ AX, AX
+
+attract:
+	VMOVDQU (DI)(AX*4), X6
+	VPADDD X6, X6, X6          // 2j
+	VPCMPEQD Y7, Y7, Y7        // gather every lane
+	VGATHERDPD Y7, (SI)(X6*8), Y8
+	VPCMPEQD Y7, Y7, Y7
+	VGATHERDPD Y7, 8(SI)(X6*8), Y9
+	VCVTPS2PD (R8)(AX*4), Y10  // v
+	VSUBPD Y8, Y0, Y8          // dx
+	VSUBPD Y9, Y1, Y9          // dy
+	VMULPD Y8, Y8, Y11
+	VFMADD231PD Y9, Y9, Y11
+	VADDPD Y5, Y11, Y11        // 1 + dx² + dy²
+	VDIVPD Y11, Y10, Y12       // v·w
+	VFMADD231PD Y12, Y8, Y2
+	VFMADD231PD Y12, Y9, Y3
+	ADDQ $4, AX
+	CMPQ AX, CX
+	JLT attract
+
+	VEXTRACTF128 $1, Y2, X6
+	VADDPD X6, X2, X2
+	VHADDPD X2, X2, X2
+	MOVSD X2, fx+48(FP)
+	VEXTRACTF128 $1, Y3, X7
+	VADDPD X7, X3, X3
+	VHADDPD X3, X3, X3
+	MOVSD X3, fy+56(FP)
+	VZEROUPPER
+	RET

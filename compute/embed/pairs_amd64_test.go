@@ -8,7 +8,8 @@ import (
 // TestPortableRepulsion runs the interpolated repulsion with the portable
 // near-field code on an AVX2 machine and compares it with the AVX2 run, so
 // that the code path of other processors is tested here too; the two differ
-// only by the order of additions.
+// only by the order of additions. TestPortableIteration does the same for
+// one optimiser step.
 func TestPortableRepulsion(t *testing.T) {
 	if !haveAVX2 {
 		t.Skip("the portable code is the only one here and is tested everywhere")
@@ -31,5 +32,42 @@ func TestPortableRepulsion(t *testing.T) {
 	}
 	if e := math.Sqrt(num / den); e > 1e-12 || math.Abs(zFast-zSlow) > 1e-12*zSlow {
 		t.Fatalf("AVX2 and portable differ: forces %.2e, Z %v vs %v", e, zFast, zSlow)
+	}
+}
+
+// TestPortableIteration takes one optimiser step from the same layout with
+// the AVX2 kernels and with the portable code (attraction, repulsion with its
+// near field, and the step) and requires the two new layouts to agree to
+// 1e-9 of the layout's extent: they differ only by the order of additions.
+func TestPortableIteration(t *testing.T) {
+	if !haveAVX2 {
+		t.Skip("the portable code is the only one here and is tested everywhere")
+	}
+	P := mixtureAffinity(t, 3000)
+	a, err := checkAffinity(P, P.Rows, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	y := clusteredLayout(P.Rows, 60, 5)
+	step := func() []float64 {
+		p := Params{Attraction: 1, Threads: 2}
+		if err := p.check(); err != nil {
+			t.Fatal(err)
+		}
+		o := newOptimizer(a, append([]float64(nil), y...), p)
+		if o.fft == nil {
+			t.Fatal("the layout should use the interpolated repulsion")
+		}
+		o.iterate(1, lateMomentum, float64(o.n), false, never)
+		return o.y
+	}
+	fast := step()
+	haveAVX2 = false
+	defer func() { haveAVX2 = true }()
+	slow := step()
+	for k := range fast {
+		if math.Abs(fast[k]-slow[k]) > 1e-9*60 {
+			t.Fatalf("coordinate %d: AVX2 %v, portable %v", k, fast[k], slow[k])
+		}
 	}
 }

@@ -12,3 +12,7 @@ func pairSumsAVX2(xa, ya float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, f
 func subBlockAVX2(v, m, q *float64, n int) {
 	panic("embed: no AVX2 kernel on this architecture")
 }
+
+func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy float64) {
+	panic("embed: no AVX2 kernel on this architecture")
+}

@@ -70,3 +70,36 @@ func TestSubBlock(t *testing.T) {
 		}
 	}
 }
+
+// TestAttractRow checks attractRow, on whatever kernel this processor runs,
+// against its definition summed term by term, for rows of 0 to 19 entries
+// whose columns reach both ends of the layout.
+func TestAttractRow(t *testing.T) {
+	rng := rand.New(rand.NewPCG(8, 2))
+	const points = 50
+	y := make([]float64, 2*points)
+	for k := range y {
+		y[k] = 4 * rng.NormFloat64()
+	}
+	for n := 0; n < 20; n++ {
+		cols, vals := make([]int32, n), make([]float32, n)
+		for k := range cols {
+			cols[k], vals[k] = int32(rng.IntN(points)), rng.Float32()
+		}
+		if n > 1 {
+			cols[0], cols[n-1] = 0, points-1
+		}
+		xi, yi := rng.NormFloat64(), rng.NormFloat64()
+		var wantX, wantY float64
+		for k, j := range cols {
+			dx, dy := xi-y[2*j], yi-y[2*j+1]
+			w := 1 / (1 + dx*dx + dy*dy)
+			wantX += float64(vals[k]) * w * dx
+			wantY += float64(vals[k]) * w * dy
+		}
+		fx, fy := attractRow(xi, yi, y, cols, vals)
+		if math.Abs(fx-wantX) > 1e-14*(1+math.Abs(wantX)) || math.Abs(fy-wantY) > 1e-14*(1+math.Abs(wantY)) {
+			t.Fatalf("%d entries: (%v, %v), want (%v, %v)", n, fx, fy, wantX, wantY)
+		}
+	}
+}

@@ -191,21 +191,43 @@ func newFFTRepulsion(threads int) *fftRepulsion {
 // of the interval [0, 1] for interpolation at t:
 //
 //	L_a(t) = Π_{b≠a} (t − t_b) / (t_a − t_b)
+//
+// The numerators come from prefix and suffix products of the t − t_b, the
+// denominators from lagrangeScale.
 func lagrange(t float64) [interpNodes]float64 {
-	var w [interpNodes]float64
 	const d = interpNodes - 1
-	for a := 0; a < interpNodes; a++ {
-		num, den := 1.0, 1.0
-		for b := 0; b < interpNodes; b++ {
-			if b != a {
-				num *= t - float64(b)/d
-				den *= float64(a-b) / d
-			}
-		}
-		w[a] = num / den
+	var e, pre, w [interpNodes]float64
+	for b := range e {
+		e[b] = t - float64(b)/d
+	}
+	p := 1.0
+	for a := range pre {
+		pre[a] = p
+		p *= e[a]
+	}
+	p = 1
+	for a := interpNodes - 1; a >= 0; a-- {
+		w[a] = pre[a] * p * lagrangeScale[a]
+		p *= e[a]
 	}
 	return w
 }
+
+// lagrangeScale holds 1 / Π_{b≠a} (t_a − t_b) for each node a of lagrange.
+var lagrangeScale = func() [interpNodes]float64 {
+	const d = interpNodes - 1
+	var s [interpNodes]float64
+	for a := range s {
+		den := 1.0
+		for b := 0; b < interpNodes; b++ {
+			if b != a {
+				den *= float64(a-b) / d
+			}
+		}
+		s[a] = 1 / den
+	}
+	return s
+}()
 
 // goodFFTLen returns the smallest even n ≥ min whose only prime factors are
 // 2, 3 and 5, the lengths the FFT handles fastest.
@@ -289,7 +311,6 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 		r.h, r.delta, r.x0, r.y0 = h, h/d, bounds[0], bounds[2]
 		r.nx, r.ny = cells(ex, h), cells(ey, h)
 		r.near = h > fineCellWidth
-		r.locate(y)
 	}
 	// The narrowest cells the FFT allows.
 	hMin := ladder(extent / float64((maxFFTLen/2-1)/d))
@@ -300,13 +321,15 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 	h0 := max(hMin, ladder(min(extent/targetCells, math.Sqrt(nearBudget*area/(9*float64(n))))))
 	place(h0)
 	if !r.near {
+		r.locate(y, true)
 		r.finishGrid()
 		return
 	}
 	// Choose among widths 2^(k/4)·h0 by a cost model: the FFT grows as the
 	// cells narrow, the near field shrinks (its pairs as h², its occupied
-	// cells as 1/h², both extrapolated from the binning at h0).
-	work0, occ0 := r.bin(y)
+	// cells as 1/h², both extrapolated from the census at h0).
+	r.locate(y, false)
+	work0, occ0 := r.tally(n)
 	cost := func(h float64) float64 {
 		lx, ly := fftLen(ex, h), fftLen(ey, h)
 		c := costFFT * float64(lx*ly) * math.Log2(float64(max(lx, ly)))
@@ -326,11 +349,10 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 			best, bestCost = h, c
 		}
 	}
-	if best != h0 {
-		place(best)
-		if r.near {
-			work0, _ = r.bin(y)
-		}
+	place(best)
+	r.locate(y, true)
+	if r.near {
+		work0, _ = r.bin(y)
 	}
 	if r.near && work0 > maxNearWork*int64(n) {
 		// Only a layout with a few points very far from the rest gets here
@@ -370,34 +392,38 @@ func (r *fftRepulsion) finishGrid() {
 	r.half = growComplex(r.half, 3*r.my*(r.lx/2+1))
 }
 
-// locate records each point's cell and Lagrange weights.
-func (r *fftRepulsion) locate(y []float64) {
+// locate records each point's cell and, with weights, its Lagrange weights.
+func (r *fftRepulsion) locate(y []float64, weights bool) {
 	n := len(y) / 2
 	parallel.For(n, r.threads, func(lo, hi, _ int) {
 		for i := lo; i < hi; i++ {
-			cx, wx := r.axis(y[2*i], r.x0, r.nx)
-			cy, wy := r.axis(y[2*i+1], r.y0, r.ny)
+			cx, ux := r.axis(y[2*i], r.x0, r.nx)
+			cy, uy := r.axis(y[2*i+1], r.y0, r.ny)
 			r.cellOf[i] = int32(cy*r.nx + cx)
-			w := r.wts[2*interpNodes*i:]
-			copy(w[:interpNodes], wx[:])
-			copy(w[interpNodes:2*interpNodes], wy[:])
+			if weights {
+				w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*i:])
+				wx, wy := lagrange(ux), lagrange(uy)
+				copy(w[:interpNodes], wx[:])
+				copy(w[interpNodes:], wy[:])
+			}
 		}
 	})
 }
 
 // axis returns the cell along one axis that holds coordinate v and the
-// Lagrange weights of its nodes.
-func (r *fftRepulsion) axis(v, origin float64, cells int) (int, [interpNodes]float64) {
+// position of v in it, in cell widths.
+func (r *fftRepulsion) axis(v, origin float64, cells int) (int, float64) {
 	u := (v - origin) / r.h
 	k := min(max(int(math.Floor(u)), 0), cells-1)
-	return k, lagrange(u - float64(k))
+	return k, u - float64(k)
 }
 
-// bin sorts the points by cell (counting sort, stable in point id) and
-// returns the near-field work, Σ_c n_c Σ_{c' adjacent or equal} n_c' (each
-// pair counted twice), and the number of occupied cells.
-func (r *fftRepulsion) bin(y []float64) (int64, int) {
-	n, cells := len(y)/2, r.nx*r.ny
+// tally counts the points of each cell into start (as offsets), splits the
+// cells into parts of about equal near-field work, and returns the work,
+// Σ_c n_c Σ_{c' adjacent or equal} n_c' (each pair counted twice), and the
+// number of occupied cells.
+func (r *fftRepulsion) tally(n int) (int64, int) {
+	cells := r.nx * r.ny
 	r.start = grow32(r.start, cells+1)
 	clear(r.start)
 	for _, c := range r.cellOf[:n] {
@@ -439,6 +465,14 @@ func (r *fftRepulsion) bin(y []float64) (int64, int) {
 		r.parts = append(r.parts, max(c, r.parts[len(r.parts)-1]))
 	}
 	r.parts = append(r.parts, cells)
+	return work, occupied
+}
+
+// bin sorts the points by cell (counting sort, stable in point id) and
+// returns tally's work and occupied cells.
+func (r *fftRepulsion) bin(y []float64) (int64, int) {
+	n, cells := len(y)/2, r.nx*r.ny
+	work, occupied := r.tally(n)
 	r.order = grow32(r.order, n)
 	r.sx, r.sy = grow(r.sx, n), grow(r.sy, n)
 	next := r.start[:cells] // reuse as fill cursors, then restore

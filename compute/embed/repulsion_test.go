@@ -151,3 +151,35 @@ func TestFFTRepulsionDeterministic(t *testing.T) {
 		}
 	}
 }
+
+// TestLagrange checks the interpolation weights against their defining
+// properties: L_a(t_b) = δ_ab at the nodes, and Σ_a L_a(t)·p(t_a) = p(t) for
+// every polynomial p of degree < interpNodes (here the monomials), at points
+// inside and just outside [0, 1].
+func TestLagrange(t *testing.T) {
+	const d = interpNodes - 1
+	for b := 0; b < interpNodes; b++ {
+		w := lagrange(float64(b) / d)
+		for a, v := range w {
+			want := 0.0
+			if a == b {
+				want = 1
+			}
+			if math.Abs(v-want) > 1e-14 {
+				t.Fatalf("L_%d(t_%d) = %v, want %v", a, b, v, want)
+			}
+		}
+	}
+	for _, x := range []float64{-0.01, 0.1, 0.37, 0.5, 0.81, 1.0001} {
+		w := lagrange(x)
+		for deg := 0; deg < interpNodes; deg++ {
+			var got float64
+			for a, v := range w {
+				got += v * math.Pow(float64(a)/d, float64(deg))
+			}
+			if want := math.Pow(x, float64(deg)); math.Abs(got-want) > 1e-13 {
+				t.Fatalf("t = %v, degree %d: %v, want %v", x, deg, got, want)
+			}
+		}
+	}
+}
