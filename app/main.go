@@ -17,7 +17,14 @@ import (
 // program name) and returns the process exit status.
 func Main(args []string) int {
 	if len(args) > 0 && cli.IsCommand(args[0]) {
-		return cli.Run(args, os.Stdout, os.Stderr)
+		// The toolkit's driver locks the main goroutine to the main thread
+		// when it is initialised. A command runs on a goroutine of its own,
+		// so the scheduler may move it between threads: the hot loops hand
+		// work to their helper goroutines and wait for them many times a
+		// second, and each wake of a locked goroutine costs a thread switch.
+		status := make(chan int)
+		go func() { status <- cli.Run(args, os.Stdout, os.Stderr) }()
+		return <-status
 	}
 	opts, err := windowOptions(args, os.Stderr)
 	if err == flag.ErrHelp {

@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"runtime"
+	"runtime/metrics"
 	"strconv"
 	"strings"
 	"sync"
@@ -80,10 +81,22 @@ func peakHeap(f func() error) (uint64, error) {
 	done := make(chan struct{})
 	var wg sync.WaitGroup
 	wg.Add(1)
+	// runtime/metrics reads these without stopping the world, unlike
+	// runtime.ReadMemStats, which would stall the timed work every sample.
+	samples := []metrics.Sample{
+		{Name: "/memory/classes/heap/objects:bytes"},
+		{Name: "/memory/classes/heap/unused:bytes"},
+		{Name: "/memory/classes/heap/stacks:bytes"},
+	}
 	sample := func() {
-		var stats runtime.MemStats
-		runtime.ReadMemStats(&stats)
-		if v := stats.HeapInuse + stats.StackInuse; v > peak.Load() {
+		metrics.Read(samples)
+		var v uint64
+		for _, s := range samples {
+			if s.Value.Kind() == metrics.KindUint64 {
+				v += s.Value.Uint64()
+			}
+		}
+		if v > peak.Load() {
 			peak.Store(v)
 		}
 	}
