@@ -24,7 +24,7 @@ const stepCap = 0.5
 const settleAfter = 30
 
 // klEvery is the least time between two KL estimates of the snapshots.
-const klEvery = 400 * time.Millisecond
+const klEvery = time.Second
 
 // Gains and momentum (van der Maaten & Hinton 2008; common practice for the
 // values).
@@ -114,8 +114,8 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 		snap := publish != nil && (t == 0 || last || time.Since(lastPublish) >= o.p.SnapshotEvery)
 		// The first snapshot goes out as early as possible, without the KL
 		// estimate's logarithms; later ones carry an estimate at most
-		// klEvery old, since the logarithms cost as much as the rest of the
-		// attractive pass.
+		// klEvery old, since the logarithms cost several times as much as
+		// the rest of the attractive pass.
 		withKL := snap && t > 0 && (last || time.Since(lastKL) >= klEvery)
 		k, ok := o.iterate(rho, momentum, eta, withKL, stop)
 		if !ok {
@@ -200,7 +200,7 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 				o.gains[k] = gain
 				u[c] = momentum*o.upd[k] - eta*gain*g
 			}
-			l := math.Hypot(u[0], u[1])
+			l := math.Sqrt(u[0]*u[0] + u[1]*u[1])
 			if l > maxStep {
 				u[0], u[1] = u[0]*maxStep/l, u[1]*maxStep/l
 				l = maxStep

@@ -22,3 +22,9 @@ func subBlockAVX2(v, m, q *float64, n int)
 //
 //go:noescape
 func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy float64)
+
+// attractRowLogAVX2 is attractRowLog for the first n entries, n a positive
+// multiple of 4, with the same condition on the columns.
+//
+//go:noescape
+func attractRowLogAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy, ls float64)

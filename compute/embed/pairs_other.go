@@ -16,3 +16,7 @@ func subBlockAVX2(v, m, q *float64, n int) {
 func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy float64) {
 	panic("embed: no AVX2 kernel on this architecture")
 }
+
+func attractRowLogAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy, ls float64) {
+	panic("embed: no AVX2 kernel on this architecture")
+}
