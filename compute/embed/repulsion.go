@@ -319,6 +319,11 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 	// extent/targetCells.
 	area := max(ex*ey, extent*extent/float64(targetCells*targetCells))
 	h0 := max(hMin, ladder(min(extent/targetCells, math.Sqrt(nearBudget*area/(9*float64(n))))))
+	if coarse := max(hMin, ladder(extent/targetCells)); coarse <= fineCellWidth {
+		// A layout this small is covered by targetCells cells fine enough
+		// for the grid alone; more cells would only cost time.
+		h0 = coarse
+	}
 	place(h0)
 	if !r.near {
 		r.locate(y, true)
