@@ -2,18 +2,22 @@ package live
 
 import (
 	"context"
+	"math"
 	"sync"
 	"testing"
 	"time"
 
 	"lodestone/compute/affinity"
+	"lodestone/compute/atlas"
 	"lodestone/compute/embed"
 	"lodestone/compute/neighbors"
+	"lodestone/compute/quality"
 	"lodestone/compute/synth"
 )
 
 var dial70k struct {
 	once   sync.Once
+	x      *atlas.Dense
 	opt    *TSNE
 	layout []float32
 	err    error
@@ -26,6 +30,7 @@ func setupDial70k(b *testing.B) (*TSNE, []float32) {
 	dial70k.once.Do(func() {
 		ctx := context.Background()
 		x, _ := synth.GaussianMixture(70000, 50, 20, 1)
+		dial70k.x = x
 		g, err := neighbors.Find(ctx, x, neighbors.Options{K: 90, Seed: 1})
 		if err != nil {
 			dial70k.err = err
@@ -95,4 +100,30 @@ func BenchmarkDialTurn70k(b *testing.B) {
 	}
 	b.ReportMetric(float64(first.Milliseconds())/float64(b.N), "first-ms")
 	b.ReportMetric(settled.Seconds()/float64(b.N), "settled-s")
+}
+
+// BenchmarkSweep70k runs the window's default sweep on a finished 70k map:
+// attractions 1, 2, 4, 10, 30 and ∞, 500 iterations each, every map scored
+// as the Sweep tab scores it (kNN preservation and trustworthiness of 15
+// neighbours on 2,000 sampled cells), and reports the seconds per sweep.
+func BenchmarkSweep70k(b *testing.B) {
+	opt, layout := setupDial70k(b)
+	ctx := context.Background()
+	values := []float64{1, 2, 4, 10, 30, math.Inf(1)}
+	history := []Step{{Kind: Fresh, Attraction: 1, Iterations: embed.DefaultIterations, Done: embed.DefaultIterations, Setting: 30}}
+	sample := quality.Sample(dial70k.x.Rows, 2000, 7)
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		err := Sweep(ctx, opt, layout, history, values, 500, 30, nil, func(m SweepMap) error {
+			if _, err := quality.KNNPreservation(ctx, dial70k.x, m.Layout, 15, sample, 0); err != nil {
+				return err
+			}
+			_, err := quality.Trustworthiness(dial70k.x, m.Layout, 15, sample)
+			return err
+		})
+		if err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(b.Elapsed().Seconds()/float64(b.N), "s/sweep")
 }

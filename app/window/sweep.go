@@ -144,47 +144,27 @@ func (v *atlasView) toggleSweep() {
 	threads := v.prep.Settings.Threads
 	start := time.Now()
 	go func() {
-		prev := base
-		steps := history
 		sample := quality.Sample(features.Rows, fidelitySample, 7)
-		var err error
-		for k, a := range values {
-			s.progress(v, fmt.Sprintf("sweep: map %d of %d (attraction %s)…", k+1, len(values), lcanvas.FormatAttraction(a)))
-			var layout []float32
-			var step live.Step
-			if math.IsInf(a, 1) {
-				layout, err = opt.Spectral(ctx, prev)
-				step = live.Step{Kind: live.Spectral, Attraction: a, Iterations: 15, Done: 15, Setting: setting}
-			} else {
-				// as the dial does: raising the attraction starts from the
-				// compacted layout
-				step = live.Step{Kind: live.Warm, Attraction: a, Iterations: iters, Done: iters, Setting: setting}
-				from := prev
-				if n := len(steps); n > 0 && a > steps[n-1].Attraction {
-					step.Compact = true
-					from = live.Compact(prev)
-				}
-				layout, err = opt.Run(ctx, from, a, iters, false, nil)
+		before := func(k int) {
+			s.progress(v, fmt.Sprintf("sweep: map %d of %d (attraction %s)…", k+1, len(values), lcanvas.FormatAttraction(values[k])))
+		}
+		err := live.Sweep(ctx, opt, base, history, values, iters, setting, before, func(m live.SweepMap) error {
+			r := sweepResult{attraction: m.Attraction, layout: m.Layout, history: m.History, accuracy: math.NaN()}
+			var err error
+			if r.kept, err = quality.KNNPreservation(ctx, features, m.Layout, fidelityK, sample, threads); err != nil {
+				return err
 			}
-			if err != nil {
-				break
-			}
-			steps = append(append([]live.Step(nil), steps...), step)
-			r := sweepResult{attraction: a, layout: layout, history: steps, accuracy: math.NaN()}
-			if r.kept, err = quality.KNNPreservation(ctx, features, layout, fidelityK, sample, threads); err != nil {
-				break
-			}
-			if r.trust, err = quality.Trustworthiness(features, layout, fidelityK, sample); err != nil {
-				break
+			if r.trust, err = quality.Trustworthiness(features, m.Layout, fidelityK, sample); err != nil {
+				return err
 			}
 			if labels != nil {
-				if r.accuracy, err = quality.LabelAccuracy(layout, labels, fidelityK, sample); err != nil {
-					break
+				if r.accuracy, err = quality.LabelAccuracy(m.Layout, labels, fidelityK, sample); err != nil {
+					return err
 				}
 			}
-			prev = layout
 			fyne.Do(func() { v.addSweepResult(r) })
-		}
+			return nil
+		})
 		fyne.Do(func() {
 			s.cancel = nil
 			s.run.SetText("Run the sweep")
