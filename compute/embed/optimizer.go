@@ -47,6 +47,7 @@ type optimizer struct {
 	attr    []float64 // attractive sums
 	rep     []float64 // repulsive sums
 	fft     *fftRepulsion
+	rows    *rows        // P in the layout's numbering (see relabel)
 	logs    []float64    // per block: Σ p log(1 + d²)
 	plogp   []float64    // per block: Σ p log p, computed with the first KL
 	sums    [][4]float64 // per block scratch
@@ -71,6 +72,11 @@ func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
 	}
 	for i := range o.gains {
 		o.gains[i] = 1
+	}
+	if n >= relabelAbove {
+		o.rows = relabel(a.CSR, y, p.Threads)
+	} else {
+		o.rows = plainRows(a.CSR)
 	}
 	if n >= exactBelow {
 		o.fft = newFFTRepulsion(p.Threads)
@@ -133,11 +139,17 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 	return o.layout(), nil
 }
 
-// layout returns a float32 copy of the current layout.
+// layout returns a float32 copy of the current layout, in P's numbering.
 func (o *optimizer) layout() []float32 {
 	out := make([]float32, len(o.y))
-	for i, v := range o.y {
-		out[i] = float32(v)
+	if o.rows.rowOf == nil {
+		for i, v := range o.y {
+			out[i] = float32(v)
+		}
+		return out
+	}
+	for k, i := range o.rows.rowOf {
+		out[2*i], out[2*i+1] = float32(o.y[2*k]), float32(o.y[2*k+1])
 	}
 	return out
 }
@@ -157,7 +169,7 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	if wantKL && !o.a.known {
 		plogp = o.plogp
 	}
-	if !attract(o.attr, o.y, o.a.CSR, logs, plogp, threads, stop) {
+	if !attract(o.attr, o.y, o.rows, logs, plogp, threads, stop) {
 		return 0, false
 	}
 	if plogp != nil {
