@@ -1,9 +1,12 @@
 package embed
 
 // blockRows is the padded row count of the near-field blocks: the three
-// kernels at the cellNodes target nodes, and one zero row so that the AVX2
-// kernel works in whole registers.
-const blockRows = 3*cellNodes + 1
+// kernels at the cellNodes target nodes, and zero rows up to two passes of
+// ten 4-lane registers for the AVX2 kernel.
+const blockRows = 80
+
+// The blocks must hold the three kernels at every node.
+var _ [blockRows - 3*cellNodes]struct{}
 
 // subBlock subtracts from v the product of the column-major block m (len(q)
 // columns of blockRows rows) with q: v_r −= Σ_c m[c·blockRows + r]·q_c. The

@@ -1,12 +1,40 @@
 #include "textflag.h"
 
-// The exact near-field kernel of pairSums, four points per step in the four
-// lanes of a YMM register.
+// AVX2+FMA kernels of the optimiser (see pairs.go and gradient.go for their
+// portable twins): near-field pair sums, the near-field correction by column
+// blocks, and attraction rows with and without the KL estimate's logarithms,
+// each four entries per step in the four lanes of a YMM register.
+
+// HSUM stores the sum of the four lanes of y, as (l0+l2) + (l1+l3), at out;
+// x is y's low half and t a scratch register.
+#define HSUM(y, x, t, out) VEXTRACTF128 $1, y, t; VADDPD t, x, x; VHADDPD x, x, x; MOVSD x, out
+
+// ATTRACT4 handles entries AX…AX+3 of an attraction row: it gathers x_j and
+// y_j (the columns j doubled, as the layout is interleaved), widens the
+// values v to float64, and adds v·w·dx and v·w·dy to Y2 and Y3, leaving
+// q = 1 + dx² + dy² in Y11 and v in Y10.
+#define ATTRACT4 \
+	VMOVDQU (DI)(AX*4), X6; \
+	VPADDD X6, X6, X6; \
+	VPCMPEQD Y7, Y7, Y7; \
+	VGATHERDPD Y7, (SI)(X6*8), Y8; \
+	VPCMPEQD Y7, Y7, Y7; \
+	VGATHERDPD Y7, 8(SI)(X6*8), Y9; \
+	VCVTPS2PD (R8)(AX*4), Y10; \
+	VSUBPD Y8, Y0, Y8; \
+	VSUBPD Y9, Y1, Y9; \
+	VMULPD Y8, Y8, Y11; \
+	VFMADD231PD Y9, Y9, Y11; \
+	VADDPD Y5, Y11, Y11; \
+	VDIVPD Y11, Y10, Y12; \
+	VFMADD231PD Y12, Y8, Y2; \
+	VFMADD231PD Y12, Y9, Y3
 
 DATA one<>+0(SB)/8, $1.0
 GLOBL one<>(SB), RODATA|NOPTR, $8
 
 // func pairSumsAVX2(xa, ya float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64)
+// The exact near-field terms between (xa, ya) and n points.
 TEXT ·pairSumsAVX2(SB), NOSPLIT, $0-88
 	VBROADCASTSD xa+0(FP), Y0
 	VBROADCASTSD ya+8(FP), Y1
@@ -47,30 +75,23 @@ loop:
 	CMPQ AX, CX
 	JLT loop
 
-	// Lanes: (l0+l2) + (l1+l3).
-	VEXTRACTF128 $1, Y2, X6
-	VADDPD X6, X2, X2
-	VHADDPD X2, X2, X2
-	MOVSD X2, fx+64(FP)
-	VEXTRACTF128 $1, Y3, X7
-	VADDPD X7, X3, X3
-	VHADDPD X3, X3, X3
-	MOVSD X3, fy+72(FP)
-	VEXTRACTF128 $1, Y4, X8
-	VADDPD X8, X4, X4
-	VHADDPD X4, X4, X4
-	MOVSD X4, fw+80(FP)
+	HSUM(Y2, X2, X6, fx+64(FP))
+	HSUM(Y3, X3, X7, fy+72(FP))
+	HSUM(Y4, X4, X8, fw+80(FP))
 	VZEROUPPER
 	RET
 
 // func subBlockAVX2(v, m, q *float64, n int)
-// v[r] −= Σ_{c<n} m[c·76 + r]·q[c] for r < 76, in two passes of 40 and 36
-// rows whose sums stay in registers (Y0–Y9) over the columns.
+// v[r] −= Σ_{c<n} m[c·80 + r]·q[c] for r < 80, in two passes of 40 rows
+// whose sums stay in ten registers (Y0–Y9) over the columns.
 TEXT ·subBlockAVX2(SB), NOSPLIT, $0-32
 	MOVQ v+0(FP), DX
+	MOVQ m+8(FP), R8
 	MOVQ q+16(FP), DI
 	MOVQ n+24(FP), CX
-	MOVQ m+8(FP), SI
+	MOVQ $2, BX
+
+pass:
 	VXORPD Y0, Y0, Y0
 	VXORPD Y1, Y1, Y1
 	VXORPD Y2, Y2, Y2
@@ -81,8 +102,10 @@ TEXT ·subBlockAVX2(SB), NOSPLIT, $0-32
 	VXORPD Y7, Y7, Y7
 	VXORPD Y8, Y8, Y8
 	VXORPD Y9, Y9, Y9
+	MOVQ R8, SI
 	XORQ AX, AX
-pass0:
+
+column:
 	VBROADCASTSD (DI)(AX*8), Y15
 	VFMADD231PD 0(SI), Y15, Y0
 	VFMADD231PD 32(SI), Y15, Y1
@@ -94,10 +117,10 @@ pass0:
 	VFMADD231PD 224(SI), Y15, Y7
 	VFMADD231PD 256(SI), Y15, Y8
 	VFMADD231PD 288(SI), Y15, Y9
-	ADDQ $608, SI
+	ADDQ $640, SI
 	INCQ AX
 	CMPQ AX, CX
-	JLT pass0
+	JLT column
 	VMOVUPD 0(DX), Y14
 	VSUBPD Y0, Y14, Y14
 	VMOVUPD Y14, 0(DX)
@@ -128,59 +151,10 @@ pass0:
 	VMOVUPD 288(DX), Y14
 	VSUBPD Y9, Y14, Y14
 	VMOVUPD Y14, 288(DX)
-	MOVQ m+8(FP), SI
-	VXORPD Y0, Y0, Y0
-	VXORPD Y1, Y1, Y1
-	VXORPD Y2, Y2, Y2
-	VXORPD Y3, Y3, Y3
-	VXORPD Y4, Y4, Y4
-	VXORPD Y5, Y5, Y5
-	VXORPD Y6, Y6, Y6
-	VXORPD Y7, Y7, Y7
-	VXORPD Y8, Y8, Y8
-	XORQ AX, AX
-pass1:
-	VBROADCASTSD (DI)(AX*8), Y15
-	VFMADD231PD 320(SI), Y15, Y0
-	VFMADD231PD 352(SI), Y15, Y1
-	VFMADD231PD 384(SI), Y15, Y2
-	VFMADD231PD 416(SI), Y15, Y3
-	VFMADD231PD 448(SI), Y15, Y4
-	VFMADD231PD 480(SI), Y15, Y5
-	VFMADD231PD 512(SI), Y15, Y6
-	VFMADD231PD 544(SI), Y15, Y7
-	VFMADD231PD 576(SI), Y15, Y8
-	ADDQ $608, SI
-	INCQ AX
-	CMPQ AX, CX
-	JLT pass1
-	VMOVUPD 320(DX), Y14
-	VSUBPD Y0, Y14, Y14
-	VMOVUPD Y14, 320(DX)
-	VMOVUPD 352(DX), Y14
-	VSUBPD Y1, Y14, Y14
-	VMOVUPD Y14, 352(DX)
-	VMOVUPD 384(DX), Y14
-	VSUBPD Y2, Y14, Y14
-	VMOVUPD Y14, 384(DX)
-	VMOVUPD 416(DX), Y14
-	VSUBPD Y3, Y14, Y14
-	VMOVUPD Y14, 416(DX)
-	VMOVUPD 448(DX), Y14
-	VSUBPD Y4, Y14, Y14
-	VMOVUPD Y14, 448(DX)
-	VMOVUPD 480(DX), Y14
-	VSUBPD Y5, Y14, Y14
-	VMOVUPD Y14, 480(DX)
-	VMOVUPD 512(DX), Y14
-	VSUBPD Y6, Y14, Y14
-	VMOVUPD Y14, 512(DX)
-	VMOVUPD 544(DX), Y14
-	VSUBPD Y7, Y14, Y14
-	VMOVUPD Y14, 544(DX)
-	VMOVUPD 576(DX), Y14
-	VSUBPD Y8, Y14, Y14
-	VMOVUPD Y14, 576(DX)
+	ADDQ $320, DX
+	ADDQ $320, R8
+	DECQ BX
+	JNZ pass
 	VZEROUPPER
 	RET
 
@@ -200,33 +174,13 @@ TEXT ·attractRowAVX2(SB), NOSPLIT, $0-64
 	XORQ AX, AX
 
 attract:
-	VMOVDQU (DI)(AX*4), X6
-	VPADDD X6, X6, X6          // 2j
-	VPCMPEQD Y7, Y7, Y7        // gather every lane
-	VGATHERDPD Y7, (SI)(X6*8), Y8
-	VPCMPEQD Y7, Y7, Y7
-	VGATHERDPD Y7, 8(SI)(X6*8), Y9
-	VCVTPS2PD (R8)(AX*4), Y10  // v
-	VSUBPD Y8, Y0, Y8          // dx
-	VSUBPD Y9, Y1, Y9          // dy
-	VMULPD Y8, Y8, Y11
-	VFMADD231PD Y9, Y9, Y11
-	VADDPD Y5, Y11, Y11        // 1 + dx² + dy²
-	VDIVPD Y11, Y10, Y12       // v·w
-	VFMADD231PD Y12, Y8, Y2
-	VFMADD231PD Y12, Y9, Y3
+	ATTRACT4
 	ADDQ $4, AX
 	CMPQ AX, CX
 	JLT attract
 
-	VEXTRACTF128 $1, Y2, X6
-	VADDPD X6, X2, X2
-	VHADDPD X2, X2, X2
-	MOVSD X2, fx+48(FP)
-	VEXTRACTF128 $1, Y3, X7
-	VADDPD X7, X3, X3
-	VHADDPD X3, X3, X3
-	MOVSD X3, fy+56(FP)
+	HSUM(Y2, X2, X6, fx+48(FP))
+	HSUM(Y3, X3, X7, fy+56(FP))
 	VZEROUPPER
 	RET
 
@@ -317,21 +271,7 @@ TEXT ·attractRowLogAVX2(SB), NOSPLIT, $0-72
 	XORQ AX, AX
 
 attractlog:
-	VMOVDQU (DI)(AX*4), X6
-	VPADDD X6, X6, X6
-	VPCMPEQD Y7, Y7, Y7
-	VGATHERDPD Y7, (SI)(X6*8), Y8
-	VPCMPEQD Y7, Y7, Y7
-	VGATHERDPD Y7, 8(SI)(X6*8), Y9
-	VCVTPS2PD (R8)(AX*4), Y10  // v
-	VSUBPD Y8, Y0, Y8          // dx
-	VSUBPD Y9, Y1, Y9          // dy
-	VMULPD Y8, Y8, Y11
-	VFMADD231PD Y9, Y9, Y11
-	VADDPD Y5, Y11, Y11        // q = 1 + dx² + dy²
-	VDIVPD Y11, Y10, Y12       // v·w
-	VFMADD231PD Y12, Y8, Y2
-	VFMADD231PD Y12, Y9, Y3
+	ATTRACT4 // leaves q = 1 + dx² + dy² in Y11
 
 	// e and m: the exponent field, read as a double through 2^52, less
 	// 2^52 + 1023; the mantissa with the exponent of 1.
@@ -366,17 +306,8 @@ attractlog:
 	CMPQ AX, CX
 	JLT attractlog
 
-	VEXTRACTF128 $1, Y2, X6
-	VADDPD X6, X2, X2
-	VHADDPD X2, X2, X2
-	MOVSD X2, fx+48(FP)
-	VEXTRACTF128 $1, Y3, X7
-	VADDPD X7, X3, X3
-	VHADDPD X3, X3, X3
-	MOVSD X3, fy+56(FP)
-	VEXTRACTF128 $1, Y4, X8
-	VADDPD X8, X4, X4
-	VHADDPD X4, X4, X4
-	MOVSD X4, ls+64(FP)
+	HSUM(Y2, X2, X6, fx+48(FP))
+	HSUM(Y3, X3, X7, fy+56(FP))
+	HSUM(Y4, X4, X8, ls+64(FP))
 	VZEROUPPER
 	RET

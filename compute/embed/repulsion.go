@@ -141,7 +141,7 @@ type fftRepulsion struct {
 	// Near-field blocks for blockH: for each cell offset o ∈ [−1,1]², source
 	// node s of cell c + o, target node t of cell c and kernel k,
 	// nearKernel[(o·cellNodes+s)·blockRows + 3t+k] = (K_x, K_y, K_w)_k(node_t − node_s − o·h),
-	// column-major blocks of blockRows rows (the last one zero).
+	// column-major blocks of blockRows rows (those past 3·cellNodes zero).
 	blockH     float64
 	nearKernel []float64
 
