@@ -101,15 +101,14 @@ func checkAffinity(p *sparse.CSR, n, threads int) (*affinities, error) {
 //
 //	dst_i = Σ_j p_ij w_ij (y_i − y_j),   w_ij = 1 / (1 + |y_i − y_j|²),
 //
-// over the stored entries of P (read through p, in the layout's numbering),
-// one block of points per thread. When logs is
+// over the stored entries of P, one block of rows per thread. When logs is
 // not nil it also stores in logs[block] the block's Σ p_ij log(1 + |y_i − y_j|²)
 // (that is −Σ p_ij log w_ij), and when plogp is not nil as well the block's
 // Σ p_ij log p_ij, for the KL divergence. It returns false when stop reported
 // true part-way.
-func attract(dst, y []float64, p *rows, logs, plogp []float64, threads int, stop func() bool) bool {
+func attract(dst, y []float64, p *sparse.CSR, logs, plogp []float64, threads int, stop func() bool) bool {
 	var stopped atomic.Bool
-	parallel.For(p.p.Rows, threads, func(lo, hi, block int) {
+	parallel.For(p.Rows, threads, func(lo, hi, block int) {
 		var ls, pl float64
 		for i := lo; i < hi; i++ {
 			if (i-lo)%stopEvery == stopEvery-1 && stop() {
@@ -118,7 +117,8 @@ func attract(dst, y []float64, p *rows, logs, plogp []float64, threads int, stop
 			}
 			xi, yi := y[2*i], y[2*i+1]
 			var fx, fy float64
-			cols, vals := p.row(i)
+			start, end := p.RowPtr[i], p.RowPtr[i+1]
+			cols, vals := p.ColIdx[start:end], p.Val[start:end]
 			if logs == nil {
 				fx, fy = attractRow(xi, yi, y, cols, vals)
 			} else {
@@ -216,7 +216,7 @@ func KL(p *sparse.CSR, layout []float32, threads int) (float64, error) {
 	rep := make([]float64, len(y))
 	z := ExactRepulsion(rep, y, threads)
 	logs, plogp := make([]float64, threads), make([]float64, threads)
-	attract(rep, y, plainRows(p), logs, plogp, threads, func() bool { return false })
+	attract(rep, y, p, logs, plogp, threads, func() bool { return false })
 	a.setEntropy(plogp)
 	var ls float64
 	for _, v := range logs {

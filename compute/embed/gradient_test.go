@@ -43,7 +43,7 @@ func smallCase(t *testing.T, n int, seed uint64) (*sparse.CSR, []float64) {
 func gradient(p *sparse.CSR, y []float64, rho float64) []float64 {
 	a, _ := checkAffinity(p, len(y)/2, 1)
 	attr, rep := make([]float64, len(y)), make([]float64, len(y))
-	attract(attr, y, plainRows(p), nil, nil, 1, never)
+	attract(attr, y, p, nil, nil, 1, never)
 	z := ExactRepulsion(rep, y, 1)
 	g := make([]float64, len(y))
 	for k := range g {
@@ -60,7 +60,7 @@ func objective(p *sparse.CSR, y []float64, rho float64) float64 {
 	rep := make([]float64, len(y))
 	z := ExactRepulsion(rep, y, 1)
 	logs, plogp := make([]float64, 1), make([]float64, 1)
-	attract(rep, y, plainRows(p), logs, plogp, 1, never)
+	attract(rep, y, p, logs, plogp, 1, never)
 	a.setEntropy(plogp)
 	kl := a.entropy + logs[0]/a.sum + math.Log(z)
 	return rho*kl + (1-rho)*math.Log(z)

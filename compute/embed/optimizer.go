@@ -47,7 +47,6 @@ type optimizer struct {
 	attr    []float64 // attractive sums
 	rep     []float64 // repulsive sums
 	fft     *fftRepulsion
-	rows    *rows        // P in the layout's numbering (see relabel)
 	logs    []float64    // per block: Σ p log(1 + d²)
 	plogp   []float64    // per block: Σ p log p, computed with the first KL
 	sums    [][4]float64 // per block scratch
@@ -72,11 +71,6 @@ func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
 	}
 	for i := range o.gains {
 		o.gains[i] = 1
-	}
-	if n >= relabelAbove {
-		o.rows = relabel(a.CSR, y, p.Threads)
-	} else {
-		o.rows = plainRows(a.CSR)
 	}
 	if n >= exactBelow {
 		o.fft = newFFTRepulsion(p.Threads)
@@ -139,17 +133,11 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 	return o.layout(), nil
 }
 
-// layout returns a float32 copy of the current layout, in P's numbering.
+// layout returns a float32 copy of the current layout.
 func (o *optimizer) layout() []float32 {
 	out := make([]float32, len(o.y))
-	if o.rows.rowOf == nil {
-		for i, v := range o.y {
-			out[i] = float32(v)
-		}
-		return out
-	}
-	for k, i := range o.rows.rowOf {
-		out[2*i], out[2*i+1] = float32(o.y[2*k]), float32(o.y[2*k+1])
+	for i, v := range o.y {
+		out[i] = float32(v)
 	}
 	return out
 }
@@ -169,7 +157,7 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	if wantKL && !o.a.known {
 		plogp = o.plogp
 	}
-	if !attract(o.attr, o.y, o.rows, logs, plogp, threads, stop) {
+	if !attract(o.attr, o.y, o.a.CSR, logs, plogp, threads, stop) {
 		return 0, false
 	}
 	if plogp != nil {

@@ -24,13 +24,7 @@ func mixtureAffinity(t *testing.T, n int) *sparse.CSR {
 // thread count give the same bytes, on both the exact (small) and the
 // interpolated repulsion (common practice for reproducible results).
 func TestRunDeterministic(t *testing.T) {
-	for _, n := range []int{400, 2500, -2500} {
-		if n < 0 { // the path of large layouts, renumbered along a curve
-			n = -n
-			saved := relabelAbove
-			relabelAbove = 0
-			defer func() { relabelAbove = saved }()
-		}
+	for _, n := range []int{400, 2500} {
 		P := mixtureAffinity(t, n)
 		p := DefaultParams()
 		p.Iterations, p.EarlyIterations, p.Threads, p.Seed = 300, 100, 2, 7
@@ -53,19 +47,8 @@ func TestRunDeterministic(t *testing.T) {
 // TestSnapshots checks the publishing contract: the first snapshot after the
 // first iteration, then at most one per SnapshotEvery, the last with Done,
 // each layout a copy of its own, and a KL estimate that agrees with the exact
-// KL of the layout it describes. It runs on both paths: small layouts in
-// P's numbering, and large ones renumbered along a curve (whose snapshots
-// must still come in P's numbering).
+// KL of the layout it describes.
 func TestSnapshots(t *testing.T) {
-	for _, from := range []int{relabelAbove, 0} {
-		saved := relabelAbove
-		relabelAbove = from
-		testSnapshots(t)
-		relabelAbove = saved
-	}
-}
-
-func testSnapshots(t *testing.T) {
 	P := mixtureAffinity(t, 3000)
 	p := DefaultParams()
 	p.Iterations, p.SnapshotEvery = 400, 20*time.Millisecond
