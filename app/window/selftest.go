@@ -268,38 +268,39 @@ func MapColours(img image.Image, r image.Rectangle) (colours int, inked float64)
 // selfTestTour goes on to the markers of the first state and a short
 // sweep, saving a screenshot of each (for the README).
 func (u *ui) selfTestTour(v *atlasView) {
-	m := v.markers
+	m, s := v.markers, v.sweep
+	sweep := func() {
+		v.tabs.SelectIndex(3)
+		s.values.SetText("1, 4, 30, inf")
+		v.iterations.SetText("250")
+		s.onDone = func() {
+			s.onDone = nil
+			u.selfTestShotLater("sweep.png", u.selfTestPass)
+		}
+		v.toggleSweep()
+	}
 	v.tabs.SelectIndex(2)
 	m.source.SetSelected("state")
 	m.onDone = func() {
 		m.onDone = nil
-		time.AfterFunc(300*time.Millisecond, func() {
-			fyne.Do(func() {
-				if err := u.selfTestShot("markers.png"); err != nil {
-					u.selfTestFail(err)
-					return
-				}
-				s := v.sweep
-				v.tabs.SelectIndex(3)
-				s.values.SetText("1, 4, 30, inf")
-				v.iterations.SetText("250")
-				s.onDone = func() {
-					s.onDone = nil
-					time.AfterFunc(300*time.Millisecond, func() {
-						fyne.Do(func() {
-							if err := u.selfTestShot("sweep.png"); err != nil {
-								u.selfTestFail(err)
-								return
-							}
-							u.selfTestPass()
-						})
-					})
-				}
-				v.toggleSweep()
-			})
-		})
+		u.selfTestShotLater("markers.png", sweep)
 	}
 	v.rankMarkers()
+}
+
+// selfTestShotLater waits for the window to draw what was just done, saves a
+// screenshot and goes on with next, on the UI goroutine; a failed save fails
+// the self-test.
+func (u *ui) selfTestShotLater(name string, next func()) {
+	time.AfterFunc(300*time.Millisecond, func() {
+		fyne.Do(func() {
+			if err := u.selfTestShot(name); err != nil {
+				u.selfTestFail(err)
+				return
+			}
+			next()
+		})
+	})
 }
 
 // selfTestShot saves a screenshot of the window only.

@@ -3,10 +3,9 @@ package affinity
 import (
 	"context"
 	"sync"
-	"syscall"
 	"testing"
-	"time"
 
+	"lodestone/compute/cputime"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/synth"
 )
@@ -17,17 +16,6 @@ var graph70k struct {
 	once sync.Once
 	g    *neighbors.Graph
 	err  error
-}
-
-// cpuTime returns the processor time this process has used, so benchmarks can
-// report it beside the wall time (on a shared machine the wall time also
-// counts other processes' turns).
-func cpuTime() time.Duration {
-	var ru syscall.Rusage
-	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
-		return 0
-	}
-	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
 }
 
 func setup70k(b *testing.B) *neighbors.Graph {
@@ -47,24 +35,24 @@ func setup70k(b *testing.B) *neighbors.Graph {
 func BenchmarkAffinity70k(b *testing.B) {
 	g := setup70k(b)
 	b.ResetTimer()
-	start := cpuTime()
+	start := cputime.Used()
 	for i := 0; i < b.N; i++ {
 		if _, err := Perplexity(context.Background(), g, 30, 0); err != nil {
 			b.Fatal(err)
 		}
 	}
-	b.ReportMetric(float64((cpuTime()-start).Milliseconds())/float64(b.N), "cpu-ms/op")
+	cputime.Report(b, start)
 }
 
 // BenchmarkUniform70k times uniform 15-NN affinities of 70k points.
 func BenchmarkUniform70k(b *testing.B) {
 	g := setup70k(b)
 	b.ResetTimer()
-	start := cpuTime()
+	start := cputime.Used()
 	for i := 0; i < b.N; i++ {
 		if _, err := Uniform(g, 15); err != nil {
 			b.Fatal(err)
 		}
 	}
-	b.ReportMetric(float64((cpuTime()-start).Milliseconds())/float64(b.N), "cpu-ms/op")
+	cputime.Report(b, start)
 }

@@ -11,6 +11,7 @@ import (
 
 	"lodestone/compute/affinity"
 	"lodestone/compute/atlas"
+	"lodestone/compute/cputime"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/sparse"
 	"lodestone/compute/synth"
@@ -26,22 +27,6 @@ var case70k struct {
 	p      *sparse.CSR
 	layout []float32
 	err    error
-}
-
-// cpuTime returns the processor time this process has used, so benchmarks can
-// report it beside the wall time (on a shared machine the wall time also
-// counts other processes' turns).
-func cpuTime() time.Duration {
-	var ru syscall.Rusage
-	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
-		return 0
-	}
-	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
-}
-
-// reportCPU reports the processor time per operation since start.
-func reportCPU(b *testing.B, start time.Duration) {
-	b.ReportMetric(float64((cpuTime()-start).Microseconds())/1000/float64(b.N), "cpu-ms/op")
 }
 
 func setup70k(b *testing.B) (*sparse.CSR, []float32) {
@@ -91,11 +76,11 @@ func BenchmarkIteration70k(b *testing.B) {
 	o.iterate(1, lateMomentum, float64(o.n), false, never)
 	b.ReportAllocs()
 	b.ResetTimer()
-	start := cpuTime()
+	start := cputime.Used()
 	for i := 0; i < b.N; i++ {
 		o.iterate(1, lateMomentum, float64(o.n), false, never)
 	}
-	reportCPU(b, start)
+	cputime.Report(b, start)
 }
 
 // BenchmarkRun70k times a fresh default run: 750 iterations (250 with early
@@ -104,13 +89,13 @@ func BenchmarkRun70k(b *testing.B) {
 	P, _ := setup70k(b)
 	init, _ := InitPCA(case70k.x)
 	b.ResetTimer()
-	start := cpuTime()
+	start := cputime.Used()
 	for i := 0; i < b.N; i++ {
 		if _, err := Run(context.Background(), P, init, DefaultParams(), nil); err != nil {
 			b.Fatal(err)
 		}
 	}
-	reportCPU(b, start)
+	cputime.Report(b, start)
 }
 
 // BenchmarkWarmRerun70k turns the dial from 1 to 4 on the finished map and
@@ -121,7 +106,7 @@ func BenchmarkWarmRerun70k(b *testing.B) {
 	P, layout := setup70k(b)
 	var first, settled, stopped time.Duration
 	b.ResetTimer()
-	start0 := cpuTime()
+	start0 := cputime.Used()
 	for i := 0; i < b.N; i++ {
 		ctx, cancel := context.WithCancel(context.Background())
 		start := time.Now()
@@ -149,14 +134,14 @@ func BenchmarkWarmRerun70k(b *testing.B) {
 	b.ReportMetric(float64(first.Milliseconds())/n, "first-ms")
 	b.ReportMetric(settled.Seconds()/n, "settled-s")
 	b.ReportMetric(float64(stopped.Microseconds())/1000/n, "cancel-ms")
-	reportCPU(b, start0)
+	cputime.Report(b, start0)
 }
 
 // BenchmarkSpectral70k times the Laplacian eigenmap of the 70k affinities.
 func BenchmarkSpectral70k(b *testing.B) {
 	P, _ := setup70k(b)
 	b.ResetTimer()
-	start := cpuTime()
+	start := cputime.Used()
 	var info *SpectralInfo
 	for i := 0; i < b.N; i++ {
 		var err error
@@ -164,7 +149,7 @@ func BenchmarkSpectral70k(b *testing.B) {
 			b.Fatal(err)
 		}
 	}
-	reportCPU(b, start)
+	cputime.Report(b, start)
 	b.ReportMetric(float64(info.Products), "products")
 	if !info.Converged {
 		b.Logf("not converged: residual %.3g", info.Residual)
@@ -182,11 +167,11 @@ func BenchmarkRepulsion(b *testing.B) {
 			box := bbox(y)
 			r.compute(dst, y, box, never)
 			b.ResetTimer()
-			start := cpuTime()
+			start := cputime.Used()
 			for i := 0; i < b.N; i++ {
 				r.compute(dst, y, box, never)
 			}
-			reportCPU(b, start)
+			cputime.Report(b, start)
 		})
 	}
 }

@@ -4,7 +4,6 @@ import (
 	"bufio"
 	"encoding/binary"
 	"fmt"
-	"lodestone/compute/pyref"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -13,6 +12,7 @@ import (
 	"strings"
 	"testing"
 
+	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
 )
 
