@@ -360,7 +360,7 @@ done
 [ -n "$display" ] || fail "could not start Xvfb on a free display: $(cat "$T/xvfb.log")"
 say "running the installed program's self-test on display $display (1 to 5 minutes)"
 mkdir -p "$T/home" "$T/config" "$T/cache" "$T/data"
-if ! env DISPLAY="$display" LANG=C.UTF-8 GSETTINGS_BACKEND=memory HOME="$T/home" XDG_CONFIG_HOME="$T/config" \
+if ! env DISPLAY="$display" LANG=C.UTF-8 LANGUAGE=en GSETTINGS_BACKEND=memory HOME="$T/home" XDG_CONFIG_HOME="$T/config" \
 	XDG_CACHE_HOME="$T/cache" XDG_DATA_HOME="$T/data" \
 	timeout 900 "$T/root/usr/bin/lodestone" --selftest-out "$T/shots" >"$T/selftest.log" 2>&1; then
 	tail -n 30 "$T/selftest.log" >&2

@@ -76,7 +76,7 @@ run)
 test)
 	install_pkgs $BUILD_PKGS $TEST_PKGS
 	ensure_go
-	export LANG=C.UTF-8 GSETTINGS_BACKEND=memory
+	export LANG=C.UTF-8 LANGUAGE=en GSETTINGS_BACKEND=memory
 	go vet ./...
 	go test -count=1 -timeout 30m ./...
 	# The engine ↔ window bridge and everything else that crosses goroutines.
