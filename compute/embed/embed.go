@@ -93,8 +93,10 @@ type Snapshot struct {
 	Iterations int       // iterations planned
 	// KL is the Kullback–Leibler divergence KL(P‖Q) of the layout, for P
 	// itself (not the exaggerated P), estimated from the interpolated Z at
-	// the start of an iteration at most 1 s before the snapshot (the
-	// last iteration's for the last snapshot). It is NaN until the first
+	// the start of an iteration; a new estimate is made at least 1 s and
+	// 10 iterations after the previous one, so the value can lag the
+	// layout by that much (the last snapshot carries the last
+	// iteration's). It is NaN until the first
 	// estimate (the first snapshot of a run is published as soon as
 	// possible, without one) and for the spectral layout.
 	KL         float64

@@ -150,12 +150,14 @@ func attract(dst, y []float64, p *sparse.CSR, logs, plogp []float64, threads int
 // P, for the point (xi, yi) of the interleaved layout y. With AVX2 the first
 // len(cols) &^ 3 entries go four at a time (each lane summed separately, the
 // lanes then added as (l0+l2)+(l1+l3)); the rest, and every entry elsewhere,
-// go one by one in order.
+// go one by one in order. The kernel also prefetches the layout entries of
+// the columns that follow within cap(cols): as a row of P, cols reaches on
+// into the next rows.
 func attractRow(xi, yi float64, y []float64, cols []int32, vals []float32) (fx, fy float64) {
 	m := 0
 	if haveAVX2 && len(cols) >= 4 {
 		m = len(cols) &^ 3
-		fx, fy = attractRowAVX2(xi, yi, &y[0], &cols[0], &vals[0], m)
+		fx, fy = attractRowAVX2(xi, yi, &y[0], &cols[0], &vals[0], m, cap(cols))
 	}
 	vals = vals[:len(cols)]
 	for k, j := range cols[m:] {
@@ -175,7 +177,7 @@ func attractRowLog(xi, yi float64, y []float64, cols []int32, vals []float32) (f
 	m := 0
 	if haveAVX2 && len(cols) >= 4 {
 		m = len(cols) &^ 3
-		fx, fy, ls = attractRowLogAVX2(xi, yi, &y[0], &cols[0], &vals[0], m)
+		fx, fy, ls = attractRowLogAVX2(xi, yi, &y[0], &cols[0], &vals[0], m, cap(cols))
 	}
 	vals = vals[:len(cols)]
 	for k, j := range cols[m:] {

@@ -23,8 +23,14 @@ const stepCap = 0.5
 // iterations while momentum builds up.
 const settleAfter = 30
 
-// klEvery is the least time between two KL estimates of the snapshots.
-const klEvery = time.Second
+// klEvery is the least time between two KL estimates of the snapshots, and
+// klEveryIterations the least number of iterations: where an iteration
+// takes most of a second (a million points), the estimate's logarithms
+// would otherwise be paid every other iteration.
+const (
+	klEvery           = time.Second
+	klEveryIterations = 10
+)
 
 // Gains and momentum (van der Maaten & Hinton 2008; common practice for the
 // values).
@@ -96,6 +102,7 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 		}
 	}
 	var lastPublish, lastKL time.Time
+	lastKLAt := 0
 	kl := math.NaN()
 	total := o.p.Iterations
 	for t := 0; t < total; t++ {
@@ -113,16 +120,16 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 		last := t == total-1
 		snap := publish != nil && (t == 0 || last || time.Since(lastPublish) >= o.p.SnapshotEvery)
 		// The first snapshot goes out as early as possible, without the KL
-		// estimate's logarithms; later ones carry an estimate at most
-		// klEvery old, since the logarithms cost several times as much as
-		// the rest of the attractive pass.
-		withKL := snap && t > 0 && (last || time.Since(lastKL) >= klEvery)
+		// estimate's logarithms; later ones carry an estimate at least
+		// klEvery and klEveryIterations old, since the logarithms cost
+		// several times as much as the rest of the attractive pass.
+		withKL := snap && t > 0 && (last || time.Since(lastKL) >= klEvery && t-lastKLAt >= klEveryIterations)
 		k, ok := o.iterate(rho, momentum, eta, withKL, stop)
 		if !ok {
 			return o.layout(), ctx.Err()
 		}
 		if withKL {
-			kl, lastKL = k, time.Now()
+			kl, lastKL, lastKLAt = k, time.Now(), t
 		}
 		if snap {
 			publish(Snapshot{Layout: o.layout(), Iteration: t + 1, Iterations: total, KL: kl,

@@ -18,13 +18,15 @@ func subBlockAVX2(v, m, q *float64, n int)
 
 // attractRowAVX2 is attractRow for the first n entries, n a positive
 // multiple of 4. Every column index must be in range: the kernel gathers
-// without bounds checks.
+// without bounds checks. The ahead ≥ n entries from cols must be readable:
+// the kernel reads columns up to 36 places beyond the one it sums, there
+// and in the rows that follow, to prefetch their layout entries.
 //
 //go:noescape
-func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy float64)
+func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy float64)
 
 // attractRowLogAVX2 is attractRowLog for the first n entries, n a positive
-// multiple of 4, with the same condition on the columns.
+// multiple of 4, with the same conditions on the columns and ahead.
 //
 //go:noescape
-func attractRowLogAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy, ls float64)
+func attractRowLogAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy, ls float64)

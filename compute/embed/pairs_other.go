@@ -13,10 +13,10 @@ func subBlockAVX2(v, m, q *float64, n int) {
 	panic("embed: no AVX2 kernel on this architecture")
 }
 
-func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy float64) {
+func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy float64) {
 	panic("embed: no AVX2 kernel on this architecture")
 }
 
-func attractRowLogAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n int) (fx, fy, ls float64) {
+func attractRowLogAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy, ls float64) {
 	panic("embed: no AVX2 kernel on this architecture")
 }
