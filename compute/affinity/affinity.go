@@ -293,16 +293,19 @@ func symmetrize(ctx context.Context, n, k int, cols []int32, vals []float32, thr
 	for i := 0; i < n; i++ {
 		extraPtr[i+1] = extraPtr[i] + int64(extra[i])
 	}
-	// Extra entries of row j: the entry numbers e of i→j, sorted by e (that
-	// is by i) once placed, so the result does not depend on scheduling.
-	extraEntry := make([]int64, extraPtr[n])
+	// Extra entries of row j: the rows i that name j where j does not name
+	// i, sorted once placed, so the result does not depend on scheduling.
+	// (Row numbers rather than entry numbers: half the memory, at a million
+	// points 290 MB less at the peak of the whole run; the entry is found
+	// again by binary search.)
+	extraFrom := make([]int32, extraPtr[n])
 	fill := make([]int32, n) // next free slot per row, as an offset
 	err = parallel.ForChunks(ctx, n, chunkRows, threads, func(lo, hi, _ int) {
 		for e := lo * k; e < hi*k; e++ {
 			if rev[e] == noReverse {
 				j := cols[e]
 				slot := atomic.AddInt32(&fill[j], 1) - 1
-				extraEntry[extraPtr[j]+int64(slot)] = int64(e)
+				extraFrom[extraPtr[j]+int64(slot)] = int32(e / k)
 			}
 		}
 	})
@@ -319,14 +322,14 @@ func symmetrize(ctx context.Context, n, k int, cols []int32, vals []float32, thr
 	scale := 1 / (2 * float64(n))
 	err = parallel.ForChunks(ctx, n, chunkRows, threads, func(lo, hi, _ int) {
 		for i := lo; i < hi; i++ {
-			ext := extraEntry[extraPtr[i]:extraPtr[i+1]]
+			ext := extraFrom[extraPtr[i]:extraPtr[i+1]]
 			slices.Sort(ext)
 			own := cols[i*k : (i+1)*k]
 			out := p.ColIdx[p.RowPtr[i]:p.RowPtr[i+1]]
 			outVal := p.Val[p.RowPtr[i]:p.RowPtr[i+1]]
 			a, b := 0, 0
 			for o := range out {
-				if b == len(ext) || (a < len(own) && int64(own[a]) < ext[b]/int64(k)) {
+				if b == len(ext) || (a < len(own) && own[a] < ext[b]) {
 					j, e := own[a], i*k+a
 					v := float64(vals[e])
 					if r := rev[e]; r != noReverse {
@@ -335,8 +338,9 @@ func symmetrize(ctx context.Context, n, k int, cols []int32, vals []float32, thr
 					out[o], outVal[o] = j, float32(v*scale)
 					a++
 				} else {
-					e := ext[b]
-					out[o], outVal[o] = int32(e/int64(k)), float32(float64(vals[e])*scale)
+					from := int(ext[b])
+					r, _ := slices.BinarySearch(cols[from*k:(from+1)*k], int32(i))
+					out[o], outVal[o] = int32(from), float32(float64(vals[from*k+r])*scale)
 					b++
 				}
 			}
