@@ -120,9 +120,10 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 		last := t == total-1
 		snap := publish != nil && (t == 0 || last || time.Since(lastPublish) >= o.p.SnapshotEvery)
 		// The first snapshot goes out as early as possible, without the KL
-		// estimate's logarithms; later ones carry an estimate at least
-		// klEvery and klEveryIterations old, since the logarithms cost
-		// several times as much as the rest of the attractive pass.
+		// estimate's logarithms; later ones carry the latest estimate, and
+		// a new one is made at least klEvery and klEveryIterations after
+		// the previous, since the logarithms cost several times as much as
+		// the rest of the attractive pass.
 		withKL := snap && t > 0 && (last || time.Since(lastKL) >= klEvery && t-lastKLAt >= klEveryIterations)
 		k, ok := o.iterate(rho, momentum, eta, withKL, stop)
 		if !ok {

@@ -19,8 +19,9 @@ func subBlockAVX2(v, m, q *float64, n int)
 // attractRowAVX2 is attractRow for the first n entries, n a positive
 // multiple of 4. Every column index must be in range: the kernel gathers
 // without bounds checks. The ahead ≥ n entries from cols must be readable:
-// the kernel reads columns up to 36 places beyond the one it sums, there
-// and in the rows that follow, to prefetch their layout entries.
+// to prefetch their layout entries, the kernel reads the columns up to 35
+// places past the entry it sums (into the rows that follow), but none at
+// or past ahead.
 //
 //go:noescape
 func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy float64)
