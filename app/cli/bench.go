@@ -213,12 +213,14 @@ func benchEmbed(ctx context.Context, w io.Writer, sizes []int, iterations, threa
 		var layout []float32
 		var affTime, runTime time.Duration
 		kl := math.NaN()
+		runtime.GC() // between the stages, as pipeline.Graph does
 		peak, err := peakHeap(func() error {
 			start := time.Now()
 			P, err := affinity.Perplexity(ctx, g, 30, threads)
 			if err != nil {
 				return err
 			}
+			runtime.GC()
 			affTime = time.Since(start)
 			init, err := embed.InitPCA(d.x)
 			if err != nil {

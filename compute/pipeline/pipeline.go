@@ -11,6 +11,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"runtime"
 
 	"lodestone/compute/affinity"
 	"lodestone/compute/atlas"
@@ -197,6 +198,11 @@ func Graph(ctx context.Context, out *Prepared, report func(stage string, done, t
 		return fmt.Errorf("nearest neighbours: %w", err)
 	}
 	out.Graph = g
+	// At a million cells the search leaves gigabytes of candidate lists
+	// and trees behind, and the affinities allocate as much again: collect
+	// the garbage between the stages, so that the peak of the process stays
+	// near what is live instead of depending on when the collector last ran.
+	runtime.GC()
 
 	report(StageAffinities, 0, 1)
 	if s.Uniform {
@@ -212,6 +218,7 @@ func Graph(ctx context.Context, out *Prepared, report func(stage string, done, t
 	if err != nil {
 		return fmt.Errorf("affinities: %w", err)
 	}
+	runtime.GC() // the affinities' temporaries, before the layout's arrays
 	report(StageAffinities, 1, 1)
 
 	report(StageInit, 0, 1)
@@ -294,6 +301,7 @@ func Reaffine(ctx context.Context, p *Prepared, perp float64) (*neighbors.Graph,
 		if err != nil {
 			return nil, nil, 0, fmt.Errorf("nearest neighbours: %w", err)
 		}
+		runtime.GC() // the search's garbage, as in Graph
 	}
 	perp = math.Min(perp, float64(g.K)/3)
 	P, err := affinity.Perplexity(ctx, g, perp, p.Settings.Threads)
