@@ -30,6 +30,22 @@
 	VFMADD231PD Y12, Y8, Y2; \
 	VFMADD231PD Y12, Y9, Y3
 
+// ATTRACT_ARGS loads the arguments the attraction kernels share: the point
+// in Y0 and Y1, the layout in SI, the columns in DI, the values in R8, the
+// count in CX, the last place PREFETCH4 may read in R12, and clears the sums
+// Y2 and Y3.
+#define ATTRACT_ARGS \
+	VBROADCASTSD xi+0(FP), Y0; \
+	VBROADCASTSD yi+8(FP), Y1; \
+	MOVQ y+16(FP), SI; \
+	MOVQ cols+24(FP), DI; \
+	MOVQ vals+32(FP), R8; \
+	MOVQ n+40(FP), CX; \
+	MOVQ ahead+48(FP), R12; \
+	SUBQ $4, R12; \
+	VXORPD Y2, Y2, Y2; \
+	VXORPD Y3, Y3, Y3
+
 // PREFETCH4 asks for the layout entries of the four columns 32 places after
 // entry AX, or of the last four that may be read (R12 = ahead − 4) when
 // those lie beyond. At a million points the layout outgrows the
@@ -187,16 +203,7 @@ column:
 // Each step first prefetches the layout entries of later columns
 // (PREFETCH4), reading no further than the ahead columns from cols.
 TEXT ·attractRowAVX2(SB), NOSPLIT, $0-72
-	VBROADCASTSD xi+0(FP), Y0
-	VBROADCASTSD yi+8(FP), Y1
-	MOVQ y+16(FP), SI
-	MOVQ cols+24(FP), DI
-	MOVQ vals+32(FP), R8
-	MOVQ n+40(FP), CX
-	MOVQ ahead+48(FP), R12
-	SUBQ $4, R12
-	VXORPD Y2, Y2, Y2 // Σ v·w·dx
-	VXORPD Y3, Y3, Y3 // Σ v·w·dy
+	ATTRACT_ARGS
 	VBROADCASTSD one<>(SB), Y5
 	XORQ AX, AX
 
@@ -286,16 +293,7 @@ GLOBL inv13<>(SB), RODATA|NOPTR, $32
 // series 2s(1 + s²/3 + s⁴/5 + … + s¹²/13), whose truncation error is below
 // 1e-12 relative.
 TEXT ·attractRowLogAVX2(SB), NOSPLIT, $0-80
-	VBROADCASTSD xi+0(FP), Y0
-	VBROADCASTSD yi+8(FP), Y1
-	MOVQ y+16(FP), SI
-	MOVQ cols+24(FP), DI
-	MOVQ vals+32(FP), R8
-	MOVQ n+40(FP), CX
-	MOVQ ahead+48(FP), R12
-	SUBQ $4, R12
-	VXORPD Y2, Y2, Y2 // Σ v·w·dx
-	VXORPD Y3, Y3, Y3 // Σ v·w·dy
+	ATTRACT_ARGS
 	VXORPD Y4, Y4, Y4 // Σ v·log q
 	VBROADCASTSD one<>(SB), Y5
 	XORQ AX, AX

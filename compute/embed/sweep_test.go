@@ -197,7 +197,7 @@ func TestAttractionSweep(t *testing.T) {
 		// keeps growing), and the loss that settles is KL(P‖Q), which tends
 		// to a limit as the map grows.
 		// Both KL values exactly, from the layouts (a snapshot's estimate
-		// may be up to a second old).
+		// can lag its layout by a second or 10 iterations).
 		kl0, kl1 := objective(P, y0, 1), objective(P, y1, 1)
 		if (rho < 1 && math.Abs(kl1-kl0) > 0.01*kl1) || (rho >= 1 && math.Abs(c1-c0) > 0.01*math.Abs(c1)) {
 			t.Errorf("ρ = %g: the loss has not settled over the last %d iterations: KL %.5f → %.5f, C_ρ %.5f → %.5f",

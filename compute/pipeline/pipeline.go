@@ -308,6 +308,7 @@ func Reaffine(ctx context.Context, p *Prepared, perp float64) (*neighbors.Graph,
 	if err != nil {
 		return nil, nil, 0, fmt.Errorf("affinities: %w", err)
 	}
+	runtime.GC() // the affinities' temporaries, as in Graph
 	return g, P, perp, nil
 }
 
