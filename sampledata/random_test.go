@@ -2,7 +2,7 @@ package sampledata
 
 import (
 	"fmt"
-	"lodestone/compute/pyref"
+	"lodestone/internal/pyref"
 	"math"
 	"testing"
 )

@@ -11,10 +11,10 @@ import (
 
 	"lodestone/app/live"
 	"lodestone/app/session"
-	"lodestone/compute/atomicfile"
 	"lodestone/compute/embed"
 	"lodestone/compute/ingest"
 	"lodestone/compute/pipeline"
+	"lodestone/internal/atomicfile"
 	"lodestone/sampledata"
 )
 

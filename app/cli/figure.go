@@ -13,7 +13,7 @@ import (
 	"lodestone/canvas/figure"
 	"lodestone/canvas/raster"
 	"lodestone/compute/atlas"
-	"lodestone/compute/atomicfile"
+	"lodestone/internal/atomicfile"
 )
 
 func init() {

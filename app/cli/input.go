@@ -10,10 +10,10 @@ import (
 	"strings"
 
 	"lodestone/compute/atlas"
-	"lodestone/compute/atomicfile"
 	"lodestone/compute/ingest"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/pipeline"
+	"lodestone/internal/atomicfile"
 	"lodestone/sampledata"
 )
 

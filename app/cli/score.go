@@ -6,10 +6,10 @@ import (
 	"strconv"
 
 	"lodestone/compute/atlas"
-	"lodestone/compute/atomicfile"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/pipeline"
 	"lodestone/compute/quality"
+	"lodestone/internal/atomicfile"
 )
 
 func init() {

@@ -14,7 +14,7 @@ import (
 	"os"
 	"strings"
 
-	"lodestone/compute/atomicfile"
+	"lodestone/internal/atomicfile"
 )
 
 // manifest is the JSON document at manifest.json.

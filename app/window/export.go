@@ -17,7 +17,7 @@ import (
 	"lodestone/app/paint"
 	"lodestone/app/tables"
 	"lodestone/canvas/figure"
-	"lodestone/compute/atomicfile"
+	"lodestone/internal/atomicfile"
 )
 
 // presetLabels names the figure presets for people.

@@ -19,9 +19,9 @@ import (
 	"lodestone/app/tables"
 	"lodestone/canvas/figure"
 	"lodestone/compute/atlas"
-	"lodestone/compute/atomicfile"
 	"lodestone/compute/markers"
 	"lodestone/compute/pipeline"
+	"lodestone/internal/atomicfile"
 )
 
 // markerColumns are the columns of the markers table.

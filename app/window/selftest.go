@@ -17,7 +17,7 @@ import (
 
 	"lodestone/app/live"
 	lcanvas "lodestone/canvas"
-	"lodestone/compute/atomicfile"
+	"lodestone/internal/atomicfile"
 )
 
 // The self-test opens the example atlas, waits for the first run to end,

@@ -16,8 +16,8 @@ import (
 
 	"lodestone/compute/atlas"
 	"lodestone/compute/neighbors"
-	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
+	"lodestone/internal/pyref"
 )
 
 // testGraph returns the exact k-nearest-neighbour graph (neighbors.Exact) of

@@ -5,9 +5,9 @@ import (
 	"sync"
 	"testing"
 
-	"lodestone/compute/cputime"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/synth"
+	"lodestone/internal/cputime"
 )
 
 // graph70k is the approximate 90-nearest-neighbour graph (neighbors.Find) of

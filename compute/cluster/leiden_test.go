@@ -9,8 +9,8 @@ import (
 	"testing"
 	"time"
 
-	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
+	"lodestone/internal/pyref"
 )
 
 // leidenChecked runs Leiden and checks what holds for every result: one label

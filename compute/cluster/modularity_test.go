@@ -6,8 +6,8 @@ import (
 	"math/rand/v2"
 	"testing"
 
-	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
+	"lodestone/internal/pyref"
 )
 
 // modularityByDefinition evaluates

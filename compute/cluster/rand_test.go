@@ -6,7 +6,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
-	"lodestone/compute/pyref"
+	"lodestone/internal/pyref"
 )
 
 // sklearnARI computes sklearn.metrics.adjusted_rand_score for each pair.

@@ -11,10 +11,10 @@ import (
 
 	"lodestone/compute/affinity"
 	"lodestone/compute/atlas"
-	"lodestone/compute/cputime"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/sparse"
 	"lodestone/compute/synth"
+	"lodestone/internal/cputime"
 )
 
 // The 70k benchmark case: 70,000 points of a 50-D Gaussian mixture with 20

@@ -14,7 +14,7 @@ import (
 	"testing"
 
 	"lodestone/compute/atlas"
-	"lodestone/compute/pyref"
+	"lodestone/internal/pyref"
 )
 
 // loadDigits returns scikit-learn's copy of the optical digits data

@@ -13,8 +13,8 @@ import (
 
 	"lodestone/compute/affinity"
 	"lodestone/compute/atlas"
-	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
+	"lodestone/internal/pyref"
 )
 
 // smallCase returns the perplexity-5 affinities of n random points in 5-D

@@ -1,6 +1,6 @@
 package embed
 
-import "lodestone/compute/cpufeat"
+import "lodestone/internal/cpufeat"
 
 // haveAVX2 reports whether pairSums may use its AVX2 kernel. Tests clear it
 // to run the portable code.

@@ -9,7 +9,7 @@ import (
 	"testing"
 
 	"lodestone/compute/atlas"
-	"lodestone/compute/pyref"
+	"lodestone/internal/pyref"
 )
 
 // TestInitPCAAgainstSklearn compares InitPCA on the digits data with

@@ -14,8 +14,8 @@ import (
 
 	"lodestone/compute/affinity"
 	"lodestone/compute/atlas"
-	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
+	"lodestone/internal/pyref"
 )
 
 // rectangleAffinity returns the uniform 15-NN affinities of n random points

@@ -12,8 +12,8 @@ import (
 	"strings"
 	"testing"
 
-	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
+	"lodestone/internal/pyref"
 )
 
 // needScipy skips the test when scipy cannot be imported.

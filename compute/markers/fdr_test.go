@@ -6,7 +6,7 @@ import (
 	"slices"
 	"testing"
 
-	"lodestone/compute/pyref"
+	"lodestone/internal/pyref"
 )
 
 // stepUp is the procedure as Benjamini & Hochberg (1995) state it: with the

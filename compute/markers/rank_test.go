@@ -9,8 +9,8 @@ import (
 	"slices"
 	"testing"
 
-	"lodestone/compute/pyref"
 	"lodestone/compute/sparse"
+	"lodestone/internal/pyref"
 )
 
 // scipyRankSum runs scipy.stats.mannwhitneyu(x, y, use_continuity=c,

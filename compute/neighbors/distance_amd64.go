@@ -1,6 +1,6 @@
 package neighbors
 
-import "lodestone/compute/cpufeat"
+import "lodestone/internal/cpufeat"
 
 // haveAVX2 reports whether the processor and the operating system support
 // the AVX2 and FMA instructions of the assembly kernels. Tests clear it to

@@ -2,7 +2,7 @@ package neighbors
 
 import (
 	"context"
-	"lodestone/compute/pyref"
+	"lodestone/internal/pyref"
 	"os"
 	"path/filepath"
 	"strconv"

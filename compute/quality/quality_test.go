@@ -3,7 +3,7 @@ package quality
 import (
 	"context"
 	"errors"
-	"lodestone/compute/pyref"
+	"lodestone/internal/pyref"
 	"math"
 	"math/rand/v2"
 	"os"
