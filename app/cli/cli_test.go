@@ -129,10 +129,10 @@ func TestScoreAndCluster(t *testing.T) {
 		t.Fatalf("score: status %d: %s", code, errs)
 	}
 	lines := strings.Split(strings.TrimSpace(out), "\n")
-	if len(lines) != 3 {
+	if len(lines) != 4 {
 		t.Fatalf("score printed %q", out)
 	}
-	for i, name := range []string{"knn_preservation", "trustworthiness", "label_accuracy"} {
+	for i, name := range []string{"knn_preservation", "trustworthiness", "label_accuracy", "distance_correlation"} {
 		f := strings.Fields(lines[i])
 		v, err := strconv.ParseFloat(f[1], 64)
 		if f[0] != name || err != nil || v < 0 || v > 1 {

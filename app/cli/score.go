@@ -3,18 +3,15 @@ package cli
 import (
 	"fmt"
 	"io"
-	"strconv"
 
 	"lodestone/compute/atlas"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/pipeline"
 	"lodestone/compute/quality"
-	"lodestone/internal/atomicfile"
 )
 
 func init() {
-	register("score", "print the fidelity scores of a map (kNN preservation, trustworthiness, label accuracy)", runScore)
-	register("cluster", "find Leiden clusters on the neighbour graph and write them as CSV", runCluster)
+	register("score", "print the fidelity scores of a map (kNN preservation, trustworthiness, label accuracy, distance correlation)", runScore)
 }
 
 func runScore(args []string, stdout, stderr io.Writer) error {
@@ -25,8 +22,7 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 	pf.register(fs)
 	layoutPath := fs.String("layout", "", "the map to score: CSV with header id,x,y")
 	label := fs.String("label", "", "a categorical annotation column: also score how well the map's neighbours predict it")
-	k := fs.Int("k", 15, "neighbours compared")
-	sampleSize := fs.Int("sample", 5000, "cells the scores are computed on (a seeded random sample)")
+	fo := fidelityFlags(fs)
 	quiet := fs.Bool("quiet", true, "print no progress")
 	if err := fs.parse(args); err != nil {
 		return err
@@ -34,8 +30,8 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 	if *layoutPath == "" {
 		return usagef("--layout is required")
 	}
-	if *k < 1 || *k > neighbors.MaxK || *sampleSize < 2 {
-		return usagef("--k must be 1 … %d and --sample at least 2", neighbors.MaxK)
+	if err := fo.check(); err != nil {
+		return err
 	}
 	ctx, stop := interruptible()
 	defer stop()
@@ -65,25 +61,45 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 		}
 		labels = c.Codes
 	}
-	sample := quality.Sample(p.Cells(), *sampleSize, pf.seed)
-	kept, err := quality.KNNPreservation(ctx, p.Features, layout, *k, sample, pf.threads)
+	scores, err := quality.Fidelity(ctx, p.Features, layout, fo.options(pf.seed, pf.threads, labels))
 	if err != nil {
 		return err
 	}
-	trust, err := quality.Trustworthiness(p.Features, layout, *k, sample)
-	if err != nil {
-		return err
-	}
-	fmt.Fprintf(stdout, "knn_preservation %.6f\n", kept)
-	fmt.Fprintf(stdout, "trustworthiness %.6f\n", trust)
+	fmt.Fprintf(stdout, "knn_preservation %.6f\n", scores.KNN)
+	fmt.Fprintf(stdout, "trustworthiness %.6f\n", scores.Trust)
 	if labels != nil {
-		acc, err := quality.LabelAccuracy(layout, labels, *k, sample)
-		if err != nil {
-			return err
-		}
-		fmt.Fprintf(stdout, "label_accuracy %.6f\n", acc)
+		fmt.Fprintf(stdout, "label_accuracy %.6f\n", scores.Labels)
+	}
+	fmt.Fprintf(stdout, "distance_correlation %.6f\n", scores.DCor)
+	return nil
+}
+
+// fidelityOpts holds the flags that set how maps are scored, shared by the
+// commands that score (score, sweep).
+type fidelityOpts struct {
+	k, sample *int
+}
+
+// fidelityFlags registers --k and --sample with the defaults of
+// quality.Fidelity (the window's).
+func fidelityFlags(fs *flags) fidelityOpts {
+	return fidelityOpts{
+		k:      fs.Int("k", quality.DefaultFidelityK, "neighbours compared by the fidelity scores"),
+		sample: fs.Int("sample", quality.DefaultFidelitySample, "cells the fidelity scores are computed on (a random sample drawn with --seed)"),
+	}
+}
+
+func (f fidelityOpts) check() error {
+	if *f.k < 1 || *f.k > neighbors.MaxK || *f.sample < 2*(*f.k)+1 {
+		return usagef("--k must be 1 … %d and --sample more than twice --k", neighbors.MaxK)
 	}
 	return nil
+}
+
+// options returns the options of quality.Fidelity: the sample drawn with the
+// atlas's seed, as the window draws it.
+func (f fidelityOpts) options(seed int64, threads int, labels []int32) quality.FidelityOptions {
+	return quality.FidelityOptions{Sample: *f.sample, Seed: seed, K: *f.k, Threads: threads, Labels: labels}
 }
 
 func column(cols []atlas.Column, name string) *atlas.Column {
@@ -110,67 +126,3 @@ func stageReporter(b *bar) func(stage string, done, total int64) {
 	}
 }
 
-func runCluster(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("cluster", "--in PATH [--resolution 1] [--k 15] --out clusters.csv [flags]", stderr)
-	var in inputFlags
-	var pf prepFlags
-	in.register(fs)
-	pf.register(fs)
-	out := fs.String("out", "", "CSV file to write, with header id,cluster")
-	resolution := fs.Float64("resolution", 1, "resolution γ of the modularity: larger values give more, smaller clusters")
-	k := fs.Int("k", 15, "neighbours of each cell in the graph that is clustered")
-	quiet := fs.Bool("quiet", false, "print no progress")
-	if err := fs.parse(args); err != nil {
-		return err
-	}
-	if *out == "" {
-		return usagef("--out is required")
-	}
-	if *resolution <= 0 || *k < 1 || *k > neighbors.MaxK {
-		return usagef("--resolution must be positive and --k 1 … %d", neighbors.MaxK)
-	}
-	ctx, stop := interruptible()
-	defer stop()
-	b := newBar(stderr, *quiet)
-	defer b.finish()
-	s, err := pf.settings()
-	if err != nil {
-		return err
-	}
-	d, err := in.load(ctx, b)
-	if err != nil {
-		return err
-	}
-	p, err := pipeline.Features(ctx, d, s, stageReporter(b))
-	if err != nil {
-		return err
-	}
-	labels, q, err := pipeline.Clusters(ctx, p, *k, *resolution, func(done, total int64) { b.report("clusters", done, total) })
-	if err != nil {
-		return err
-	}
-	b.finish()
-	if err := atomicfile.Write(*out, func(w io.Writer) error {
-		if _, err := io.WriteString(w, "id,cluster\n"); err != nil {
-			return err
-		}
-		for i, id := range p.CellIDs {
-			line := appendCSVField(nil, id)
-			line = append(line, ',')
-			line = strconv.AppendInt(line, int64(labels[i])+1, 10)
-			line = append(line, '\n')
-			if _, err := w.Write(line); err != nil {
-				return err
-			}
-		}
-		return nil
-	}); err != nil {
-		return err
-	}
-	n := 0
-	for _, l := range labels {
-		n = max(n, int(l)+1)
-	}
-	fmt.Fprintf(stdout, "%d clusters, modularity %.4f, written to %s\n", n, q, *out)
-	return nil
-}

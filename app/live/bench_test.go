@@ -104,21 +104,17 @@ func BenchmarkDialTurn70k(b *testing.B) {
 
 // BenchmarkSweep70k runs the window's default sweep on a finished 70k map:
 // attractions 1, 2, 4, 10, 30 and ∞, 500 iterations each, every map scored
-// as the Sweep tab scores it (kNN preservation and trustworthiness of 15
-// neighbours on 2,000 sampled cells), and reports the seconds per sweep.
+// as the Sweep tab scores it (quality.Fidelity at its defaults), and reports
+// the seconds per sweep.
 func BenchmarkSweep70k(b *testing.B) {
 	opt, layout := setupDial70k(b)
 	ctx := context.Background()
 	values := []float64{1, 2, 4, 10, 30, math.Inf(1)}
 	history := []Step{{Kind: Fresh, Attraction: 1, Iterations: embed.DefaultIterations, Done: embed.DefaultIterations, Setting: 30}}
-	sample := quality.Sample(dial70k.x.Rows, 2000, 7)
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		err := Sweep(ctx, opt, layout, history, values, 500, 30, nil, func(m SweepMap) error {
-			if _, err := quality.KNNPreservation(ctx, dial70k.x, m.Layout, 15, sample, 0); err != nil {
-				return err
-			}
-			_, err := quality.Trustworthiness(dial70k.x, m.Layout, 15, sample)
+			_, err := quality.Fidelity(ctx, dial70k.x, m.Layout, quality.FidelityOptions{Seed: 1})
 			return err
 		})
 		if err != nil {

@@ -92,13 +92,6 @@ func atlasSummary(name string, d *atlas.Dataset, v *atlasView) string {
 	return b.String()
 }
 
-// fidelitySample is the number of cells the fidelity scores are computed on.
-const fidelitySample = 2000
-
-// fidelityK is the neighbourhood the fidelity scores look at (common
-// practice for graphs of single-cell data).
-const fidelityK = 15
-
 // scoreFidelity computes the fidelity of the map on screen in the
 // background and shows it in the status line.
 func (v *atlasView) scoreFidelity() {
@@ -109,15 +102,11 @@ func (v *atlasView) scoreFidelity() {
 	v.fidelityCancel = cancel
 	layout := v.shown
 	high := v.prep.Features
-	threads := v.prep.Settings.Threads
+	fo := quality.FidelityOptions{Seed: v.prep.Settings.Seed, Threads: v.prep.Settings.Threads}
 	v.fidelity.SetText("fidelity: scoring…")
 	go func() {
-		sample := quality.Sample(high.Rows, fidelitySample, 7)
-		kept, err := quality.KNNPreservation(ctx, high, layout, fidelityK, sample, threads)
-		var trust float64
-		if err == nil {
-			trust, err = quality.Trustworthiness(high, layout, fidelityK, sample)
-		}
+		f, err := quality.Fidelity(ctx, high, layout, fo)
+		kept, trust := f.KNN, f.Trust
 		fyne.Do(func() {
 			if ctx.Err() != nil {
 				return

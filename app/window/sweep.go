@@ -141,27 +141,19 @@ func (v *atlasView) toggleSweep() {
 	iters := v.iterationsPerTurn()
 	setting := v.perp
 	features := v.prep.Features
-	threads := v.prep.Settings.Threads
+	fo := quality.FidelityOptions{Seed: v.prep.Settings.Seed, Threads: v.prep.Settings.Threads, Labels: labels}
 	start := time.Now()
 	go func() {
-		sample := quality.Sample(features.Rows, fidelitySample, 7)
 		before := func(k int) {
 			s.progress(v, fmt.Sprintf("sweep: map %d of %d (attraction %s)…", k+1, len(values), lcanvas.FormatAttraction(values[k])))
 		}
 		err := live.Sweep(ctx, opt, base, history, values, iters, setting, before, func(m live.SweepMap) error {
 			r := sweepResult{attraction: m.Attraction, layout: m.Layout, history: m.History, accuracy: math.NaN()}
-			var err error
-			if r.kept, err = quality.KNNPreservation(ctx, features, m.Layout, fidelityK, sample, threads); err != nil {
+			f, err := quality.Fidelity(ctx, features, m.Layout, fo)
+			if err != nil {
 				return err
 			}
-			if r.trust, err = quality.Trustworthiness(features, m.Layout, fidelityK, sample); err != nil {
-				return err
-			}
-			if labels != nil {
-				if r.accuracy, err = quality.LabelAccuracy(m.Layout, labels, fidelityK, sample); err != nil {
-					return err
-				}
-			}
+			r.kept, r.trust, r.accuracy = f.KNN, f.Trust, f.Labels
 			fyne.Do(func() { v.addSweepResult(r) })
 			return nil
 		})

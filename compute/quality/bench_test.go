@@ -35,7 +35,7 @@ func BenchmarkTrustworthiness70k(b *testing.B) {
 	xy, s := benchInputs(b)
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		if _, err := Trustworthiness(x, xy, 15, s); err != nil {
+		if _, err := Trustworthiness(context.Background(), x, xy, 15, s, 0); err != nil {
 			b.Fatal(err)
 		}
 	}
@@ -61,6 +61,20 @@ func BenchmarkDistanceCorrelation70k(b *testing.B) {
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		if _, err := DistanceCorrelation(xy, other, s); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkFidelity70k scores a map of 70,000 cells in 50 dimensions at the
+// defaults (a sample of DefaultFidelitySample cells, k = DefaultFidelityK):
+// what the window and the headless commands compute for each map.
+func BenchmarkFidelity70k(b *testing.B) {
+	x, _ := synth.GaussianMixture(70000, 50, 20, 1)
+	xy, _ := benchInputs(b)
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := Fidelity(context.Background(), x, xy, FidelityOptions{Seed: 1}); err != nil {
 			b.Fatal(err)
 		}
 	}

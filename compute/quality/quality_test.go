@@ -200,14 +200,14 @@ func TestTrustworthinessSklearn(t *testing.T) {
 	ref := runSklearn(t, sklearnTrust, append([]string{hp, lp, hs, ls}, args...)...)
 	full, part := ref[:len(ks)], ref[len(ks):]
 	for e, k := range ks {
-		got, err := Trustworthiness(x, xy, k, nil)
+		got, err := Trustworthiness(context.Background(), x, xy, k, nil, 2)
 		if err != nil {
 			t.Fatal(err)
 		}
 		if math.Abs(got-full[e]) > 1e-6 {
 			t.Errorf("k=%d, all points: %v, sklearn %v", k, got, full[e])
 		}
-		got, err = Trustworthiness(x, xy, k, sub)
+		got, err = Trustworthiness(context.Background(), x, xy, k, sub, 3)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -357,10 +357,10 @@ func TestErrors(t *testing.T) {
 	}
 	bad := slices.Clone(xy)
 	bad[2*17+1] = float32(math.NaN())
-	if _, err := Trustworthiness(x, bad, 5, nil); !errors.As(err, &ie) || ie.Row != 17 || !errors.Is(err, ErrNotFinite) {
+	if _, err := Trustworthiness(context.Background(), x, bad, 5, nil, 0); !errors.As(err, &ie) || ie.Row != 17 || !errors.Is(err, ErrNotFinite) {
 		t.Errorf("NaN in layout row 17: %v", err)
 	}
-	if _, err := Trustworthiness(x, xy, 25, nil); !errors.Is(err, ErrK) {
+	if _, err := Trustworthiness(context.Background(), x, xy, 25, nil, 0); !errors.Is(err, ErrK) {
 		t.Errorf("k = n/2: %v", err)
 	}
 	if _, err := KNNPreservation(ctx, x, xy, 5, []int{3, 3}, 0); !errors.As(err, &ie) || ie.Row != 1 || !errors.Is(err, ErrSample) {

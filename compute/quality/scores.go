@@ -95,7 +95,10 @@ func orAll(sample []int, n int) []int {
 // rows when no distances tie. Preconditions: 1 ≤ k < n/2 (the formula's
 // normalisation needs 2n − 3k − 1 > 0), sample distinct rows (nil means
 // all). A value of 1 means no map neighbour is a stranger in the data.
-func Trustworthiness(high *atlas.Dense, layout []float32, k int, sample []int) (float64, error) {
+// threads < 1 means all processors; the result does not depend on it. It
+// returns ctx.Err() when ctx is cancelled (checked before each sampled
+// cell).
+func Trustworthiness(ctx context.Context, high *atlas.Dense, layout []float32, k int, sample []int, threads int) (float64, error) {
 	if high == nil || len(high.Data) != high.Rows*high.Cols {
 		return 0, &InputError{Input: "high", Row: -1, Err: ErrShape}
 	}
@@ -124,7 +127,7 @@ func Trustworthiness(high *atlas.Dense, layout []float32, k int, sample []int) (
 		sub[2*r], sub[2*r+1] = layout[2*i], layout[2*i+1]
 	}
 	g := newGrid(sub, m)
-	threads := parallel.Threads(0)
+	threads = parallel.Threads(threads)
 	sums := make([]float64, threads)
 	// The sampled rows, gathered for the distance kernel.
 	dim := high.Cols
@@ -139,6 +142,9 @@ func Trustworthiness(high *atlas.Dense, layout []float32, k int, sample []int) (
 		before := make([]int, k+1)
 		var sum float64
 		for r := lo; r < hi; r++ {
+			if ctx.Err() != nil {
+				return
+			}
 			neighbors.SquaredDistances(d, rows[r*dim:(r+1)*dim], rows)
 			// The ranks in the data of i's map neighbours: sort their keys,
 			// then count, in one pass over the others, how many rank before
@@ -171,6 +177,9 @@ func Trustworthiness(high *atlas.Dense, layout []float32, k int, sample []int) (
 		}
 		sums[b] = sum
 	})
+	if err := ctx.Err(); err != nil {
+		return 0, err
+	}
 	total := 0.0
 	for _, s := range sums {
 		total += s
@@ -288,31 +297,75 @@ func DistanceCorrelation(a, b []float32, sample []int) (float64, error) {
 	if err := checkSample(sample, n, 2); err != nil {
 		return 0, err
 	}
-	m := len(sample)
-	// Row means of the two distance matrices, then the three sums.
-	rowA, rowB := make([]float64, m), make([]float64, m)
-	threads := parallel.Threads(0)
-	type sums struct{ ab, aa, bb, ra, rb float64 }
-	part := make([]sums, threads)
-	dist := func(x []float32, i, j int) float64 {
-		dx, dy := float64(x[2*i])-float64(x[2*j]), float64(x[2*i+1])-float64(x[2*j+1])
-		return math.Sqrt(dx*dx + dy*dy)
+	return distanceCorrelation(context.Background(), len(sample), 0, layoutRows(a, sample), layoutRows(b, sample))
+}
+
+// layoutRows returns a maker of row functions for distanceCorrelation: the
+// map distances from sampled row r to every sampled row.
+func layoutRows(xy []float32, sample []int) func() func(r int, dst []float64) {
+	return func() func(r int, dst []float64) {
+		return func(r int, dst []float64) {
+			i := sample[r]
+			xi, yi := float64(xy[2*i]), float64(xy[2*i+1])
+			for t, j := range sample {
+				dx, dy := xi-float64(xy[2*j]), yi-float64(xy[2*j+1])
+				dst[t] = math.Sqrt(dx*dx + dy*dy)
+			}
+		}
 	}
+}
+
+// denseRows returns a maker of row functions for distanceCorrelation: the
+// Euclidean distances in the data from sampled row r to every sampled row
+// (squares summed in float32 by neighbors.SquaredDistances, the root taken
+// in float64). rows holds the sampled rows, gathered, dim values each.
+func denseRows(rows []float32, dim int) func() func(r int, dst []float64) {
+	return func() func(r int, dst []float64) {
+		d := make([]float32, len(rows)/dim)
+		return func(r int, dst []float64) {
+			neighbors.SquaredDistances(d, rows[r*dim:(r+1)*dim], rows)
+			for t, v := range d {
+				dst[t] = math.Sqrt(float64(v))
+			}
+		}
+	}
+}
+
+// distanceCorrelation computes R(a, b) as DistanceCorrelation documents, for
+// m points whose distance matrices are given row by row: each block of rows
+// calls the makers once for row functions of its own (so that they may keep
+// scratch space), and a row function fills dst[t] with the distance between
+// points r and t. Per-block sums are added in block order, so the result is
+// the same for the same thread count. It returns ctx.Err() when cancelled.
+func distanceCorrelation(ctx context.Context, m, threads int, makeA, makeB func() func(r int, dst []float64)) (float64, error) {
+	rowA, rowB := make([]float64, m), make([]float64, m)
+	threads = parallel.Threads(threads)
+	type sums struct{ ab, aa, bb float64 }
+	part := make([]sums, threads)
 	parallel.For(m, threads, func(lo, hi, blk int) {
+		fa, fb := makeA(), makeB()
+		da, db := make([]float64, m), make([]float64, m)
 		var s sums
 		for r := lo; r < hi; r++ {
+			if ctx.Err() != nil {
+				return
+			}
+			fa(r, da)
+			fb(r, db)
 			var sa, sb float64
 			for t := 0; t < m; t++ {
-				da, db := dist(a, sample[r], sample[t]), dist(b, sample[r], sample[t])
-				sa, sb = sa+da, sb+db
-				s.ab += da * db
-				s.aa += da * da
-				s.bb += db * db
+				sa, sb = sa+da[t], sb+db[t]
+				s.ab += da[t] * db[t]
+				s.aa += da[t] * da[t]
+				s.bb += db[t] * db[t]
 			}
 			rowA[r], rowB[r] = sa/float64(m), sb/float64(m)
 		}
 		part[blk] = s
 	})
+	if err := ctx.Err(); err != nil {
+		return 0, err
+	}
 	var tot sums
 	for _, s := range part {
 		tot.ab, tot.aa, tot.bb = tot.ab+s.ab, tot.aa+s.aa, tot.bb+s.bb
