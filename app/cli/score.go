@@ -125,4 +125,3 @@ func stageReporter(b *bar) func(stage string, done, total int64) {
 		b.report(stage, done, total)
 	}
 }
-
