@@ -2,25 +2,20 @@ package cli
 
 import (
 	"context"
-	"fmt"
 	"io"
 	"math"
 	"os"
 	"os/signal"
-	"path/filepath"
 
 	"lodestone/app/live"
+	"lodestone/app/restore"
 	"lodestone/app/session"
 	"lodestone/compute/embed"
-	"lodestone/compute/ingest"
 	"lodestone/compute/pipeline"
-	"lodestone/internal/atomicfile"
-	"lodestone/sampledata"
 )
 
 func init() {
 	register("embed", "compute a map (t-SNE at an attraction, or the spectral layout) and write it as CSV", runEmbed)
-	register("example", "write the bundled, invented example atlas as Matrix Market, label and annotation files", runExample)
 }
 
 // interruptible returns a context cancelled by Ctrl-C.
@@ -82,7 +77,7 @@ func runEmbed(args []string, stdout, stderr io.Writer) error {
 	if math.IsInf(a, 1) {
 		b.report("spectral layout", 0, 1)
 		layout, err = opt.Spectral(ctx, init)
-		step = live.Step{Kind: live.Spectral, Attraction: a, Iterations: 15, Done: 15, Setting: p.Settings.Perplexity}
+		step = live.Step{Kind: live.Spectral, Attraction: a, Iterations: live.SpectralGlide, Done: live.SpectralGlide, Setting: p.Settings.Perplexity}
 	} else {
 		label := "t-SNE ρ=" + formatAttraction(a)
 		layout, err = opt.Run(ctx, init, a, *iterations, kind == live.Fresh, func(f live.Frame) {
@@ -99,83 +94,15 @@ func runEmbed(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if *sessionPath != "" {
-		s := &session.Session{
-			Program: "lodestone " + session.ProgramVersion, Settings: session.FromSettings(p.Settings),
-			CellIDs: p.CellIDs, Columns: session.FromColumns(p.Annotations),
-			Layout: layout, Initial: init, Attraction: session.Attraction(a),
-			History: session.FromSteps([]live.Step{step}),
-			Paint:   session.Paint{Source: "plain"}, PointSize: 0, Opacity: 0,
+		origin, err := in.origin(p)
+		if err != nil {
+			return err
 		}
-		if in.example {
-			def := sampledata.DefaultOptions()
-			s.Example = &session.Example{Cells: def.Cells, Genes: def.Genes, Seed: def.Seed}
-		} else {
-			abs, err := filepath.Abs(in.in)
-			if err != nil {
-				return err
-			}
-			s.OpenedPath = abs
-			for _, src := range p.Sources {
-				h, err := session.HashFile(src)
-				if err != nil {
-					return err
-				}
-				s.Inputs = append(s.Inputs, h)
-			}
-		}
+		s := restore.Capture(restore.Map{Prepared: p, Origin: origin, Initial: init, Layout: layout, Attraction: a,
+			History: []live.Step{step}})
 		if err := session.Write(*sessionPath, s); err != nil {
 			return err
 		}
 	}
-	return nil
-}
-
-func runExample(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("example", "--out DIR [--cells N] [--genes N] [--seed S]", stderr)
-	out := fs.String("out", "", "folder to write into (created when missing)")
-	def := sampledata.DefaultOptions()
-	cells := fs.Int("cells", def.Cells, "number of cells")
-	genes := fs.Int("genes", def.Genes, "number of genes")
-	seed := fs.Int64("seed", def.Seed, "seed of the generator")
-	quiet := fs.Bool("quiet", false, "print no progress")
-	if err := fs.parse(args); err != nil {
-		return err
-	}
-	if *out == "" {
-		return usagef("--out is required")
-	}
-	if err := os.MkdirAll(*out, 0o755); err != nil {
-		return usageError{err}
-	}
-	ctx, stop := interruptible()
-	defer stop()
-	b := newBar(stderr, *quiet)
-	defer b.finish()
-	opt := def
-	opt.Cells, opt.Genes, opt.Seed = *cells, *genes, *seed
-	opt.Progress = func(done, total int64) { b.report("generating", done, total) }
-	d, _, err := sampledata.Generate(ctx, opt)
-	if err != nil {
-		return usageError{err}
-	}
-	files := []struct {
-		name  string
-		write func(io.Writer) error
-	}{
-		{"counts.mtx", func(w io.Writer) error { return ingest.WriteMatrixMarket(w, d.Counts) }},
-		{"cells.tsv", func(w io.Writer) error { return ingest.WriteLabels(w, d.CellIDs, nil) }},
-		{"genes.tsv", func(w io.Writer) error { return ingest.WriteLabels(w, d.GeneIDs, d.GeneSymbols) }},
-		{"annotations.tsv", func(w io.Writer) error { return ingest.WriteAnnotations(w, d.CellIDs, d.Annotations) }},
-	}
-	for i, f := range files {
-		b.report("writing", int64(i), int64(len(files)))
-		if err := atomicfile.Write(filepath.Join(*out, f.name), f.write); err != nil {
-			return err
-		}
-	}
-	b.report("writing", 1, 1)
-	b.finish()
-	fmt.Fprintf(stdout, "wrote %d cells × %d genes to %s (counts.mtx, cells.tsv, genes.tsv, annotations.tsv)\n",
-		d.Cells(), d.Features(), *out)
 	return nil
 }

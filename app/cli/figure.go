@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"lodestone/app/paint"
+	"lodestone/app/restore"
 	"lodestone/app/session"
 	"lodestone/canvas/figure"
 	"lodestone/canvas/raster"
@@ -98,7 +99,7 @@ func runFigure(args []string, stdout, stderr io.Writer) error {
 // paint with an error telling so.
 func sessionPaint(s *session.Session, name string) (*paint.Paint, error) {
 	n := s.Cells()
-	cols := s.Annotations()
+	cols := restore.Annotations(s)
 	hidden := []bool(nil)
 	if name == "" {
 		switch s.Paint.Source {

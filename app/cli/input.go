@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 
+	"lodestone/app/restore"
 	"lodestone/compute/atlas"
 	"lodestone/compute/ingest"
 	"lodestone/compute/neighbors"
@@ -210,4 +211,19 @@ func readLayout(ctx context.Context, path string, ids []string) ([]float32, erro
 		return nil, usagef("%s: %d rows for %d cells", path, len(rowIDs), len(ids))
 	}
 	return out, nil
+}
+
+// origin says where the atlas the flags name came from, for a session: the
+// example with its options, or the path with the hashes of the files read
+// (p.Sources).
+func (f *inputFlags) origin(p *pipeline.Prepared) (restore.Origin, error) {
+	if f.example {
+		opt := sampledata.DefaultOptions()
+		return restore.Origin{Example: &opt}, nil
+	}
+	ins, err := restore.Hash(p.Sources)
+	if err != nil {
+		return restore.Origin{}, err
+	}
+	return restore.Origin{Path: f.in, Inputs: ins}, nil
 }

@@ -15,6 +15,8 @@ import (
 	"math"
 	"sync"
 	"time"
+
+	"lodestone/compute/embed"
 )
 
 // Frame is one published state of a run.
@@ -82,6 +84,17 @@ type Step struct {
 	// unit size (see Compact): a warm step that raised the attraction.
 	Compact bool `json:"compact"`
 }
+
+// Iteration counts of the runs the window starts; the headless commands
+// that reproduce its maps use the same.
+const (
+	// FreshIterations is the length of a run from the initial layout,
+	// early exaggeration included.
+	FreshIterations = embed.DefaultIterations
+	// WarmIterations is the length of a run after a turn of the dial, and
+	// of each map of a sweep.
+	WarmIterations = 500
+)
 
 // Compact returns y centred and scaled to a root-mean-square radius of 1.
 //
@@ -261,7 +274,7 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 	step := Step{Kind: Warm, Attraction: attraction, Iterations: iterations, Setting: e.setting}
 	switch {
 	case math.IsInf(attraction, 1):
-		step.Kind, step.Iterations = Spectral, spectralGlide
+		step.Kind, step.Iterations = Spectral, SpectralGlide
 	case fresh:
 		from = e.initial
 		step.Kind = Fresh
@@ -335,10 +348,10 @@ func (e *Engine) finish(gen uint64, err error) {
 // glideFrame returns frame s of the glide from from to target: a smoothstep
 // blend, and target itself at the last frame.
 func glideFrame(from, target []float32, s int) []float32 {
-	if s >= spectralGlide {
+	if s >= SpectralGlide {
 		return target
 	}
-	t := float32(s) / spectralGlide
+	t := float32(s) / SpectralGlide
 	t = t * t * (3 - 2*t) // smoothstep
 	frame := make([]float32, len(from))
 	for i := range frame {
@@ -347,9 +360,10 @@ func glideFrame(from, target []float32, s int) []float32 {
 	return frame
 }
 
-// spectralGlide is how many frames the move to the spectral layout takes, so
-// that the map glides there instead of jumping.
-const spectralGlide = 15
+// SpectralGlide is how many frames the move to the spectral layout takes, so
+// that the map glides there instead of jumping; a Spectral step that ran to
+// its end has Done = SpectralGlide.
+const SpectralGlide = 15
 
 func (e *Engine) toSpectral(ctx context.Context, opt Optimizer, gen uint64, from []float32) error {
 	target, err := opt.Spectral(ctx, from)
@@ -361,8 +375,8 @@ func (e *Engine) toSpectral(ctx context.Context, opt Optimizer, gen uint64, from
 	}
 	tick := time.NewTicker(time.Second / 30)
 	defer tick.Stop()
-	for s := 1; s <= spectralGlide; s++ {
-		e.publish(gen, Frame{Layout: glideFrame(from, target, s), Iteration: s, Iterations: spectralGlide, KL: math.NaN(), Settled: s == spectralGlide})
+	for s := 1; s <= SpectralGlide; s++ {
+		e.publish(gen, Frame{Layout: glideFrame(from, target, s), Iteration: s, Iterations: SpectralGlide, KL: math.NaN(), Settled: s == SpectralGlide})
 		select {
 		case <-ctx.Done():
 			return ctx.Err()

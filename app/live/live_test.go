@@ -175,7 +175,7 @@ func TestHistoryReplaysToTheLayoutOnScreen(t *testing.T) {
 	e.Wait()
 	want, _ := e.Latest()
 	h := e.History()
-	if len(h) != 4 || h[0].Kind != Fresh || h[0].Done != 7 || h[2].Kind != Spectral || h[2].Done != spectralGlide || h[3].Done != 4 {
+	if len(h) != 4 || h[0].Kind != Fresh || h[0].Done != 7 || h[2].Kind != Spectral || h[2].Done != SpectralGlide || h[3].Done != 4 {
 		t.Fatalf("history %+v", h)
 	}
 	if h[1].Done == 0 || h[1].Done >= 1_000_000 || h[1].Setting != 30 {

@@ -38,7 +38,7 @@ func Replay(ctx context.Context, initial []float32, steps []Step, optimizerFor f
 			if err != nil {
 				return nil, fmt.Errorf("step %d: %w", i+1, err)
 			}
-			layout = glideFrame(from, target, min(s.Done, spectralGlide))
+			layout = glideFrame(from, target, min(s.Done, SpectralGlide))
 		case s.Kind == Fresh || s.Kind == Warm:
 			if math.IsInf(s.Attraction, 0) || math.IsNaN(s.Attraction) {
 				return nil, fmt.Errorf("step %d: attraction %v for a %s run", i+1, s.Attraction, s.Kind)

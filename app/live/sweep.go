@@ -36,7 +36,7 @@ func Sweep(ctx context.Context, opt Optimizer, base []float32, history []Step, v
 		)
 		if math.IsInf(a, 1) {
 			layout, err = opt.Spectral(ctx, prev)
-			step = Step{Kind: Spectral, Attraction: a, Iterations: spectralGlide, Done: spectralGlide, Setting: setting}
+			step = Step{Kind: Spectral, Attraction: a, Iterations: SpectralGlide, Done: SpectralGlide, Setting: setting}
 		} else {
 			step = Step{Kind: Warm, Attraction: a, Iterations: iterations, Done: iterations, Setting: setting}
 			from := prev

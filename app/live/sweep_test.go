@@ -41,7 +41,7 @@ func TestSweepMapsReplay(t *testing.T) {
 			t.Fatalf("map %d: history %+v", k, m.History)
 		}
 		if math.IsInf(values[k], 1) {
-			if last.Kind != Spectral || last.Done != spectralGlide {
+			if last.Kind != Spectral || last.Done != SpectralGlide {
 				t.Fatalf("map %d: spectral step %+v", k, last)
 			}
 		} else if last.Kind != Warm || last.Done != 60 || last.Compact != wantCompact[k] {

@@ -19,10 +19,15 @@
 //	columns/K.f64       continuous column K: N little-endian float64 values (NaN missing)
 //	groups/K.u32        group K: its cells' indices, ascending little-endian uint32
 //
-// Opening a session shows the stored layout at once; recomputing it reruns
-// the preparation from the inputs and replays the history of runs, which
-// gives the same layout bit for bit for the same seed and thread count on
-// the same platform.
+// This package is the format only: the values a session holds, their
+// checks, and reading and writing them. Package restore builds sessions from
+// a map and brings them back: it reruns the preparation from the inputs and
+// replays the history of runs, which gives the same layout bit for bit for
+// the same seed and thread count on the same platform.
+//
+// Version 1 grows by additive fields only: a field added to the manifest
+// carries omitempty, and its zero value means what sessions written before
+// it meant.
 package session
 
 import (
@@ -255,4 +260,24 @@ func (s *Session) Validate() error {
 		return fmt.Errorf("%w: attraction is not a number", ErrCorrupt)
 	}
 	return nil
+}
+
+// Members lists the cells marked in a selection, ascending.
+func Members(cells []bool) []uint32 {
+	var out []uint32
+	for i, in := range cells {
+		if in {
+			out = append(out, uint32(i))
+		}
+	}
+	return out
+}
+
+// Mask returns the group's cells as one flag per cell of n.
+func (g *Group) Mask(n int) []bool {
+	out := make([]bool, n)
+	for _, m := range g.Members {
+		out[m] = true
+	}
+	return out
 }

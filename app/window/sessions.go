@@ -16,6 +16,7 @@ import (
 
 	"lodestone/app/live"
 	"lodestone/app/paint"
+	"lodestone/app/restore"
 	"lodestone/app/session"
 	"lodestone/canvas/raster"
 	"lodestone/compute/atlas"
@@ -30,23 +31,14 @@ func isSession(path string) bool {
 
 // toSession captures the view's state.
 func (v *atlasView) toSession() *session.Session {
-	p := v.prep
-	s := &session.Session{
-		Program:    "lodestone " + session.ProgramVersion,
-		Settings:   session.FromSettings(p.Settings),
-		CellIDs:    p.CellIDs,
-		Columns:    session.FromColumns(p.Annotations),
-		Initial:    v.engine.Initial(),
-		Attraction: session.Attraction(v.dial.Value),
-		History:    session.FromSteps(v.engine.History()),
-	}
-	s.Layout, _ = v.engine.Latest()
+	layout, _ := v.engine.Latest()
+	origin := restore.Origin{Path: v.src.path, Inputs: v.inputs}
 	if v.src.example {
-		s.Example = &session.Example{Cells: v.exampleOpts.Cells, Genes: v.exampleOpts.Genes, Seed: v.exampleOpts.Seed}
-	} else {
-		s.OpenedPath = v.src.path
-		s.Inputs = v.inputs
+		opts := v.exampleOpts
+		origin = restore.Origin{Example: &opts}
 	}
+	s := restore.Capture(restore.Map{Prepared: v.prep, Origin: origin, Initial: v.engine.Initial(), Layout: layout,
+		Attraction: v.dial.Value, History: v.engine.History()})
 	for _, g := range v.groups {
 		s.Groups = append(s.Groups, session.Group{Name: g.Name, Colour: session.Colour{R: g.Colour.R, G: g.Colour.G, B: g.Colour.B},
 			Members: session.Members(g.Cells)})
@@ -65,13 +57,9 @@ func (v *atlasView) toSession() *session.Session {
 func (v *atlasView) hashInputs() {
 	sources := v.data.Sources
 	go func() {
-		var ins []session.Input
-		for _, p := range sources {
-			in, err := session.HashFile(p)
-			if err != nil {
-				return
-			}
-			ins = append(ins, in)
+		ins, err := restore.Hash(sources)
+		if err != nil {
+			return
 		}
 		fyne.Do(func() { v.inputs = ins })
 	}()
@@ -150,12 +138,12 @@ func (u *ui) openSession(path string) {
 // (then the user chooses), prepares the atlas behind it.
 func (u *ui) showSession(path string, s *session.Session) {
 	src := source{path: s.OpenedPath, example: s.Example != nil}
-	set, err := s.Settings.Pipeline()
+	set, err := restore.Pipeline(s.Settings)
 	if err != nil {
 		u.showError("Could not open the session", err)
 		return
 	}
-	partial := &pipeline.Prepared{Settings: set, CellIDs: s.CellIDs, Annotations: s.Annotations(), Init: s.Initial}
+	partial := &pipeline.Prepared{Settings: set, CellIDs: s.CellIDs, Annotations: restore.Annotations(s), Init: s.Initial}
 	d := &atlas.Dataset{Name: filepath.Base(path), CellIDs: s.CellIDs}
 	if u.atlas != nil {
 		u.atlas.close()
@@ -192,7 +180,7 @@ func (u *ui) showSession(path string, s *session.Session) {
 
 // restore applies a session's layout, history, dial, groups, paint and view.
 func (v *atlasView) restore(s *session.Session) {
-	v.engine.SetLayout(s.Layout, s.Steps())
+	v.engine.SetLayout(s.Layout, restore.Steps(s))
 	v.dial.SetValue(float64(s.Attraction))
 	if n := len(s.History); n > 0 {
 		v.perp = s.History[n-1].Setting
@@ -246,19 +234,11 @@ func (v *atlasView) prepareBehind(s *session.Session) {
 		v.note(fmt.Sprintf("preparing the atlas behind the stored map: %s %.0f%%", stageLabel(stage), 100*float64(done)/math.Max(1, float64(total))))
 	})
 	go func() {
-		p, d, err := s.Prepare(ctx, relay.report)
-		var opt live.Optimizer
+		p, d, err := restore.Prepare(ctx, s, relay.report)
+		var opt *live.TSNE
 		setting := 0.0
 		if err == nil {
-			r := session.NewReplayer(p)
-			setting = p.Settings.Perplexity
-			opt, err = r.Optimizer(ctx, setting)
-			for _, st := range s.History {
-				if err == nil && st.Setting != setting {
-					setting = st.Setting
-					opt, err = r.Optimizer(ctx, setting)
-				}
-			}
+			opt, setting, err = restore.NewReplayer(p).Current(ctx, restore.Steps(s))
 		}
 		fyne.Do(func() {
 			if ctx.Err() != nil {
@@ -270,7 +250,7 @@ func (v *atlasView) prepareBehind(s *session.Session) {
 				return
 			}
 			v.data = d
-			v.attach(p, opt.(*live.TSNE), setting)
+			v.attach(p, opt, setting)
 			v.note("ready")
 		})
 	}()
@@ -318,14 +298,13 @@ func (v *atlasView) recompute() {
 	}
 	shown, _ := v.engine.Latest()
 	history := v.engine.History()
+	initial := v.engine.Initial()
 	v.engine.Stop()
 	p := v.prep
 	v.note("recomputing the map from its history…")
 	go func() {
 		start := time.Now()
-		r := session.NewReplayer(p)
-		ctx := context.Background()
-		layout, err := live.Replay(ctx, p.Init, history, func(setting float64) (live.Optimizer, error) { return r.Optimizer(ctx, setting) })
+		layout, err := restore.NewReplayer(p).Replay(context.Background(), initial, history)
 		fyne.Do(func() {
 			if err != nil {
 				v.u.showError("Could not recompute the map", err)
