@@ -171,10 +171,7 @@ func benchKNN(ctx context.Context, w io.Writer, sizes []int, threads int, seed i
 
 func benchPCA(ctx context.Context, w io.Writer, threads int, seed int64) error {
 	fmt.Fprintln(w, "PCA (100,000 cells × 2,000 genes, about 10^7 counts, log-normalised, 50 components)")
-	x, err := prep.RandomCounts(100_000, 2_000, 100, seed)
-	if err != nil {
-		return err
-	}
+	x := synth.Counts(100_000, 2_000, 100, seed)
 	norm, err := prep.Normalize(ctx, x, prep.DefaultTarget, threads, nil)
 	if err != nil {
 		return err

@@ -199,7 +199,7 @@ func TestRoundTrips(t *testing.T) {
 	for r := 0; r <= 255; r += 15 {
 		for g := 0; g <= 255; g += 15 {
 			for b := 0; b <= 255; b += 15 {
-				c := FromNRGBA(color.NRGBA{uint8(r), uint8(g), uint8(b), 255})
+				c := fromNRGBA(color.NRGBA{uint8(r), uint8(g), uint8(b), 255})
 				ok := c.OKLab()
 				back := ok.LCH().OKLab().SRGB()
 				if !near3(back.R, back.G, back.B, c.R, c.G, c.B, 1e-9) {
@@ -238,3 +238,10 @@ func near3(a, b, c, x, y, z, tol float64) bool {
 }
 
 func (c Lab) String() string { return fmt.Sprintf("(%.4f, %.4f, %.4f)", c.L, c.A, c.B) }
+
+// fromNRGBA returns the colour channels of c as SRGB, ignoring alpha:
+//
+//	R = c.R / 255, G = c.G / 255, B = c.B / 255
+func fromNRGBA(c color.NRGBA) SRGB {
+	return SRGB{float64(c.R) / 255, float64(c.G) / 255, float64(c.B) / 255}
+}

@@ -52,7 +52,7 @@ const (
 func TestCategoricalDistinct(t *testing.T) {
 	visions := append([]Deficiency{0}, deficiencies[:]...)
 	labs := func(c color.NRGBA) []Lab {
-		lin := FromNRGBA(c).Linear()
+		lin := fromNRGBA(c).Linear()
 		out := make([]Lab, len(visions))
 		for i, d := range visions {
 			out[i] = Simulate(lin, d).Lab()
@@ -124,7 +124,7 @@ func TestCategoricalInGamutAndBand(t *testing.T) {
 			t.Errorf("colour %d %v outside the design band", i, c)
 		}
 	}
-	if m := FromNRGBA(Missing); m.R != m.G || m.G != m.B {
+	if m := fromNRGBA(Missing); m.R != m.G || m.G != m.B {
 		t.Errorf("Missing %v is not neutral", Missing)
 	}
 }

@@ -79,7 +79,7 @@ func TestRampLightness(t *testing.T) {
 				t.Errorf("%s: lightness does not rise at step %d (%.5f after %.5f)", visionName(d), i, design, prevDesign)
 				break
 			}
-			table := Simulate(FromNRGBA(c).Linear(), d).OKLab().L
+			table := Simulate(fromNRGBA(c).Linear(), d).OKLab().L
 			if table < prevTable {
 				t.Errorf("%s: 8-bit lightness falls at step %d (%.5f after %.5f)", visionName(d), i, table, prevTable)
 				break

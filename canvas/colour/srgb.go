@@ -69,13 +69,6 @@ func (c SRGB) InGamut(tol float64) bool {
 	return in(c.R) && in(c.G) && in(c.B)
 }
 
-// FromNRGBA returns the colour channels of c as SRGB, ignoring alpha:
-//
-//	R = c.R / 255, G = c.G / 255, B = c.B / 255
-func FromNRGBA(c color.NRGBA) SRGB {
-	return SRGB{float64(c.R) / 255, float64(c.G) / 255, float64(c.B) / 255}
-}
-
 // NRGBA returns c rounded to 8 bits per channel, fully opaque. Channels
 // outside [0, 1] are clamped; NaN becomes 0.
 func (c SRGB) NRGBA() color.NRGBA {

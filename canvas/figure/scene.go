@@ -109,13 +109,6 @@ func spanCover(a, b float64, p int) float64 {
 	return math.Max(0, math.Min(b, float64(p+1))-math.Max(a, float64(p)))
 }
 
-// textBox returns the box of horizontal text drawn from x (its start) with
-// its baseline at y: the advance times the ascent plus descent.
-func (ts *typesetter) textBox(s string, size float64, bold bool, x, y float64) box {
-	asc, desc := ts.vmetrics(size, bold)
-	return box{x, y - asc, x + ts.advance(s, size, bold), y + desc}
-}
-
 // pngCanvas is the image a scene is drawn into.
 type pngCanvas struct {
 	img *image.RGBA

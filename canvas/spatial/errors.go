@@ -1,7 +1,7 @@
 // Package spatial answers geometric questions about the points of a map:
 // which point is nearest the pointer (Grid), which points a lasso encloses
-// (Inside), how a new lasso combines with the current selection (Combine),
-// and how a freehand path is thinned before use (Simplify).
+// (Inside), and how a new lasso combines with the current selection
+// (Combine).
 package spatial
 
 import (

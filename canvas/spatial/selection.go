@@ -1,7 +1,5 @@
 package spatial
 
-import "math"
-
 // Mode says how a new lasso combines with the current selection.
 type Mode int
 
@@ -39,38 +37,6 @@ func Combine(dst, current, lasso []bool, mode Mode) ([]bool, error) {
 			dst[i] = c && !l
 		case Intersect:
 			dst[i] = c && l
-		}
-	}
-	return dst, nil
-}
-
-// Simplify thins a freehand path (x₀, y₀, x₁, y₁, …) by dropping every
-// vertex closer than minDist to the last vertex kept, so that a lasso drawn
-// with the pointer keeps about one vertex per minDist of its length (one
-// pixel, say, in data units: 1/View.Scale). The first vertex is always kept.
-// It appends the kept vertices to dst[:0] and returns the result; dst may be
-// path itself. It returns an error when path has odd length or a non-finite
-// coordinate.
-func Simplify(dst, path []float64, minDist float64) ([]float64, error) {
-	if len(path)%2 != 0 {
-		return nil, &InputError{Arg: "path", Index: -1, Err: ErrOddLength}
-	}
-	for i, v := range path {
-		if !finite(v) {
-			return nil, &InputError{Arg: "path", Index: i, Err: ErrPolygon}
-		}
-	}
-	dst = dst[:0]
-	if len(path) == 0 {
-		return dst, nil
-	}
-	lx, ly := path[0], path[1]
-	dst = append(dst, lx, ly)
-	for k := 2; k+1 < len(path); k += 2 {
-		x, y := path[k], path[k+1]
-		if math.Hypot(x-lx, y-ly) >= minDist {
-			dst = append(dst, x, y)
-			lx, ly = x, y
 		}
 	}
 	return dst, nil

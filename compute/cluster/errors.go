@@ -15,15 +15,14 @@ var (
 	ErrNoEdges    = errors.New("graph has no edges")
 	ErrNeighbor   = errors.New("neighbour id out of range")
 	ErrK          = errors.New("neighbour count out of range")
-	ErrLabels     = errors.New("labels do not match the graph")
 	ErrOption     = errors.New("option out of range")
 )
 
 // GraphError reports a fault in an input graph and where it was found, in the
 // way encoding/csv's ParseError does for text.
 type GraphError struct {
-	What     string // the input: "graph", "neighbour graph" or "labels"
-	Node     int    // row of the matrix, point of the neighbour graph or index into the labels; -1 when the fault concerns the whole input
+	What     string // the input: "graph" or "neighbour graph"
+	Node     int    // row of the matrix or point of the neighbour graph; -1 when the fault concerns the whole input
 	Neighbor int    // column of the matrix or slot in the neighbour list; -1 when not applicable
 	Err      error  // the sentinel error, e.g. ErrAsymmetric
 }

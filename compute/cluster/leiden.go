@@ -1,7 +1,6 @@
 // Package cluster finds communities of cells in a neighbour graph with the
-// Leiden algorithm (Traag, Waltman & van Eck 2019), scores partitions by
-// modularity (Newman & Girvan 2004) and compares partitions with the adjusted
-// Rand index (Hubert & Arabie 1985).
+// Leiden algorithm (Traag, Waltman & van Eck 2019), maximising modularity
+// (Newman & Girvan 2004).
 package cluster
 
 import (
@@ -63,13 +62,18 @@ const (
 //	    aggregate: one node per refined sub-community; its starting
 //	        community is the unrefined community that holds it
 //
-// The quality maximised is the modularity Q with resolution γ (see
-// Modularity). Every community returned is connected. The algorithm is
+// The quality maximised is the modularity (Newman & Girvan 2004) with the
+// resolution γ of Reichardt & Bornholdt (2006),
+//
+//	Q = 1/(2m) Σ_ij [A_ij − γ k_i k_j / (2m)] δ(c_i, c_j),  k_i = Σ_j A_ij, 2m = Σ_i k_i,
+//
+// a diagonal entry A_ii entering both sums as stored. Every community returned is connected. The algorithm is
 // repeated from its own result until it leaves the partition unchanged or
 // opt.Iterations passes have run.
 //
 // a must be square, symmetric, with finite non-negative weights and at least
-// one non-zero (see Modularity for the errors otherwise). Leiden returns the
+// one non-zero; otherwise Leiden returns a *GraphError wrapping ErrNotSquare,
+// ErrMalformed, ErrWeight, ErrAsymmetric or ErrNoEdges. Leiden returns the
 // community of each node, numbered 0, 1, … by decreasing size (ties: the
 // community holding the smaller node id first), and the modularity of that
 // partition. The result depends only on a and opt. It returns ctx.Err() when

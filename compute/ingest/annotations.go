@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"sort"
 	"strconv"
 	"strings"
@@ -141,17 +140,6 @@ func ReadAnnotations(ctx context.Context, r io.Reader, name string, cellIDs []st
 		out[k] = cols[k].finish(names[k])
 	}
 	return out, rep, nil
-}
-
-// ReadAnnotationsFile opens the file at path and reads it with
-// ReadAnnotations, reporting bytes read of the file's size to p.
-func ReadAnnotationsFile(ctx context.Context, path string, cellIDs []string, p progress.Func) ([]atlas.Column, *atlas.JoinReport, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, nil, err
-	}
-	defer f.Close()
-	return ReadAnnotations(ctx, f, path, cellIDs, p)
 }
 
 // columnNames names empty columns "column N" (N counting the ID column as 1)

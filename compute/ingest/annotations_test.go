@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"fmt"
 	"math"
-	"path/filepath"
 	"reflect"
 	"sort"
 	"strings"
@@ -199,17 +198,5 @@ func TestNaturalLess(t *testing.T) {
 		if NaturalLess(a, a) {
 			t.Errorf("NaturalLess(%q, %q)", a, a)
 		}
-	}
-}
-
-func TestReadAnnotationsFile(t *testing.T) {
-	dir := writeFiles(t, map[string]string{"a.tsv": "cell\tk\nc2\tx\n"})
-	var done, total int64
-	cols, rep, err := ReadAnnotationsFile(bg, filepath.Join(dir, "a.tsv"), []string{"c1", "c2"}, func(d, t int64) { done, total = d, t })
-	if err != nil {
-		t.Fatal(err)
-	}
-	if rep.Matched != 1 || cols[0].Label(1) != "x" || done != 12 || total != 12 {
-		t.Errorf("report %+v, label %q, progress %d of %d", rep, cols[0].Label(1), done, total)
 	}
 }

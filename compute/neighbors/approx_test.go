@@ -53,7 +53,7 @@ func TestApproximateRecall(t *testing.T) {
 			for i := 0; i < g.N; i += 97 {
 				ids, ds := g.Neighbors(i)
 				for e, id := range ids {
-					want := sqDist(c.x.Row(i), c.x.Row(int(id)))
+					want := dist(c.x.Row(i), c.x.Row(int(id)))
 					if d := ds[e] * ds[e]; d < want*(1-1e-5) || d > want*(1+1e-5) {
 						t.Fatalf("%s point %d: distance to %d is %g, want %g", c.name, i, id, ds[e], want)
 					}

@@ -4,21 +4,9 @@ package neighbors
 // package. On amd64 processors with AVX2 and FMA they are computed by the
 // assembly kernels of distance_amd64.s, elsewhere by the portable loops
 // below. Either way every distance of a run comes from the same arithmetic,
-// so a distance is symmetric bit for bit (sqDist(a, b) == sqDist(b, a)) and
-// exactly zero between equal rows, which the tie rules rely on.
-
-// sqDist returns the squared Euclidean distance Σ_j (a_j − b_j)².
-// len(b) must be at least len(a).
-func sqDist(a, b []float32) float32 {
-	if len(a) == 0 {
-		return 0
-	}
-	b = b[:len(a)]
-	if haveAVX2 {
-		return sqDistAVX2(&a[0], &b[0], len(a))
-	}
-	return sqDistGo(a, b)
-}
+// so a distance is symmetric bit for bit (the distance from a to b equals the
+// distance from b to a) and exactly zero between equal rows, which the tie
+// rules rely on.
 
 // sqDistRows sets out[r] to the squared Euclidean distance between q and
 // row r of rows, a row-major block of len(out) rows of len(q) values.
@@ -70,7 +58,7 @@ const tileRows = 16
 // tile[16·j+r]), writes them to out (4×16, row by row) and sets bit r of
 // mask[i] when distance (i, r) ≤ thr[i]. Every distance is summed over j in
 // order, so it is symmetric and exactly zero between equal rows, but it may
-// differ in the last bits from sqDist of the same rows: a search must use
+// differ in the last bits from sqDistRows of the same rows: a search must use
 // one kernel throughout.
 func sqDistTile(q []float32, dim int, tile, thr, out []float32, mask *[4]uint32) {
 	q, tile, thr, out = q[:4*dim], tile[:tileRows*dim], thr[:4], out[:4*tileRows]

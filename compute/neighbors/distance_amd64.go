@@ -7,13 +7,8 @@ import "lodestone/internal/cpufeat"
 // run the portable kernels.
 var haveAVX2 = cpufeat.AVX2FMA
 
-// sqDistAVX2 returns Σ_{j<n} (a_j − b_j)² for n ≥ 1, in eight lanes.
-//
-//go:noescape
-func sqDistAVX2(a, b *float32, n int) float32
-
 // sqDistRowsAVX2 sets out[r] = Σ_{j<dim} (q_j − rows[r·dim+j])² for r < n,
-// dim ≥ 1, with the same arithmetic as sqDistAVX2.
+// dim ≥ 1, in eight lanes.
 //
 //go:noescape
 func sqDistRowsAVX2(q, rows *float32, dim int, out *float32, n int)

@@ -1,10 +1,11 @@
 #include "textflag.h"
 
-// Squared Euclidean distance kernels with AVX2 and FMA. Each distance keeps
-// one 8-lane accumulator, adds (a−b)² for full blocks of 8 values and then
-// for the last dim mod 8 values (masked loads), and reduces the lanes as
+// Squared Euclidean distance kernels with AVX2 and FMA. Each distance of the
+// row kernel keeps one 8-lane accumulator, adds (a−b)² for full blocks of 8
+// values and then for the last dim mod 8 values (masked loads), and reduces
+// the lanes as
 //	((l0+l1)+(l2+l3)) + ((l4+l5)+(l6+l7)),
-// the same in both kernels, so every distance of a run is computed alike.
+// so every distance of a run is computed alike.
 
 // tailmask<>: eight all-ones words then eight zero words; the 8 words from
 // offset 4·(8−m) select the first m lanes.
@@ -25,45 +26,6 @@ DATA tailmask<>+52(SB)/4, $0
 DATA tailmask<>+56(SB)/4, $0
 DATA tailmask<>+60(SB)/4, $0
 GLOBL tailmask<>(SB), RODATA|NOPTR, $64
-
-// func sqDistAVX2(a, b *float32, n int) float32
-TEXT ·sqDistAVX2(SB), NOSPLIT, $0-28
-	MOVQ a+0(FP), SI
-	MOVQ b+8(FP), DI
-	MOVQ n+16(FP), CX
-	VXORPS Y0, Y0, Y0
-
-sdloop:
-	CMPQ CX, $8
-	JL   sdtail
-	VMOVUPS     (SI), Y1
-	VSUBPS      (DI), Y1, Y1
-	VFMADD231PS Y1, Y1, Y0
-	ADDQ        $32, SI
-	ADDQ        $32, DI
-	SUBQ        $8, CX
-	JMP         sdloop
-
-sdtail:
-	TESTQ CX, CX
-	JZ    sdreduce
-	LEAQ  tailmask<>(SB), AX
-	MOVQ  $8, DX
-	SUBQ  CX, DX
-	VMOVDQU     (AX)(DX*4), Y3
-	VMASKMOVPS  (SI), Y3, Y1
-	VMASKMOVPS  (DI), Y3, Y2
-	VSUBPS      Y2, Y1, Y1
-	VFMADD231PS Y1, Y1, Y0
-
-sdreduce:
-	VHADDPS      Y0, Y0, Y0
-	VHADDPS      Y0, Y0, Y0
-	VEXTRACTF128 $1, Y0, X1
-	VADDPS       X1, X0, X0
-	VZEROUPPER
-	MOVSS        X0, ret+24(FP)
-	RET
 
 // func sqDistRowsAVX2(q, rows *float32, dim int, out *float32, n int)
 TEXT ·sqDistRowsAVX2(SB), NOSPLIT, $0-40

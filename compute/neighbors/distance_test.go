@@ -6,6 +6,14 @@ import (
 	"testing"
 )
 
+// dist returns the squared distance between a and b by sqDistRows on a
+// block of one row.
+func dist(a, b []float32) float32 {
+	var out [1]float32
+	sqDistRows(a, b, out[:])
+	return out[0]
+}
+
 // TestDistanceKernels checks both kernels against a float64 sum of squares
 // (an exact slow computation) for every dimension 1 … 70, including the
 // masked tails, and that single and batched kernels agree bit for bit and
@@ -31,19 +39,19 @@ func TestDistanceKernels(t *testing.T) {
 				d := float64(q[j]) - float64(row[j])
 				want += d * d
 			}
-			got := sqDist(q, row)
+			got := dist(q, row)
 			// float32 sums of dim non-negative terms: relative error below
 			// dim·2⁻²⁴ (common practice bound for recursive summation).
 			if math.Abs(float64(got)-want) > float64(dim+2)*0x1p-24*want {
-				t.Fatalf("dim %d row %d: sqDist = %g, float64 sum = %g", dim, r, got, want)
+				t.Fatalf("dim %d row %d: distance = %g, float64 sum = %g", dim, r, got, want)
 			}
 			if out[r] != got {
-				t.Fatalf("dim %d row %d: batched %g, single %g", dim, r, out[r], got)
+				t.Fatalf("dim %d row %d: among %d rows %g, alone %g", dim, r, n, out[r], got)
 			}
-			if back := sqDist(row, q); back != got {
+			if back := dist(row, q); back != got {
 				t.Fatalf("dim %d row %d: not symmetric: %g vs %g", dim, r, got, back)
 			}
-			if self := sqDist(row, row); self != 0 {
+			if self := dist(row, row); self != 0 {
 				t.Fatalf("dim %d row %d: distance to itself %g", dim, r, self)
 			}
 			if g := sqDistGo(q, row); math.Abs(float64(g)-want) > float64(dim+2)*0x1p-24*want {

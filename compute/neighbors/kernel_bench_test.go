@@ -14,21 +14,6 @@ func kernelData(n, dim int) []float32 {
 	return x
 }
 
-var kernelSink float32
-
-// BenchmarkSqDist measures one 50-dimensional distance at a time.
-func BenchmarkSqDist(b *testing.B) {
-	const n, dim = 1024, 50
-	x := kernelData(n, dim)
-	b.Logf("AVX2 kernels: %v", haveAVX2)
-	var s float32
-	for i := 0; i < b.N; i++ {
-		r := i % (n - 1)
-		s += sqDist(x[r*dim:(r+1)*dim], x[(r+1)*dim:(r+2)*dim])
-	}
-	kernelSink = s
-}
-
 // BenchmarkSqDistRows measures 50-dimensional distances from one row to a
 // block of 256 rows, per distance.
 func BenchmarkSqDistRows(b *testing.B) {

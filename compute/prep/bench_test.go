@@ -2,6 +2,7 @@ package prep
 
 import (
 	"context"
+	"lodestone/compute/synth"
 	"sync"
 	"testing"
 
@@ -22,10 +23,7 @@ const (
 )
 
 var benchMatrix = sync.OnceValues(func() (*sparse.CSR, error) {
-	counts, err := RandomCounts(benchCells, benchGenes, benchPerRow, 1)
-	if err != nil {
-		return nil, err
-	}
+	counts := synth.Counts(benchCells, benchGenes, benchPerRow, 1)
 	return Normalize(context.Background(), counts, DefaultTarget, 0, nil)
 })
 
@@ -67,10 +65,7 @@ func BenchmarkRunPCAStandardize(b *testing.B) {
 
 // BenchmarkNormalize: normalisation of the benchmark counts.
 func BenchmarkNormalize(b *testing.B) {
-	counts, err := RandomCounts(benchCells, benchGenes, benchPerRow, 1)
-	if err != nil {
-		b.Fatal(err)
-	}
+	counts := synth.Counts(benchCells, benchGenes, benchPerRow, 1)
 	for b.Loop() {
 		if _, err := Normalize(context.Background(), counts, DefaultTarget, 0, nil); err != nil {
 			b.Fatal(err)
@@ -140,10 +135,7 @@ func BenchmarkMulTTransposed(b *testing.B) {
 // counts per cell (6·10^6 stored entries): QC, normalisation, 2,000 highly
 // variable genes, 50 principal components.
 func BenchmarkPrepare(b *testing.B) {
-	counts, err := RandomCounts(20_000, 5_000, 300, 2)
-	if err != nil {
-		b.Fatal(err)
-	}
+	counts := synth.Counts(20_000, 5_000, 300, 2)
 	d := &atlas.Dataset{Counts: counts}
 	opt := DefaultOptions()
 	opt.PCA.Seed = 1

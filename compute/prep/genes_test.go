@@ -4,6 +4,7 @@ import (
 	"cmp"
 	"context"
 	"errors"
+	"lodestone/compute/synth"
 	"math"
 	"slices"
 	"testing"
@@ -97,10 +98,7 @@ func TestSelectGenesTiedMeansShareBin(t *testing.T) {
 // same definition on a random matrix (dense float64 moments, a full sort,
 // medians by sorting), with constant and all-zero genes mixed in.
 func TestSelectGenesMatchesDirectComputation(t *testing.T) {
-	counts, err := RandomCounts(400, 300, 40, 6)
-	if err != nil {
-		t.Fatal(err)
-	}
+	counts := synth.Counts(400, 300, 40, 6)
 	norm, err := Normalize(context.Background(), counts, DefaultTarget, 0, nil)
 	if err != nil {
 		t.Fatal(err)

@@ -2,6 +2,7 @@ package prep
 
 import (
 	"errors"
+	"lodestone/compute/synth"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -14,13 +15,10 @@ import (
 	"lodestone/compute/sparse"
 )
 
-// normalizedRandom returns RandomCounts(n, g, perRow, seed) log-normalised.
+// normalizedRandom returns synth.Counts(n, g, perRow, seed) log-normalised.
 func normalizedRandom(t testing.TB, n, g, perRow int, seed int64) *sparse.CSR {
 	t.Helper()
-	c, err := RandomCounts(n, g, perRow, seed)
-	if err != nil {
-		t.Fatal(err)
-	}
+	c := synth.Counts(n, g, perRow, seed)
 	norm, err := Normalize(context.Background(), c, DefaultTarget, 0, nil)
 	if err != nil {
 		t.Fatal(err)

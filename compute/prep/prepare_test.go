@@ -3,8 +3,8 @@ package prep
 import (
 	"context"
 	"errors"
+	"lodestone/compute/synth"
 	"math"
-	"runtime"
 	"slices"
 	"sync"
 	"testing"
@@ -26,10 +26,7 @@ func testOptions() Options {
 
 // Prepare on counts equals the stages run one after another by hand.
 func TestPrepareCountsEqualsStages(t *testing.T) {
-	counts, err := RandomCounts(500, 200, 40, 8)
-	if err != nil {
-		t.Fatal(err)
-	}
+	counts := synth.Counts(500, 200, 40, 8)
 	// Ten cells fall below the detected-genes threshold.
 	for i := 0; i < 500; i += 50 {
 		counts.Val[counts.RowPtr[i]] = 0
@@ -106,7 +103,7 @@ func TestPrepareTables(t *testing.T) {
 		t.Error("a narrow table is not used as it is")
 	}
 
-	counts, _ := RandomCounts(300, 150, 45, 9)
+	counts := synth.Counts(300, 150, 45, 9)
 	x := denseOf(counts)
 	wide := atlas.NewDense(300, 150)
 	for i := range 300 {
@@ -154,7 +151,7 @@ func TestPrepareBadInput(t *testing.T) {
 	if !errors.As(err, &e) || !errors.Is(err, ErrNotFinite) || e.Row != 3 || e.Col != 2 {
 		t.Errorf("NaN in a table: got %v", err)
 	}
-	counts, _ := RandomCounts(40, 100, 20, 10)
+	counts := synth.Counts(40, 100, 20, 10)
 	opt := testOptions()
 	opt.QC.MinGenes = 20
 	opt.QC.MaxCounts = 20 // no cell has so few counts with 20 genes of ≥ 1
@@ -164,39 +161,5 @@ func TestPrepareBadInput(t *testing.T) {
 	one := &sparse.CSR{Rows: 2, Cols: 3, RowPtr: []int64{0, 3, 3}, ColIdx: []int32{0, 1, 2}, Val: []float32{1, 2, 3}}
 	if _, err := Prepare(ctx, &atlas.Dataset{Counts: one}, Options{}); !errors.Is(err, ErrTooFewCells) {
 		t.Errorf("one cell left: got %v", err)
-	}
-}
-
-// RandomCounts gives a valid matrix with the asked number of entries per
-// row, the same whatever the number of processors.
-func TestRandomCounts(t *testing.T) {
-	for _, tc := range []struct{ cells, genes, perRow int }{{200, 80, 10}, {50, 30, 25}, {20, 5, 9}} {
-		a, err := RandomCounts(tc.cells, tc.genes, tc.perRow, 1)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := a.Validate(); err != nil {
-			t.Fatal(err)
-		}
-		k := min(tc.perRow, tc.genes)
-		for i := range a.Rows {
-			if n := a.RowPtr[i+1] - a.RowPtr[i]; n != int64(k) {
-				t.Fatalf("row %d holds %d entries, want %d", i, n, k)
-			}
-		}
-		for _, v := range a.Val {
-			if v < 1 || v != float32(math.Trunc(float64(v))) {
-				t.Fatalf("value %v is not a positive count", v)
-			}
-		}
-		old := runtime.GOMAXPROCS(1)
-		b, _ := RandomCounts(tc.cells, tc.genes, tc.perRow, 1)
-		runtime.GOMAXPROCS(old)
-		if !slices.Equal(a.ColIdx, b.ColIdx) || !slices.Equal(a.Val, b.Val) {
-			t.Error("RandomCounts depends on the number of processors")
-		}
-	}
-	if _, err := RandomCounts(10, 0, 5, 1); !errors.Is(err, ErrOption) {
-		t.Errorf("no genes: got %v", err)
 	}
 }

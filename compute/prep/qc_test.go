@@ -3,6 +3,7 @@ package prep
 import (
 	"context"
 	"errors"
+	"lodestone/compute/synth"
 	"math"
 	"slices"
 	"testing"
@@ -123,10 +124,7 @@ func TestQCHandExample(t *testing.T) {
 // QC metrics of a random matrix against a direct computation, and the
 // filters against direct application of the thresholds.
 func TestQCMatchesDirectComputation(t *testing.T) {
-	counts, err := RandomCounts(700, 120, 25, 3)
-	if err != nil {
-		t.Fatal(err)
-	}
+	counts := synth.Counts(700, 120, 25, 3)
 	symbols := make([]string, counts.Cols)
 	for j := range symbols {
 		symbols[j] = "G" + string(rune('0'+j%10))
@@ -237,10 +235,7 @@ func TestQCCancel(t *testing.T) {
 // Normalisation against the direct formula log(1 + x·target/Σx) in float64,
 // for a matrix with an empty row and a stored zero.
 func TestNormalizeMatchesDirectComputation(t *testing.T) {
-	counts, err := RandomCounts(300, 50, 12, 4)
-	if err != nil {
-		t.Fatal(err)
-	}
+	counts := synth.Counts(300, 50, 12, 4)
 	counts.RowPtr = append(counts.RowPtr, counts.RowPtr[counts.Rows]) // an empty last row
 	counts.Rows++
 	counts.Val[3] = 0 // a stored zero
@@ -272,7 +267,7 @@ func TestNormalizeMatchesDirectComputation(t *testing.T) {
 }
 
 func TestNormalizeBadInput(t *testing.T) {
-	counts, _ := RandomCounts(10, 8, 3, 5)
+	counts := synth.Counts(10, 8, 3, 5)
 	if _, err := Normalize(context.Background(), counts, 0, 0, nil); !errors.Is(err, ErrOption) {
 		t.Errorf("zero target: got %v", err)
 	}

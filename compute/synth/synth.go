@@ -1,6 +1,7 @@
-// Package synth makes seeded synthetic point clouds with known structure, for
-// tests and benchmarks of the numerical stages: well separated clusters and a
-// branching continuous path.
+// Package synth makes seeded synthetic data with known structure, for tests
+// and benchmarks of the numerical stages: point clouds of well separated
+// clusters and of a branching continuous path, and sparse counts with group
+// structure.
 //
 // Every generator is deterministic: the same arguments give the same points,
 // bit for bit, whatever the number of processors. Points are drawn in chunks

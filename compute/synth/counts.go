@@ -1,4 +1,4 @@
-package prep
+package synth
 
 import (
 	"math"
@@ -9,11 +9,11 @@ import (
 	"lodestone/compute/sparse"
 )
 
-// randomGroups is the number of cell groups RandomCounts draws.
-const randomGroups = 8
+// countGroups is the number of cell groups Counts draws.
+const countGroups = 8
 
-// RandomCounts returns a random cells × genes counts matrix for benchmarks
-// and tests, with exactly min(nnzPerRow, genes) stored entries per row.
+// Counts returns a random cells × genes matrix of counts with exactly
+// min(nnzPerRow, genes) stored entries per row.
 //
 // Cell i belongs to group i mod 8; each group has its own block of genes
 // (genes·g/8 … genes·(g+1)/8 − 1 for group g). When a cell stores at most
@@ -27,10 +27,10 @@ const randomGroups = 8
 // with a per-cell library factor s_i uniform on [0.5, 2). The matrix thus
 // has group structure for a principal component analysis to find. The
 // result depends only on the arguments, not on the number of processors.
-func RandomCounts(cells, genes, nnzPerRow int, seed int64) (*sparse.CSR, error) {
-	if cells < 0 || genes < 1 || nnzPerRow < 0 {
-		return nil, errOption("random counts", "%d cells × %d genes with %d entries per row", cells, genes, nnzPerRow)
-	}
+// Sizes below their minimum are raised to it: cells and nnzPerRow to 0,
+// genes to 1.
+func Counts(cells, genes, nnzPerRow int, seed int64) *sparse.CSR {
+	cells, genes, nnzPerRow = max(cells, 0), max(genes, 1), max(nnzPerRow, 0)
 	k := min(nnzPerRow, genes)
 	m := &sparse.CSR{
 		Rows:   cells,
@@ -55,8 +55,8 @@ func RandomCounts(cells, genes, nnzPerRow int, seed int64) (*sparse.CSR, error) 
 		for i := lo; i < hi; i++ {
 			src.Seed(uint64(seed), uint64(i))
 			cols := m.ColIdx[i*k : (i+1)*k]
-			group := i % randomGroups
-			first, last := genes*group/randomGroups, genes*(group+1)/randomGroups
+			group := i % countGroups
+			first, last := genes*group/countGroups, genes*(group+1)/countGroups
 			inBlock := 0
 			if !exclude {
 				inBlock = min(draws/2, last-first)
@@ -98,5 +98,5 @@ func RandomCounts(cells, genes, nnzPerRow int, seed int64) (*sparse.CSR, error) 
 			}
 		}
 	})
-	return m, nil
+	return m
 }
