@@ -351,3 +351,15 @@ func symmetrize(ctx context.Context, n, k int, cols []int32, vals []float32, thr
 	}
 	return p, nil
 }
+
+// Calibrated writes to p the Gaussian weights of one point's neighbours at
+// squared distances d2, with the precision chosen so that the perplexity of
+// the weights, 2^H(p), equals perplexity (within EntropyTolerance on H, in
+// bits), as Perplexity does for every point, and returns the entropy
+// reached, in bits. d2 is overwritten. Preconditions: len(p) = len(d2) ≥ 1,
+// distances finite and non-negative, 1 ≤ perplexity ≤ len(p). Other
+// measures built on perplexity-calibrated neighbourhoods (the local inverse
+// Simpson's index of package quality) use it.
+func Calibrated(p, d2 []float64, perplexity float64) float64 {
+	return calibrate(p, d2, math.Log2(perplexity))
+}
