@@ -9,6 +9,7 @@ import (
 	"os"
 
 	"lodestone/app"
+	_ "lodestone/internal/localelog" // before the toolkit's init: see its doc
 )
 
 func main() {

@@ -8,17 +8,55 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"io/fs"
 	"sort"
 	"strings"
+
+	"lodestone/app/restore"
+	"lodestone/app/session"
+	"lodestone/compute/ingest"
+	"lodestone/compute/pipeline"
+	"lodestone/compute/prep"
+	"lodestone/internal/atomicfile"
+	"lodestone/sampledata"
 )
 
-// Exit statuses.
+// Exit statuses, the same for every command (printed by "lodestone help").
 const (
 	ExitOK      = 0
-	ExitFailed  = 1 // the computation failed
-	ExitUsage   = 2 // bad flags, or an input that cannot be read
+	ExitFailed  = 1 // a failure of Lodestone's own, or of the machine: an internal error, a full disk, an interruption
+	ExitUsage   = 2 // bad input or usage: flags, settings the data cannot meet, input files that cannot be read or are malformed, outputs that cannot be written
 	exitHelpMsg = "run \"lodestone help\" for the commands"
 )
+
+// inputErrors are the kinds of error that are the caller's, whatever
+// command meets them: they end the program with ExitUsage.
+var inputErrors = []error{
+	fs.ErrNotExist, fs.ErrPermission, atomicfile.ErrNotWritable,
+	ingest.ErrEmpty, ingest.ErrFieldCount, ingest.ErrNotNumber, ingest.ErrNotFinite, ingest.ErrMagnitude, ingest.ErrNegative,
+	ingest.ErrHeader, ingest.ErrSizeLine, ingest.ErrUnsupported, ingest.ErrIndexRange, ingest.ErrEntryCount,
+	ingest.ErrDuplicateEntry, ingest.ErrLineTooLong, ingest.ErrQuote, ingest.ErrTruncated, ingest.ErrCorrupt,
+	ingest.ErrTrailingData, ingest.ErrBlankLabel, ingest.ErrBadLabel, ingest.ErrDuplicateID, ingest.ErrLabelCount,
+	ingest.ErrLabelRole, ingest.ErrNoMatch, ingest.ErrAmbiguous, ingest.ErrNothingToRead, ingest.ErrNotRegular,
+	prep.ErrNotFinite, prep.ErrNegative, prep.ErrTooFewCells, prep.ErrTooFewGenes, prep.ErrOption,
+	pipeline.ErrSetting, sampledata.ErrOption,
+	session.ErrNotSession, session.ErrVersion, session.ErrMissing, session.ErrCorrupt, restore.ErrNoInputs,
+}
+
+// exitStatus returns the exit status for a command's error: ExitUsage for
+// usage errors and the kinds of inputErrors, ExitFailed for the rest.
+func exitStatus(err error) int {
+	var u usageError
+	if errors.As(err, &u) {
+		return ExitUsage
+	}
+	for _, e := range inputErrors {
+		if errors.Is(err, e) {
+			return ExitUsage
+		}
+	}
+	return ExitFailed
+}
 
 // usageError marks errors that are the caller's: bad flags, missing or
 // unreadable inputs. They end the program with ExitUsage.
@@ -69,11 +107,7 @@ func Run(args []string, stdout, stderr io.Writer) int {
 		return ExitOK
 	default:
 		fmt.Fprintf(stderr, "lodestone %s: %s\n", args[0], oneLine(err.Error()))
-		var u usageError
-		if errors.As(err, &u) {
-			return ExitUsage
-		}
-		return ExitFailed
+		return exitStatus(err)
 	}
 }
 
@@ -95,15 +129,31 @@ func printHelp(w io.Writer) {
 	for _, n := range names {
 		fmt.Fprintf(w, "  %-9s %s\n", n, commands[n].summary)
 	}
+	fmt.Fprintln(w, "")
+	fmt.Fprintln(w, "Exit status of every command:")
+	fmt.Fprintln(w, "  0  done")
+	fmt.Fprintln(w, "  1  a failure of Lodestone's own or of the machine (an internal error, a full disk, an interruption)")
+	fmt.Fprintln(w, "  2  bad input or usage: a flag out of range, settings the data cannot meet, an input file that")
+	fmt.Fprintln(w, "     cannot be read or is malformed, an output that cannot be written or is also an input")
 }
 
 // flags is a command's flag set, with the synopsis and stream its usage is
-// printed to.
+// printed to, and the flags that name files.
 type flags struct {
 	*flag.FlagSet
 	synopsis string
 	stderr   io.Writer
+	paths    []pathFlag      // see inputPath, outputPath
+	set      map[string]bool // the flags given on the command line
 }
+
+// Hooks for tests: flagsMade, when not nil, receives every flag set a
+// command makes; afterParse, when not nil, is called when a command's flags
+// are parsed and checked, and its error ends the command there.
+var (
+	flagsMade  func(*flags)
+	afterParse func(*flags) error
+)
 
 // newFlags returns a flag set that reports errors as values instead of
 // exiting or printing.
@@ -111,11 +161,18 @@ func newFlags(name, synopsis string, stderr io.Writer) *flags {
 	fs := flag.NewFlagSet(name, flag.ContinueOnError)
 	fs.SetOutput(io.Discard)
 	fs.Usage = func() {}
-	return &flags{FlagSet: fs, synopsis: synopsis, stderr: stderr}
+	f := &flags{FlagSet: fs, synopsis: synopsis, stderr: stderr}
+	if flagsMade != nil {
+		flagsMade(f)
+	}
+	return f
 }
 
 // parse parses args. -h prints the usage and returns flag.ErrHelp; other
 // flag errors and stray arguments become usage errors (one line, exit 2).
+// Every numeric flag given is checked against its bound (see bounds), and
+// the path flags against each other (see checkPaths), before the command
+// does anything.
 func (f *flags) parse(args []string) error {
 	err := f.Parse(args)
 	if errors.Is(err, flag.ErrHelp) {
@@ -129,6 +186,17 @@ func (f *flags) parse(args []string) error {
 	}
 	if f.NArg() > 0 {
 		return usagef("unexpected argument %q", f.Arg(0))
+	}
+	f.set = map[string]bool{}
+	f.Visit(func(fl *flag.Flag) { f.set[fl.Name] = true })
+	if err := f.checkNumbers(func(s string) { fmt.Fprintf(f.stderr, "warning: %s\n", s) }); err != nil {
+		return err
+	}
+	if err := f.checkPaths(); err != nil {
+		return err
+	}
+	if afterParse != nil {
+		return afterParse(f)
 	}
 	return nil
 }

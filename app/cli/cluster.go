@@ -5,9 +5,7 @@ import (
 	"io"
 	"strconv"
 
-	"lodestone/compute/neighbors"
 	"lodestone/compute/pipeline"
-	"lodestone/internal/atomicfile"
 )
 
 func init() {
@@ -20,41 +18,34 @@ func runCluster(args []string, stdout, stderr io.Writer) error {
 	var pf prepFlags
 	in.register(fs)
 	pf.register(fs)
-	out := fs.String("out", "", "CSV file to write, with header id,cluster")
+	var out string
+	fs.outputPath(&out, "out", "CSV file to write, with header id,cluster")
 	resolution := fs.Float64("resolution", 1, "resolution γ of the modularity: larger values give more, smaller clusters")
 	k := fs.Int("k", 15, "neighbours of each cell in the graph that is clustered")
 	quiet := fs.Bool("quiet", false, "print no progress")
 	if err := fs.parse(args); err != nil {
 		return err
 	}
-	if *out == "" {
+	if out == "" {
 		return usagef("--out is required")
-	}
-	if *resolution <= 0 || *k < 1 || *k > neighbors.MaxK {
-		return usagef("--resolution must be positive and --k 1 … %d", neighbors.MaxK)
 	}
 	ctx, stop := interruptible()
 	defer stop()
 	b := newBar(stderr, *quiet)
 	defer b.finish()
-	s, err := pf.settings()
+	p, err := features(ctx, &in, &pf, b)
 	if err != nil {
 		return err
 	}
-	d, err := in.load(ctx, b)
-	if err != nil {
-		return err
-	}
-	p, err := pipeline.Features(ctx, d, s, stageReporter(b))
-	if err != nil {
-		return err
+	if *k >= p.Cells() {
+		return usagef("--k %d: %d cells passed quality control; each has at most %d neighbours", *k, p.Cells(), p.Cells()-1)
 	}
 	labels, q, err := pipeline.Clusters(ctx, p, *k, *resolution, func(done, total int64) { b.report("clusters", done, total) })
 	if err != nil {
 		return err
 	}
 	b.finish()
-	if err := atomicfile.Write(*out, func(w io.Writer) error {
+	if err := writeOutput(b, "out", out, func(w io.Writer) error {
 		if _, err := io.WriteString(w, "id,cluster\n"); err != nil {
 			return err
 		}
@@ -75,6 +66,6 @@ func runCluster(args []string, stdout, stderr io.Writer) error {
 	for _, l := range labels {
 		n = max(n, int(l)+1)
 	}
-	fmt.Fprintf(stdout, "%d clusters, modularity %.4f, written to %s\n", n, q, *out)
+	fmt.Fprintf(stdout, "%d clusters, modularity %.4f, written to %s\n", n, q, out)
 	return nil
 }

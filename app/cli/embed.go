@@ -9,7 +9,6 @@ import (
 
 	"lodestone/app/live"
 	"lodestone/app/restore"
-	"lodestone/app/session"
 	"lodestone/compute/embed"
 	"lodestone/compute/pipeline"
 )
@@ -29,21 +28,24 @@ func runEmbed(args []string, stdout, stderr io.Writer) error {
 	var pf prepFlags
 	in.register(fs)
 	pf.register(fs)
-	out := fs.String("out", "", "CSV file to write, with header id,x,y")
+	var out, sessionPath string
+	fs.outputPath(&out, "out", "CSV file to write, with header id,x,y")
 	attraction := attractionFlag(1)
 	fs.Var(&attraction, "attraction", "the attraction dial: 0.5 (separate groups) … 100 (continuous paths), or inf (spectral layout)")
 	iterations := fs.Int("iterations", embed.DefaultIterations, "optimiser iterations, early exaggeration included")
 	initName := fs.String("init", "pca", "initial layout: pca, spectral, or a layout CSV (id,x,y) to continue from")
 	quiet := fs.Bool("quiet", false, "print no progress")
-	sessionPath := fs.String("session", "", "also write a session file (.lodestone) that reopens the map in the window")
+	fs.outputPath(&sessionPath, "session", "also write a session file (.lodestone) that reopens the map in the window")
 	if err := fs.parse(args); err != nil {
 		return err
 	}
-	if *out == "" && *sessionPath == "" {
+	if out == "" && sessionPath == "" {
 		return usagef("--out or --session is required")
 	}
-	if *iterations < 1 {
-		return usagef("--iterations must be at least 1")
+	if *initName != "pca" && *initName != "spectral" {
+		if err := fs.checkPaths(named{"--init", *initName}); err != nil {
+			return err
+		}
 	}
 	ctx, stop := interruptible()
 	defer stop()
@@ -88,19 +90,19 @@ func runEmbed(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	b.finish()
-	if *out != "" {
-		if err := writeLayout(*out, p.CellIDs, layout); err != nil {
+	if out != "" {
+		if err := writeLayout(b, out, p.CellIDs, layout); err != nil {
 			return err
 		}
 	}
-	if *sessionPath != "" {
+	if sessionPath != "" {
 		origin, err := in.origin(p)
 		if err != nil {
 			return err
 		}
 		s := restore.Capture(restore.Map{Prepared: p, Origin: origin, Initial: init, Layout: layout, Attraction: a,
 			History: []live.Step{step}})
-		if err := session.Write(*sessionPath, s); err != nil {
+		if err := writeSession(b, sessionPath, s); err != nil {
 			return err
 		}
 	}

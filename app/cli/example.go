@@ -7,7 +7,6 @@ import (
 	"path/filepath"
 
 	"lodestone/compute/ingest"
-	"lodestone/internal/atomicfile"
 	"lodestone/sampledata"
 )
 
@@ -54,7 +53,7 @@ func runExample(args []string, stdout, stderr io.Writer) error {
 	}
 	for i, f := range files {
 		b.report("writing", int64(i), int64(len(files)))
-		if err := atomicfile.Write(filepath.Join(*out, f.name), f.write); err != nil {
+		if err := writeOutput(b, "out", filepath.Join(*out, f.name), f.write); err != nil {
 			return err
 		}
 	}

@@ -14,7 +14,6 @@ import (
 	"lodestone/canvas/figure"
 	"lodestone/canvas/raster"
 	"lodestone/compute/atlas"
-	"lodestone/internal/atomicfile"
 )
 
 func init() {
@@ -23,8 +22,9 @@ func init() {
 
 func runFigure(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("figure", "--session FILE --out fig.png|fig.svg [--preset NAME] [--width PX --height PX] [--dpi N] [--paint COLUMN]", stderr)
-	sessionPath := fs.String("session", "", "the session file (.lodestone) whose map to draw")
-	out := fs.String("out", "", "the figure to write: .png or .svg")
+	var sessionPath, out string
+	fs.inputPath(&sessionPath, "session", "the session file (.lodestone) whose map to draw")
+	fs.outputPath(&out, "out", "the figure to write: .png or .svg")
 	preset := fs.String("preset", "slide16x9", "size: "+strings.Join(figure.Presets(), ", ")+" (ignored with --width and --height)")
 	width := fs.Int("width", 0, "width in pixels (with --height, instead of --preset)")
 	height := fs.Int("height", 0, "height in pixels (with --width)")
@@ -37,12 +37,12 @@ func runFigure(args []string, stdout, stderr io.Writer) error {
 	if err := fs.parse(args); err != nil {
 		return err
 	}
-	if *sessionPath == "" || *out == "" {
+	if sessionPath == "" || out == "" {
 		return usagef("--session and --out are required")
 	}
-	format := strings.ToLower(strings.TrimPrefix(filepath.Ext(*out), "."))
+	format := strings.ToLower(strings.TrimPrefix(filepath.Ext(out), "."))
 	if format != "png" && format != "svg" {
-		return usagef("--out %q: the name must end in .png or .svg", *out)
+		return usagef("--out %q: the name must end in .png or .svg", out)
 	}
 	var size figure.Size
 	switch {
@@ -57,7 +57,7 @@ func runFigure(args []string, stdout, stderr io.Writer) error {
 			return usageError{err}
 		}
 	}
-	s, err := session.Read(*sessionPath)
+	s, err := session.Read(sessionPath)
 	if err != nil {
 		return usageError{err}
 	}
@@ -81,7 +81,7 @@ func runFigure(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 	}
-	if err := atomicfile.Write(*out, func(w io.Writer) error {
+	if err := writeOutput(newBar(stderr, true), "out", out, func(w io.Writer) error {
 		if format == "svg" {
 			return figure.WriteSVG(w, f, size, figure.DefaultVectorLimit)
 		}
@@ -89,7 +89,7 @@ func runFigure(args []string, stdout, stderr io.Writer) error {
 	}); err != nil {
 		return err
 	}
-	fmt.Fprintf(stdout, "wrote %s (%d × %d px, painted by %s)\n", *out, size.WidthPx, size.HeightPx, p.Name)
+	fmt.Fprintf(stdout, "wrote %s (%d × %d px, painted by %s)\n", out, size.WidthPx, size.HeightPx, p.Name)
 	return nil
 }
 

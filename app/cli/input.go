@@ -2,6 +2,7 @@ package cli
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -14,26 +15,85 @@ import (
 	"lodestone/compute/ingest"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/pipeline"
-	"lodestone/internal/atomicfile"
 	"lodestone/sampledata"
 )
 
 // inputFlags name the atlas a command reads.
 type inputFlags struct {
-	in, rows, cols, meta string
-	example              bool
+	fs                     *flags
+	in, cells, genes, meta string
+	oldCells, oldGenes     string // --rows, --cols: the old names of --cell-labels, --gene-labels
+	header, matrixRows     string
+	example                bool
 }
 
 func (f *inputFlags) register(fs *flags) {
-	fs.StringVar(&f.in, "in", "", "the atlas: a Matrix Market file, a CSV/TSV table, or a folder")
-	fs.StringVar(&f.rows, "rows", "", "label file of the Matrix Market file's cells (found beside it when not given)")
-	fs.StringVar(&f.cols, "cols", "", "label file of the Matrix Market file's genes (found beside it when not given)")
-	fs.StringVar(&f.meta, "meta", "", "annotation table keyed by cell ID (found beside the atlas when not given)")
+	f.fs = fs
+	fs.inputPath(&f.in, "in", "the atlas: a Matrix Market file, a CSV/TSV table, or a folder")
+	fs.inputPath(&f.cells, "cell-labels", "label file listing the Matrix Market file's cells, one per line (found beside it when not given)")
+	fs.inputPath(&f.genes, "gene-labels", "label file listing the Matrix Market file's genes, one per line (found beside it when not given)")
+	fs.inputPath(&f.oldCells, "rows", "old name of --cell-labels")
+	fs.inputPath(&f.oldGenes, "cols", "old name of --gene-labels")
+	fs.StringVar(&f.header, "label-header", "auto", "which label files given start with a header line: auto (those whose first line is a column name such as barcode or gene_id), none, cells, genes or both")
+	fs.StringVar(&f.matrixRows, "matrix-rows", "", "what the Matrix Market file's rows are, cells or genes (default: decided from the label files)")
+	fs.inputPath(&f.meta, "meta", "annotation table keyed by cell ID (found beside the atlas when not given)")
 	fs.BoolVar(&f.example, "example", false, "use the bundled, invented example atlas instead of --in")
 }
 
-// load reads the atlas. Files that cannot be read are usage errors.
+// options returns the reader's options for the label flags.
+func (f *inputFlags) options() (ingest.Options, error) {
+	var o ingest.Options
+	pick := func(name, v, old, oldName string) (string, error) {
+		if v != "" && old != "" && v != old {
+			return "", usagef("give --%s or its old name --%s, not both", name, oldName)
+		}
+		if v == "" {
+			v = old
+		}
+		return v, nil
+	}
+	var err error
+	if o.Cells, err = pick("cell-labels", f.cells, f.oldCells, "rows"); err != nil {
+		return o, err
+	}
+	if o.Genes, err = pick("gene-labels", f.genes, f.oldGenes, "cols"); err != nil {
+		return o, err
+	}
+	switch strings.ToLower(f.header) {
+	case "auto", "":
+	case "none":
+		o.CellsHeader, o.GenesHeader = ingest.HeaderNone, ingest.HeaderNone
+	case "cells":
+		o.CellsHeader, o.GenesHeader = ingest.HeaderFirst, ingest.HeaderNone
+	case "genes":
+		o.CellsHeader, o.GenesHeader = ingest.HeaderNone, ingest.HeaderFirst
+	case "both":
+		o.CellsHeader, o.GenesHeader = ingest.HeaderFirst, ingest.HeaderFirst
+	default:
+		return o, usagef("--label-header %q: want auto, none, cells, genes or both", f.header)
+	}
+	switch strings.ToLower(f.matrixRows) {
+	case "":
+	case "cells":
+		o.MatrixRows = ingest.RowsCells
+	case "genes":
+		o.MatrixRows = ingest.RowsGenes
+	default:
+		return o, usagef("--matrix-rows %q: want cells or genes", f.matrixRows)
+	}
+	o.Annotations = f.meta
+	return o, nil
+}
+
+// load reads the atlas, tells on b what the reader chose (which files gave
+// the cells and the genes, how the matrix was read, duplicate annotation
+// rows), and refuses an output that is one of the files read. Files that
+// cannot be read are usage errors.
 func (f *inputFlags) load(ctx context.Context, b *bar) (*atlas.Dataset, error) {
+	opt, err := f.options()
+	if err != nil {
+		return nil, err
+	}
 	switch {
 	case f.example && f.in != "":
 		return nil, usagef("give either --in or --example, not both")
@@ -45,19 +105,57 @@ func (f *inputFlags) load(ctx context.Context, b *bar) (*atlas.Dataset, error) {
 	case f.in == "":
 		return nil, usagef("--in is required (or --example)")
 	}
-	d, err := ingest.Open(ctx, f.in, ingest.Options{
-		Cells: f.rows, Genes: f.cols, Annotations: f.meta,
-		Progress: func(done, total int64) { b.report("reading", done, total) },
-	})
+	opt.Progress = func(done, total int64) { b.report("reading", done, total) }
+	d, err := ingest.Open(ctx, f.in, opt)
 	if err != nil {
-		return nil, usageError{err}
+		return nil, usageError{withHint(err)}
+	}
+	b.finish()
+	for _, n := range d.Notes {
+		b.note("%s", n)
+	}
+	if j := d.Join; j != nil && j.DuplicatedCount > 0 {
+		b.warn("the annotation table names %d cells on more than one row (%s); the first row of each is used", j.DuplicatedCount, strings.Join(j.Duplicated, ", "))
+	}
+	if f.fs != nil {
+		read := make([]named, len(d.Sources))
+		for k, src := range d.Sources {
+			read[k] = named{"the input file", src}
+		}
+		if err := f.fs.checkPaths(read...); err != nil {
+			return nil, err
+		}
 	}
 	return d, nil
+}
+
+// withHint adds to a reader's error the flags that settle it.
+func withHint(err error) error {
+	msg := err.Error()
+	var hint string
+	switch {
+	case strings.HasSuffix(msg, "; name the label files"):
+		hint = "give them with --cell-labels and --gene-labels"
+	case errors.Is(err, ingest.ErrLabelCount) && strings.Contains(msg, "labels on"):
+		hint = "--label-header says which label files start with a header line"
+	case errors.Is(err, ingest.ErrLabelRole):
+		hint = "--cell-labels and --gene-labels name the files of the cells and of the genes"
+	case strings.HasSuffix(msg, "; name the label file"):
+		hint = "give it with --cell-labels or --gene-labels"
+	case strings.HasSuffix(msg, "; choose the annotation table"):
+		hint = "give it with --meta"
+	case strings.HasSuffix(msg, "; open one of them"):
+		hint = "give it with --in"
+	default:
+		return err
+	}
+	return fmt.Errorf("%w (%s)", err, hint)
 }
 
 // prepFlags are the settings of the preparation shared by the commands that
 // compute a map or its scores.
 type prepFlags struct {
+	fs                  *flags
 	pcs, genes, threads int
 	minGenes, minCells  int
 	maxMito             float64
@@ -68,23 +166,26 @@ type prepFlags struct {
 }
 
 func (f *prepFlags) register(fs *flags) {
+	f.fs = fs
 	d := pipeline.Default()
 	fs.IntVar(&f.pcs, "pcs", d.Prep.PCA.Components, "principal components to keep")
 	fs.IntVar(&f.genes, "genes", d.Prep.Genes, "highly variable genes to select")
 	fs.Float64Var(&f.perplexity, "perplexity", d.Perplexity, "perplexity: the effective number of neighbours of each cell")
 	fs.Int64Var(&f.seed, "seed", d.Seed, "seed of every random choice")
-	fs.IntVar(&f.threads, "threads", 0, "goroutines to use (0: all processors)")
+	fs.IntVar(&f.threads, "threads", 0, fmt.Sprintf("goroutines to use (0: all processors; at most %d)", pipeline.MaxThreads))
 	fs.StringVar(&f.metric, "metric", "euclidean", "distance between cells: euclidean or cosine")
 	fs.IntVar(&f.minGenes, "min-genes", d.Prep.QC.MinGenes, "quality control: keep cells with at least this many detected genes")
 	fs.IntVar(&f.minCells, "min-cells", d.Prep.QC.MinCells, "quality control: keep genes detected in at least this many cells")
 	fs.Float64Var(&f.maxMito, "max-mito", 1, "quality control: keep cells with at most this fraction of mitochondrial counts (1: off)")
 }
 
+// given reports whether the flag name was given on the command line.
+func (f *prepFlags) given(name string) bool { return f.fs != nil && f.fs.set[name] }
+
+// settings returns the pipeline's settings. The flags' ranges were checked
+// when they were parsed (see bounds).
 func (f *prepFlags) settings() (pipeline.Settings, error) {
 	s := pipeline.Default()
-	if f.pcs < 1 || f.genes < 1 || f.perplexity <= 0 || f.threads < 0 || f.minGenes < 0 || f.minCells < 0 || f.maxMito <= 0 || f.maxMito > 1 {
-		return s, usagef("--pcs, --genes and --perplexity must be positive, --threads, --min-genes and --min-cells not negative, --max-mito in (0, 1]")
-	}
 	s.Prep.QC.MinGenes = f.minGenes
 	s.Prep.QC.MinCells = f.minCells
 	s.Prep.QC.MaxMitoFraction = f.maxMito
@@ -104,11 +205,47 @@ func (f *prepFlags) settings() (pipeline.Settings, error) {
 	default:
 		return s, usagef("--metric %q: want euclidean or cosine", f.metric)
 	}
-	return s, nil
+	return s, s.Validate()
 }
 
-// prepare reads the atlas and runs the pipeline, reporting on b.
-func prepare(ctx context.Context, in *inputFlags, pf *prepFlags, b *bar) (*pipeline.Prepared, error) {
+// fitAtlas refuses settings given on the command line that the atlas read
+// cannot meet before quality control: more components than the cells and
+// genes analysed allow. Defaults are lowered to fit, with a note, instead.
+func (f *prepFlags) fitAtlas(d *atlas.Dataset) error {
+	if !f.given("pcs") {
+		return nil
+	}
+	n, g := d.Cells(), d.Features()
+	what := fmt.Sprintf("%d cells and %d genes", n, g)
+	if d.Counts != nil && f.genes < g {
+		g = f.genes
+		what = fmt.Sprintf("%d cells and %d highly variable genes (--genes)", n, g)
+	}
+	if d.Table != nil && d.Table.Cols <= atlas.MaxFeatureColumns {
+		return nil // the table's columns are the features; --pcs is not used
+	}
+	if limit := min(n, g) - 1; f.pcs > limit {
+		return usagef("--pcs %d: the atlas has %s, which allow at most %d components (one fewer than the smaller)", f.pcs, what, limit)
+	}
+	return nil
+}
+
+// fitCells refuses settings given on the command line that the n cells
+// that passed quality control cannot meet: a perplexity of a third of them
+// or more. A default perplexity is lowered instead, with a note.
+func (f *prepFlags) fitCells(n int) error {
+	if f.given("perplexity") && f.perplexity >= float64(n)/3 {
+		return usagef("--perplexity %g: %d cells passed quality control, and the perplexity must be below a third of them (%.4g)", f.perplexity, n, float64(n)/3)
+	}
+	return nil
+}
+
+// features reads the atlas and runs the preparation up to the features,
+// reporting on b: the reader's choices, what each quality filter removed
+// (a warning when it removed more than half of the cells), and the notes of
+// the preparation. Settings the atlas cannot meet and an atlas left with
+// too few cells are usage errors.
+func features(ctx context.Context, in *inputFlags, pf *prepFlags, b *bar) (*pipeline.Prepared, error) {
 	s, err := pf.settings()
 	if err != nil {
 		return nil, err
@@ -117,7 +254,42 @@ func prepare(ctx context.Context, in *inputFlags, pf *prepFlags, b *bar) (*pipel
 	if err != nil {
 		return nil, err
 	}
-	return pipeline.Prepare(ctx, d, s, stageReporter(b))
+	if err := pf.fitAtlas(d); err != nil {
+		return nil, err
+	}
+	p, err := pipeline.Features(ctx, d, s, stageReporter(b))
+	if err != nil {
+		return nil, err
+	}
+	b.finish()
+	if qc := p.Prep.QC; qc != nil {
+		b.note("quality control %s", qc.Summary())
+		if removed := qc.Cells - qc.CellsKept; 2*removed > qc.Cells {
+			b.warn("quality control removed %d of %d cells (%.0f%%); check --min-genes, --min-cells and --max-mito: %s",
+				removed, qc.Cells, 100*float64(removed)/float64(qc.Cells), qc.Summary())
+		}
+	}
+	for _, n := range p.Notes {
+		b.note("%s", n)
+	}
+	return p, pf.fitCells(p.Cells())
+}
+
+// prepare reads the atlas and runs the pipeline, reporting on b.
+func prepare(ctx context.Context, in *inputFlags, pf *prepFlags, b *bar) (*pipeline.Prepared, error) {
+	p, err := features(ctx, in, pf, b)
+	if err != nil {
+		return nil, err
+	}
+	seen := len(p.Notes)
+	if err := pipeline.Graph(ctx, p, stageReporter(b)); err != nil {
+		return nil, err
+	}
+	b.finish()
+	for _, n := range p.Notes[seen:] {
+		b.note("%s", n)
+	}
+	return p, nil
 }
 
 // attractionFlag parses an attraction: a number ≥ 0.5, or "inf" / "∞".
@@ -146,9 +318,10 @@ func formatAttraction(v float64) string {
 	return strconv.FormatFloat(v, 'g', -1, 64)
 }
 
-// writeLayout writes a layout as CSV with header id,x,y, atomically.
-func writeLayout(path string, ids []string, layout []float32) error {
-	return atomicfile.Write(path, func(w io.Writer) error {
+// writeLayout writes a layout as CSV with header id,x,y to the path of the
+// output flag --out (see writeOutput).
+func writeLayout(b *bar, path string, ids []string, layout []float32) error {
+	return writeOutput(b, "out", path, func(w io.Writer) error {
 		if _, err := io.WriteString(w, "id,x,y\n"); err != nil {
 			return err
 		}

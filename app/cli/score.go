@@ -20,14 +20,15 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 	var pf prepFlags
 	in.register(fs)
 	pf.register(fs)
-	layoutPath := fs.String("layout", "", "the map to score: CSV with header id,x,y")
+	var layoutPath string
+	fs.inputPath(&layoutPath, "layout", "the map to score: CSV with header id,x,y")
 	label := fs.String("label", "", "a categorical annotation column: also score how well the map's neighbours predict it")
 	fo := fidelityFlags(fs)
 	quiet := fs.Bool("quiet", true, "print no progress")
 	if err := fs.parse(args); err != nil {
 		return err
 	}
-	if *layoutPath == "" {
+	if layoutPath == "" {
 		return usagef("--layout is required")
 	}
 	if err := fo.check(); err != nil {
@@ -36,20 +37,15 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 	ctx, stop := interruptible()
 	defer stop()
 	b := newBar(stderr, *quiet)
-	s, err := pf.settings()
-	if err != nil {
-		return err
-	}
-	d, err := in.load(ctx, b)
-	if err != nil {
-		return err
-	}
-	p, err := pipeline.Features(ctx, d, s, stageReporter(b))
+	p, err := features(ctx, &in, &pf, b)
 	b.finish()
 	if err != nil {
 		return err
 	}
-	layout, err := readLayout(ctx, *layoutPath, p.CellIDs)
+	if *fo.k >= p.Cells() {
+		return usagef("--k %d: %d cells passed quality control; each has at most %d neighbours", *fo.k, p.Cells(), p.Cells()-1)
+	}
+	layout, err := readLayout(ctx, layoutPath, p.CellIDs)
 	if err != nil {
 		return err
 	}

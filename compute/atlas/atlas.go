@@ -12,6 +12,17 @@ import (
 	"math"
 )
 
+// MaxFeatureColumns is the widest dense table whose columns are features
+// used as they are (such as principal components); a wider table holds
+// expression (counts or normalised values, never negative) and is reduced
+// by principal component analysis.
+const MaxFeatureColumns = 100
+
+// MaxMagnitude bounds the values of a dense table: squared distances over
+// MaxFeatureColumns columns of values up to it stay far inside the float32
+// range (100 · (2·10¹⁵)² = 4·10³² < 3.4·10³⁸).
+const MaxMagnitude = 1e15
+
 // Dense is a row-major matrix of float32: element (i, j) is Data[i*Cols+j].
 type Dense struct {
 	Rows, Cols int
@@ -129,6 +140,10 @@ type Dataset struct {
 	Table       *Dense      // cells × features
 	Annotations []Column    // per-cell annotation columns
 	Join        *JoinReport // how the annotation table matched the cells; nil when none was read
+	// Notes says, one sentence each, what the reader chose: which file gave
+	// the cells and which the genes, how the matrix was oriented, which
+	// first lines were taken for headers.
+	Notes []string
 }
 
 // JoinReport says how the rows of an annotation table matched the cells of a

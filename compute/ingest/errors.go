@@ -17,6 +17,8 @@ var (
 	ErrFieldCount     = errors.New("wrong number of fields")                 // ragged row, short entry line
 	ErrNotNumber      = errors.New("not a number")                           // in a numeric field
 	ErrNotFinite      = errors.New("not a finite number")                    // NaN, ±Inf, beyond float32
+	ErrMagnitude      = errors.New("number too large")                       // a table value beyond ±atlas.MaxMagnitude
+	ErrNegative       = errors.New("negative value")                         // in an expression table
 	ErrHeader         = errors.New("bad header")                             // Matrix Market banner, table header
 	ErrSizeLine       = errors.New("bad size line")                          // Matrix Market "rows cols entries"
 	ErrUnsupported    = errors.New("not supported")                          // array, pattern, complex, symmetric …
@@ -27,12 +29,15 @@ var (
 	ErrQuote          = errors.New("bad quoting")                            // unclosed quote, text after one
 	ErrTruncated      = errors.New("compressed data ends early")             // cut gzip stream
 	ErrCorrupt        = errors.New("compressed data is damaged")             // gzip checksum or inflate error
+	ErrTrailingData   = errors.New("data after the compressed stream")       // bytes after the last gzip member
 	ErrBlankLabel     = errors.New("blank label")                            // empty ID or blank line
 	ErrBadLabel       = errors.New("label holds a tab or line break")        // cannot be written
 	ErrDuplicateID    = errors.New("duplicate ID")                           // a cell ID twice
 	ErrLabelCount     = errors.New("label count matches no matrix dimension")
-	ErrNoMatch        = errors.New("no row matches a cell") // annotation table
-	ErrAmbiguous      = errors.New("ambiguous files")       // Open cannot choose
+	ErrLabelRole      = errors.New("label file given for the other dimension") // a genes file given as cells
+	ErrNoMatch        = errors.New("no row matches a cell")                    // annotation table
+	ErrAmbiguous      = errors.New("ambiguous files")                          // Open cannot choose
+	ErrNotRegular     = errors.New("not a regular file")                       // a pipe or device where a file is read twice
 	ErrNothingToRead  = errors.New("no matrix or table found")
 )
 
@@ -71,7 +76,8 @@ func errorf(file string, line, col int, sentinel error, format string, args ...a
 
 // readError turns an error from reading the underlying (possibly compressed)
 // stream into a ParseError at the given line: a gzip stream that stops early
-// becomes ErrTruncated, damaged compressed data ErrCorrupt.
+// becomes ErrTruncated, damaged compressed data ErrCorrupt; bytes after the
+// end of the compressed data keep their ErrTrailingData.
 func readError(file string, line int, err error) error {
 	var corrupt flate.CorruptInputError
 	switch {

@@ -456,3 +456,38 @@ func TestReadMatrixMarketCancelWhileReading(t *testing.T) {
 		cancel()
 	}
 }
+
+func TestGzipTrailingDataIsNamedAsSuch(t *testing.T) {
+	text := []byte(mtxText(cellsByGenes, false))
+	two := append(gz(t, text[:40]), gz(t, text[40:])...) // two members: one file (RFC 1952, 2.2)
+	cases := []struct {
+		name  string
+		data  []byte
+		err   error
+		bytes string
+	}{
+		{"garbage", append(gz(t, text), "garbage\n"...), ErrTrailingData, "8 bytes"},
+		{"random", append(gz(t, text), 0x55, 0x1f, 0x00, 0x10, 0x20, 0x30, 0x40, 0x50, 0x60, 0x70, 0x80, 0x90), ErrTrailingData, "12 bytes"},
+		{"zero padding", append(gz(t, text), make([]byte, 512)...), nil, ""},
+		{"two members", two, nil, ""},
+		{"cut", gz(t, text)[:30], ErrTruncated, ""},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			m, err := ReadMatrixMarket(bg, bytes.NewReader(c.data), "m.mtx.gz", MatrixOptions{})
+			if c.err == nil {
+				if err != nil {
+					t.Fatal(err)
+				}
+				float32Equal(t, dense(m), cellsByGenes)
+				return
+			}
+			if !errors.Is(err, c.err) || !strings.Contains(err.Error(), "m.mtx.gz") || !strings.Contains(err.Error(), c.bytes) {
+				t.Fatalf("error %v, want %v naming the file and %q", err, c.err, c.bytes)
+			}
+			if c.err == ErrTrailingData && !strings.Contains(err.Error(), "follow the end of the compressed stream") {
+				t.Fatalf("message %q", err)
+			}
+		})
+	}
+}

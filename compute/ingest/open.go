@@ -1,11 +1,12 @@
 package ingest
 
 import (
+	"bytes"
 	"context"
 	"fmt"
+	"io/fs"
 	"os"
 	"path/filepath"
-	"sort"
 	"strings"
 
 	"lodestone/compute/atlas"
@@ -16,19 +17,46 @@ import (
 type Options struct {
 	// Cells and Genes name label files listing the cells and the genes of
 	// a Matrix Market file. Either may be empty; missing ones are looked
-	// for beside the matrix.
+	// for beside the matrix. A file given must list exactly as many names
+	// as the matrix has rows or columns.
 	Cells, Genes string
+	// CellsHeader and GenesHeader say whether the first lines of the
+	// files given as Cells and Genes are headers; HeaderAuto (the zero
+	// value) decides by the line's content (see Open).
+	CellsHeader, GenesHeader Header
+	// MatrixRows says what the Matrix Market file's rows list: RowsCells
+	// or RowsGenes; RowsAuto (the zero value) decides from the label files
+	// (see Open).
+	MatrixRows string
 	// Annotations names a table of per-cell annotations to join to the
 	// cells. When empty, one is looked for beside the matrix or table.
 	Annotations string
 	// Progress receives the bytes read so far out of the total size on
 	// disk (compressed size for gzip files) of all files Open reads.
 	Progress progress.Func
-	// Note, when not nil, receives one sentence for each choice Open makes
-	// on its own: which file it took for what, how it oriented the
-	// matrix, which first lines it took for headers.
+	// Note, when not nil, receives one sentence for each choice Open makes:
+	// which file gave the cells and which the genes, how it oriented the
+	// matrix, which first lines it took for headers, which annotations it
+	// joined. The same sentences are kept in the dataset's Notes.
 	Note func(string)
 }
+
+// Header says whether a label file starts with a header line.
+type Header int
+
+// Header lines of label files.
+const (
+	HeaderAuto  Header = iota // decided by the first line's content (see Open)
+	HeaderNone                // every line is a label
+	HeaderFirst               // the first line is a header
+)
+
+// What a Matrix Market file's rows list (Options.MatrixRows).
+const (
+	RowsAuto  = ""      // decided from the label files
+	RowsCells = "cells" // the rows are cells: the file is cells × genes
+	RowsGenes = "genes" // the rows are genes: the file is genes × cells
+)
 
 // Open reads the atlas at path into memory. path may be
 //
@@ -41,28 +69,48 @@ type Options struct {
 //     table, whatever the files are called.
 //
 // Files are recognised by their contents. Hidden files, empty files and
-// binary files (a NUL byte near the start) are ignored.
+// binary files (a NUL byte near the start) are ignored. The files Open reads
+// must be regular files (ErrNotRegular), except an annotation table given in
+// Options, which may be a pipe.
 //
-// Label files. A label file (see ReadLabels) fits a dimension of the matrix
-// when its count of non-blank lines equals it, or exceeds it by one; in
-// that case its first line is taken as a header and left out. Among the
-// files that fit a dimension, those that fit exactly come first; among
-// those with a header line, those with fewer tab-separated fields; then
-// those whose first line holds no comma; then those whose name shares the
-// longest start with the matrix file's name. A tie for first place is an
-// error (ErrAmbiguous) naming the files. No file fitting a dimension is an
-// error (ErrLabelCount) listing the line counts found.
+// Label files. A label file (see ReadLabels) lists one name per line. Its
+// first line is a header, never counted as a name, when it starts with '#'
+// or its first field is a column name: one of id, name, label, index, cell,
+// cell_id, cell_name, barcode, cell_barcode, gene, gene_id, gene_name,
+// gene_symbol, symbol, feature, feature_id, feature_name, or their plurals
+// (any case, '-', '.' or ' ' for '_', quoted or not); for the files given in
+// Options, CellsHeader and GenesHeader may say otherwise. The line count
+// never decides it. A label file lists exactly as many names as the matrix
+// has rows or columns; a file given in Options that does not is an error
+// (ErrLabelCount) naming it, its count and the matrix's dimensions.
+//
+// Label files not given are looked for among the other text files beside
+// the matrix. The candidates for a dimension of n are the files listing n
+// names, none holding a space, that are not CSV tables (a first line with a
+// comma and no tab). Candidates that list the same names count as one: a
+// copy, or a table with a header row naming two or more columns (say, of
+// annotations) listing them in any order beside a plain list, which is
+// taken. Two candidates listing different names are an error
+// (ErrAmbiguous) naming them; none is an error (ErrLabelCount) listing the
+// files seen and their line counts.
 //
 // Orientation. The counts are stored as cells × genes. Which of the two
-// label files lists the genes is decided by the first rule that tells
-// them apart:
+// label files lists the genes, and so which way the matrix is read, is
+// decided by the first rule that tells:
 //
-//  1. the files given in Options;
+//  1. Options: the files given as Cells and Genes, and MatrixRows (a file
+//     whose name says "gene" or "feature" given as Cells, or "cell" or
+//     "barcode" given as Genes, is an error, ErrLabelRole);
 //  2. the file whose lines have a second tab-separated field (a symbol);
 //  3. the file whose name holds "gene" or "feature" rather than "cell" or
 //     "barcode";
 //  4. the file whose first ID looks like a nucleotide barcode lists cells;
 //  5. otherwise the matrix's rows are genes, as most exports write them.
+//
+// For a square matrix rules 2 to 4 tell only which file lists the genes
+// (nothing telling is ErrAmbiguous), and the rows are genes unless
+// MatrixRows says otherwise. Every choice is reported (Options.Note,
+// Dataset.Notes): which file gave the cells and which the genes, and why.
 //
 // Gene symbols are the genes file's second field where present, else the
 // IDs. Cell IDs must be distinct (ErrDuplicateID).
@@ -83,6 +131,11 @@ func Open(ctx context.Context, path string, opt Options) (*atlas.Dataset, error)
 	if err != nil {
 		return nil, err
 	}
+	if !fi.IsDir() {
+		if err := checkRegular(path, "matrix or table"); err != nil {
+			return nil, err
+		}
+	}
 	var pl *plan
 	if fi.IsDir() {
 		pl, err = planFolder(ctx, path, opt)
@@ -96,6 +149,7 @@ func Open(ctx context.Context, path string, opt Options) (*atlas.Dataset, error)
 	if err != nil {
 		return nil, err
 	}
+	ds.Notes = pl.notes
 	if opt.Note != nil {
 		for _, n := range pl.notes {
 			opt.Note(n)
@@ -112,11 +166,9 @@ type plan struct {
 	matrix      string
 	table       string
 	header      MatrixHeader
-	cells       *probe
+	cells       *probe // the label files and whether they have a header
 	genes       *probe
-	cellsHeader bool
-	genesHeader bool
-	cellLabels  *Labels // read while planning, or nil
+	cellLabels  *Labels // read while planning (without the header), or nil
 	transpose   bool    // the matrix file is genes × cells
 	annotations string
 	notes       []string
@@ -277,41 +329,47 @@ func (pl *plan) planMatrix(ctx context.Context, files []*probe, opt Options) err
 	}
 	pl.header = h
 	limit := max(h.Rows, h.Cols) + 1
-	given := func(path string) (*probe, error) {
+	given := func(path string, hd Header) (*probe, error) {
 		if path == "" {
 			return nil, nil
+		}
+		if err := checkRegular(path, "label file"); err != nil {
+			return nil, err
 		}
 		p, err := sniff(ctx, path)
 		if err != nil {
 			return nil, err
 		}
+		p.header = hd == HeaderFirst || (hd == HeaderAuto && isLabelHeader(p.first))
 		return p, p.count(ctx, limit)
 	}
-	if pl.cells, err = given(opt.Cells); err != nil {
+	if pl.cells, err = given(opt.Cells, opt.CellsHeader); err != nil {
 		return err
 	}
-	if pl.genes, err = given(opt.Genes); err != nil {
+	if pl.genes, err = given(opt.Genes, opt.GenesHeader); err != nil {
 		return err
 	}
-	var cands []*probe
+	var seen []*probe
 	for _, p := range files {
-		if p.matrix {
-			continue
+		if p.matrix || (p.sep == ',' && bytes.IndexByte(p.first, '\t') < 0) {
+			continue // CSV tables are never label files
 		}
+		p.header = isLabelHeader(p.first)
 		if err := p.count(ctx, limit); err != nil {
 			return err
 		}
-		if fits(p.lines, h.Rows) || fits(p.lines, h.Cols) {
-			cands = append(cands, p)
-		}
+		seen = append(seen, p)
 	}
-	if err := pl.chooseLabels(cands); err != nil {
+	if err := pl.chooseLabels(seen, opt); err != nil {
 		return err
 	}
 	// Read the cells now: the annotation tables are recognised by them.
 	l, err := readLabelsFile(ctx, pl.cells.path, nil)
 	if err != nil {
 		return err
+	}
+	if pl.cells.header {
+		l.dropFirst()
 	}
 	pl.cellLabels = l
 	var rest []*probe
@@ -329,193 +387,291 @@ func (pl *plan) planMatrix(ctx context.Context, files []*probe, opt Options) err
 	}, opt)
 }
 
-// fits reports whether a file of lines non-blank lines can label a
-// dimension of n: exactly, or with one header line.
-func fits(lines, n int) bool { return lines == n || lines == n+1 }
-
-// ranker orders candidate label files for a dimension.
-type ranker struct {
-	cands []*probe
-	path  string // the matrix file
-	mname string // its name
-	h     MatrixHeader
-}
-
-// key is the sort key of p as a label file for n: exact fits first; among
-// files with a header line, those with fewer tab-separated fields (a table
-// of annotations has a header line too); then files without commas on
-// their first line; then those sharing the longest start with the matrix's
-// name.
-func (r *ranker) key(p *probe, n int) [4]int {
-	k := [4]int{0, 0, 0, -commonPrefix(p.name(), r.mname)}
-	if p.lines != n {
-		k[0] = 1
-		k[1] = min(p.fields, 3)
+// checkRegular refuses a path that is not a regular file (a pipe, a
+// device): the readers look at a file before reading it.
+func checkRegular(path, what string) error {
+	fi, err := os.Stat(path)
+	if err != nil {
+		return err
 	}
-	if p.sep == ',' {
-		k[2] = 1
-	}
-	return k
-}
-
-// rank returns the candidates other than skip that fit n, best first.
-func (r *ranker) rank(n int, skip *probe) []*probe {
-	var out []*probe
-	for _, p := range r.cands {
-		if p != skip && fits(p.lines, n) {
-			out = append(out, p)
+	if !fi.Mode().IsRegular() {
+		kind := "not a regular file"
+		switch m := fi.Mode(); {
+		case m.IsDir():
+			kind = "a folder"
+		case m&fs.ModeNamedPipe != 0:
+			kind = "a pipe"
+		case m&fs.ModeDevice != 0:
+			kind = "a device"
 		}
+		return fmt.Errorf("ingest: %s: %w: it is %s, and a %s is read more than once; save it to a file first", path, ErrNotRegular, kind, what)
 	}
-	sort.SliceStable(out, func(a, b int) bool {
-		ka, kb := r.key(out[a], n), r.key(out[b], n)
-		for i := range ka {
-			if ka[i] != kb[i] {
-				return ka[i] < kb[i]
+	return nil
+}
+
+// describe says what was found of a possible label file, for messages.
+func describe(p *probe) string {
+	s := fmt.Sprintf("%s (%d lines", p.name(), p.lines)
+	if p.header {
+		s += fmt.Sprintf(", the first a header %s", quote(p.first))
+	}
+	if p.spaced {
+		s += ", IDs with spaces"
+	}
+	return s + ")"
+}
+
+// labelTable reports whether p, a possible label file, is rather a table:
+// a header line naming two or more columns.
+func labelTable(p *probe) bool { return p.header && p.fields >= 2 }
+
+// pick returns the label files for a dimension of n among seen, other than
+// those listing the same IDs as skip: want is 1, or 2 for a square matrix.
+//
+// The candidates are the files whose labels number n and whose IDs hold no
+// space. Candidates listing the same IDs count as one: a file in the same
+// order, or a table with a header row (say, of annotations) listing them in
+// any order beside a plain list. Fewer than want candidates is
+// ErrLabelCount, more is ErrAmbiguous; both name the files.
+func (pl *plan) pick(seen []*probe, n int, skip *probe, want int) ([]*probe, error) {
+	var groups [][]*probe // candidates by the set of their IDs
+	for _, p := range seen {
+		if p.labels() != n || p.spaced || (skip != nil && p.set == skip.set) {
+			continue
+		}
+		k := 0
+		for k < len(groups) && groups[k][0].set != p.set {
+			k++
+		}
+		if k == len(groups) {
+			groups = append(groups, nil)
+		}
+		groups[k] = append(groups[k], p)
+	}
+	h := pl.header
+	if len(groups) < want {
+		var found []string
+		for _, p := range seen {
+			if skip == nil || p != skip {
+				found = append(found, describe(p))
 			}
 		}
-		return false
-	})
-	return out
-}
-
-// pick returns the best file for n, other than skip; want is 1 or 2 (two
-// files for a square matrix).
-func (r *ranker) pick(n int, skip *probe, want int) ([]*probe, error) {
-	out := r.rank(n, skip)
-	if len(out) < want {
-		var seen []string
-		for _, p := range r.cands {
-			seen = append(seen, fmt.Sprintf("%s (%d lines)", p.name(), p.lines))
-		}
 		what := "no other text files"
-		if len(seen) > 0 {
-			what = strings.Join(seen, ", ")
+		if len(found) > 0 {
+			what = strings.Join(found, ", ")
 		}
-		return nil, fmt.Errorf("ingest: %s: %w: want %d label file(s) of %d lines (the matrix is %d × %d); found %s", r.path, ErrLabelCount, want, n, r.h.Rows, r.h.Cols, what)
+		return nil, fmt.Errorf("ingest: %s: %w: want %d label file(s) listing %d names without spaces, one per line (the matrix is %d × %d); found %s; name the label files",
+			pl.matrix, ErrLabelCount, want, n, h.Rows, h.Cols, what)
 	}
-	if len(out) > want && r.key(out[want-1], n) == r.key(out[want], n) {
-		tied := want + 1
-		for tied < len(out) && r.key(out[tied], n) == r.key(out[want], n) {
-			tied++
+	var out []*probe
+	for _, g := range groups {
+		// A plain list labels; a table listing the same IDs annotates.
+		var lists []*probe
+		for _, p := range g {
+			if !labelTable(p) {
+				lists = append(lists, p)
+			}
 		}
-		return nil, fmt.Errorf("ingest: %s: %w: %d files could label a dimension of %d (%s); name the label files", r.path, ErrAmbiguous, tied, n, names(out[:tied]))
+		if len(lists) == 0 {
+			lists = g
+		}
+		best := lists[0]
+		for _, p := range lists[1:] {
+			if p.order != best.order {
+				return nil, fmt.Errorf("ingest: %s: %w: %s and %s list the same %d names in different orders; name the label file", pl.matrix, ErrAmbiguous, best.name(), p.name(), n)
+			}
+			if p.fields > best.fields { // the one with symbols
+				best = p
+			}
+		}
+		out = append(out, best)
 	}
-	return out[:want], nil
+	if len(out) > want {
+		var all []*probe
+		for _, g := range groups {
+			all = append(all, g...)
+		}
+		return nil, fmt.Errorf("ingest: %s: %w: %d files list %d different names each (%s), and the matrix has %d × %d; name the label files",
+			pl.matrix, ErrAmbiguous, len(all), n, names(all), h.Rows, h.Cols)
+	}
+	return out, nil
 }
 
-// chooseLabels picks the cells and genes files not given among cands and
-// decides the orientation.
-func (pl *plan) chooseLabels(cands []*probe) error {
+// chooseLabels decides the cells and genes files (those given, the others
+// picked among seen) and the orientation.
+func (pl *plan) chooseLabels(seen []*probe, opt Options) error {
 	h := pl.header
-	r := &ranker{cands: cands, path: pl.matrix, mname: filepath.Base(pl.matrix), h: h}
-	for _, g := range []*probe{pl.cells, pl.genes} {
-		if g != nil && !fits(g.lines, h.Rows) && !fits(g.lines, h.Cols) {
-			return fmt.Errorf("ingest: %s: %w: %d lines, the matrix is %d × %d", g.path, ErrLabelCount, g.lines, h.Rows, h.Cols)
+	r, c := h.Rows, h.Cols
+	mname := filepath.Base(pl.matrix)
+	square := r == c
+	for _, x := range []struct {
+		p    *probe
+		what string
+		hint int
+	}{{pl.cells, "cells", -1}, {pl.genes, "genes", 1}} {
+		if x.p == nil {
+			continue
 		}
+		if n := x.p.labels(); n != r && n != c {
+			return pl.misfit(x.p, x.what)
+		}
+		if hint := nameHint(x.p.path); hint == -x.hint {
+			other := map[int]string{1: "gene", -1: "cell"}[hint]
+			return fmt.Errorf("ingest: %s: %w: given as the %s labels, but its name says it lists %ss; give it as the %s labels, or rename it", x.p.path, ErrLabelRole, x.what[:len(x.what)-1], other, other)
+		}
+	}
+	// rowsAre: what the matrix's rows list, when the option or the files
+	// decide it; why says how.
+	rowsAre, why := opt.MatrixRows, "as asked"
+	switch rowsAre {
+	case RowsAuto, RowsCells, RowsGenes:
+	default:
+		return fmt.Errorf("ingest: MatrixRows = %q: want %q or %q", rowsAre, RowsCells, RowsGenes)
+	}
+	fix := func(are, reason string) error {
+		if rowsAre != RowsAuto && rowsAre != are {
+			return fmt.Errorf("ingest: %s: %w: its rows cannot be %s: %s", pl.matrix, ErrLabelCount, rowsAre, reason)
+		}
+		if rowsAre == RowsAuto {
+			rowsAre, why = are, reason
+		}
+		return nil
 	}
 	switch {
 	case pl.cells != nil && pl.genes != nil:
+		nc, ng := pl.cells.labels(), pl.genes.labels()
+		cellsRows, genesRows := nc == r && ng == c, nc == c && ng == r
+		switch {
+		case !cellsRows && !genesRows:
+			return fmt.Errorf("ingest: %s: %w: the cell labels %s list %d names and the gene labels %s %d; the matrix is %d × %d, so one of them must list %d and the other %d",
+				pl.matrix, ErrLabelCount, pl.cells.path, nc, pl.genes.path, ng, r, c, r, c)
+		case !square && cellsRows:
+			if err := fix(RowsCells, fmt.Sprintf("it has %d rows, as many as the cells", r)); err != nil {
+				return err
+			}
+		case !square:
+			if err := fix(RowsGenes, fmt.Sprintf("it has %d rows, as many as the genes", r)); err != nil {
+				return err
+			}
+		}
 	case pl.cells != nil || pl.genes != nil:
-		known := pl.cells
+		known, isCells := pl.cells, true
 		if known == nil {
-			known = pl.genes
+			known, isCells = pl.genes, false
 		}
-		n := h.Cols // the dimension the known file leaves
-		if !fits(known.lines, h.Rows) || (fits(known.lines, h.Cols) && known.lines != h.Rows) {
-			n = h.Rows
+		n := known.labels()
+		what := map[bool]string{true: RowsCells, false: RowsGenes}
+		if !square {
+			if n == r {
+				if err := fix(what[isCells], fmt.Sprintf("%s lists %d names, as many as the rows", known.name(), n)); err != nil {
+					return err
+				}
+			} else if err := fix(what[!isCells], fmt.Sprintf("%s lists %d names, as many as the columns", known.name(), n)); err != nil {
+				return err
+			}
 		}
-		other, err := r.pick(n, known, 1)
+		m := r
+		if n == r {
+			m = c
+		}
+		found, err := pl.pick(seen, m, known, 1)
 		if err != nil {
 			return err
 		}
-		if pl.cells == nil {
-			pl.cells = other[0]
+		if isCells {
+			pl.genes = found[0]
 		} else {
-			pl.genes = other[0]
+			pl.cells = found[0]
 		}
 	default:
-		var a, b *probe // a labels the rows when the matrix is not square
-		if h.Rows == h.Cols {
-			two, err := r.pick(h.Rows, nil, 2)
+		var a, b *probe // a labels the rows
+		if square {
+			two, err := pl.pick(seen, r, nil, 2)
 			if err != nil {
 				return err
 			}
 			a, b = two[0], two[1]
 		} else {
-			rows, err := r.pick(h.Rows, nil, 1)
+			rows, err := pl.pick(seen, r, nil, 1)
 			if err != nil {
 				return err
 			}
-			cols, err := r.pick(h.Cols, rows[0], 1)
+			cols, err := pl.pick(seen, c, rows[0], 1)
 			if err != nil {
 				return err
 			}
 			a, b = rows[0], cols[0]
 		}
-		aGenes, why := whichGenes(a, b)
-		if !aGenes {
-			a, b = b, a
+		aGenes, reason, told := whichGenes(a, b)
+		switch {
+		case square && !told:
+			return fmt.Errorf("ingest: %s: %w: %s and %s both list %d names and nothing tells which lists the genes; name the label files", pl.matrix, ErrAmbiguous, a.name(), b.name(), r)
+		case square:
+			// The rules told which file lists the genes; the orientation
+			// of a square matrix is MatrixRows's or the default below.
+		case rowsAre != RowsAuto:
+			aGenes, reason = rowsAre == RowsGenes, "as asked"
+		default:
+			rowsAre, why = map[bool]string{true: RowsGenes, false: RowsCells}[aGenes], reason
 		}
 		pl.genes, pl.cells = a, b
-		pl.note("Took %s for the genes and %s for the cells: %s.", a.name(), b.name(), why)
-	}
-	nc, ng := pl.cells.lines, pl.genes.lines
-	genesRows := fits(ng, h.Rows) && fits(nc, h.Cols)
-	cellsRows := fits(nc, h.Rows) && fits(ng, h.Cols)
-	switch {
-	case !genesRows && !cellsRows:
-		return fmt.Errorf("ingest: %s: %w: %s has %d lines and %s %d, the matrix is %d × %d", r.path, ErrLabelCount, pl.cells.name(), nc, pl.genes.name(), ng, h.Rows, h.Cols)
-	case genesRows && cellsRows:
-		// Square, or a header line makes both fit: prefer exact fits,
-		// else rows are genes.
-		genesExact := ng == h.Rows && nc == h.Cols
-		cellsExact := nc == h.Rows && ng == h.Cols
-		pl.transpose = genesExact || !cellsExact
-		if genesExact == cellsExact {
-			pl.note("Both orientations fit %s: its rows are taken to be genes.", r.mname)
+		if !aGenes {
+			pl.genes, pl.cells = b, a
 		}
-	default:
-		pl.transpose = genesRows
+		if square {
+			pl.note("Took %s for the genes and %s for the cells: %s.", pl.genes.name(), pl.cells.name(), reason)
+		}
 	}
-	pl.cellsHeader = nc == pl.dim(false)+1
-	pl.genesHeader = ng == pl.dim(true)+1
+	if rowsAre == RowsAuto {
+		// Square, and nothing tells: rows are genes, as most exports write them.
+		rowsAre, why = RowsGenes, "it is square; its rows are taken to be genes, as most exports write them"
+	}
+	pl.transpose = rowsAre == RowsGenes
+	for _, x := range []*probe{pl.cells, pl.genes} {
+		if x.header {
+			pl.note("Took the first line of %s, %s, for a header.", x.name(), quote(x.first))
+		}
+	}
+	orient := "cells × genes"
 	if pl.transpose {
-		pl.note("Read %s as genes × cells.", r.mname)
-	} else {
-		pl.note("Read %s as cells × genes.", r.mname)
+		orient = "genes × cells"
 	}
-	for _, x := range []struct {
-		p  *probe
-		on bool
-	}{{pl.cells, pl.cellsHeader}, {pl.genes, pl.genesHeader}} {
-		if x.on {
-			pl.note("Took the first line of %s, %s, for a header.", x.p.name(), quote(x.p.first))
+	from := func(p *probe, given string) string {
+		how := "given"
+		if given == "" {
+			how = "found beside it"
 		}
+		return fmt.Sprintf("%s (%d, %s)", p.name(), p.labels(), how)
 	}
+	pl.note("Read %s as %s (%s): cells from %s, genes from %s.", mname, orient, why, from(pl.cells, opt.Cells), from(pl.genes, opt.Genes))
 	return nil
 }
 
-// whichGenes applies rules 2 to 5 of Open to two label files, a labelling
-// the matrix's rows when it is not square: it reports whether a (rather
-// than b) lists the genes, and why.
-func whichGenes(a, b *probe) (bool, string) {
-	switch {
-	case (a.fields >= 2) != (b.fields >= 2):
-		return a.fields >= 2, "the genes file's lines have a second field"
-	case nameHint(a.path) != nameHint(b.path):
-		return nameHint(a.path) > nameHint(b.path), "their names say so"
-	case looksLikeBarcode(firstID(a)) != looksLikeBarcode(firstID(b)):
-		return looksLikeBarcode(firstID(b)), "the cells file's IDs look like barcodes"
+// misfit is the error for a given label file whose labels number neither
+// dimension of the matrix.
+func (pl *plan) misfit(p *probe, what string) error {
+	h := pl.header
+	head := fmt.Sprintf("its first line %s is not a column name, so no header was taken", quote(p.first))
+	if p.header {
+		head = fmt.Sprintf("its first line %s was taken for a header", quote(p.first))
 	}
-	return true, "nothing tells them apart, so the matrix's rows are taken to be genes, as most exports write them"
+	return fmt.Errorf("ingest: %s: %w: %d %s labels on %d lines (%s), but the matrix %s has %d rows and %d columns; a label file lists exactly one name per row or per column",
+		p.path, ErrLabelCount, p.labels(), what[:len(what)-1], p.lines, head, filepath.Base(pl.matrix), h.Rows, h.Cols)
 }
 
-// dim returns the number of genes (genes true) or cells the matrix holds.
-func (pl *plan) dim(genes bool) int {
-	if genes == pl.transpose {
-		return pl.header.Rows
+// whichGenes applies rules 2 to 5 of Open to two label files, a labelling
+// the matrix's rows: it reports whether a (rather than b) lists the genes,
+// why, and whether the files told (rules 2 to 4) rather than the default.
+func whichGenes(a, b *probe) (bool, string, bool) {
+	switch {
+	case (a.fields >= 2) != (b.fields >= 2):
+		return a.fields >= 2, "the genes file's lines have a second field", true
+	case nameHint(a.path) != nameHint(b.path):
+		return nameHint(a.path) > nameHint(b.path), "their names say so", true
+	case looksLikeBarcode(firstID(a)) != looksLikeBarcode(firstID(b)):
+		return looksLikeBarcode(firstID(b)), "the cells file's IDs look like barcodes", true
 	}
-	return pl.header.Cols
+	return true, "nothing tells them apart, so the matrix's rows are taken to be genes, as most exports write them", false
 }
 
 // firstID returns the first field of a file's first line.
@@ -594,6 +750,9 @@ func (pl *plan) loadMatrix(ctx context.Context, ds *atlas.Dataset, c *byteCounte
 		if cells, err = readLabelsFile(ctx, pl.cells.path, c); err != nil {
 			return err
 		}
+		if pl.cells.header {
+			cells.dropFirst()
+		}
 	} else {
 		c.skip(sizes[pl.cells.path])
 	}
@@ -601,13 +760,12 @@ func (pl *plan) loadMatrix(ctx context.Context, ds *atlas.Dataset, c *byteCounte
 	if err != nil {
 		return err
 	}
-	first := 1
-	if pl.cellsHeader {
-		cells.dropFirst()
-		first = 2
-	}
-	if pl.genesHeader {
+	if pl.genes.header {
 		genes.dropFirst()
+	}
+	first := 1
+	if pl.cells.header {
+		first = 2
 	}
 	if err := checkUnique(cells.IDs, pl.cells.path, first); err != nil {
 		return err

@@ -108,7 +108,7 @@ func TestOpenFolder(t *testing.T) {
 		t.Errorf("sample column %+v", s)
 	}
 	joined := strings.Join(notes, " | ")
-	for _, w := range []string{"genes × cells", "two.txt for the genes", "meta.csv"} {
+	for _, w := range []string{"genes × cells", "genes from two.txt (4, found beside it)", "cells from one.txt (6, found beside it)", "meta.csv"} {
 		if !strings.Contains(joined, w) {
 			t.Errorf("notes %q do not mention %q", joined, w)
 		}
@@ -242,7 +242,7 @@ func TestOpenSquare(t *testing.T) {
 	if !reflect.DeepEqual(ds.CellIDs, []string{"x", "y"}) || !reflect.DeepEqual(ds.GeneSymbols, []string{"A", "B"}) {
 		t.Errorf("cells %q symbols %q", ds.CellIDs, ds.GeneSymbols)
 	}
-	if !strings.Contains(strings.Join(notes, " "), "Both orientations fit") {
+	if !strings.Contains(strings.Join(notes, " "), "it is square; its rows are taken to be genes") {
 		t.Errorf("notes %q", notes)
 	}
 }
@@ -282,11 +282,12 @@ func TestOpenErrors(t *testing.T) {
 		msg   string      // part of the message
 	}{
 		{"two matrices", map[string]string{"a.mtx": mtx, "b.mtx": mtx, "c": barcodes, "g": geneLines}, "", nil, ErrAmbiguous, nil, "2 Matrix Market files (a.mtx, b.mtx)"},
-		{"no labels", map[string]string{"a.mtx": mtx, "c": "x\ny\n"}, "", nil, ErrLabelCount, nil, "want 1 label file(s) of 4 lines (the matrix is 4 × 6); found no other text files"},
+		{"no labels", map[string]string{"a.mtx": mtx, "c": "x\ny\n"}, "", nil, ErrLabelCount, nil, "want 1 label file(s) listing 4 names without spaces, one per line (the matrix is 4 × 6); found c (2 lines)"},
 		{"one label file", map[string]string{"a.mtx": mtx, "c": barcodes}, "", nil, ErrLabelCount, nil, "found c (6 lines)"},
-		{"two gene files", map[string]string{"a.mtx": mtx, "c": barcodes, "g1": geneLines, "g2": geneLines}, "", nil, ErrAmbiguous, nil, "2 files could label a dimension of 4 (g1, g2)"},
+		{"two gene files", map[string]string{"a.mtx": mtx, "c": barcodes, "g1": geneLines, "g2": geneNames}, "", nil, ErrAmbiguous, nil, "2 files list 4 different names each (g1, g2)"},
+		{"one list in two orders", map[string]string{"a.mtx": mtx, "c": barcodes, "g1": geneNames, "g2": "MS4A1\nCD3E\nLYZ\nNKG7\n"}, "", nil, ErrAmbiguous, nil, "g1 and g2 list the same 4 names in different orders"},
 		{"explicit labels of the wrong size", map[string]string{"a.mtx": mtx, "c": barcodes, "g": geneLines, "x": "1\n2\n3\n"}, "a.mtx",
-			func(dir string) Options { return Options{Cells: filepath.Join(dir, "x")} }, ErrLabelCount, nil, "x: label count matches no matrix dimension: 3 lines, the matrix is 4 × 6"},
+			func(dir string) Options { return Options{Cells: filepath.Join(dir, "x")} }, ErrLabelCount, nil, `x: label count matches no matrix dimension: 3 cell labels on 3 lines (its first line "1" is not a column name, so no header was taken), but the matrix a.mtx has 4 rows and 6 columns`},
 		{"duplicate cells", map[string]string{"a.mtx": mtx, "c": "A\nB\nC\nD\nB\nF\n", "g": geneLines}, "", nil, ErrDuplicateID, &ParseError{File: "c", Line: 5, Column: 1}, `cell ID "B" already on line 2`},
 		{"nothing", map[string]string{"readme": "hello\n"}, "", nil, ErrNothingToRead, nil, "no numeric table among 1 files (readme)"},
 		{"two tables", map[string]string{"a.csv": "c,x\nr,1\n", "b.csv": "c,y\nr,2\n"}, "", nil, ErrAmbiguous, nil, "2 numeric tables (a.csv, b.csv)"},
@@ -339,5 +340,142 @@ func TestOpenCancelled(t *testing.T) {
 	cancel()
 	if ds, err := Open(ctx, dir, Options{}); ds != nil || !errors.Is(err, context.Canceled) {
 		t.Errorf("error %v, want context.Canceled", err)
+	}
+}
+
+func TestOpenNeverTakesAHeaderFromTheLineCount(t *testing.T) {
+	mtx := mtxText(cellsByGenes, true) // 4 genes × 6 cells
+	genes := strings.Fields(geneNames)
+	t.Run("explicit file one line too long", func(t *testing.T) {
+		// The first line is a cell, not a column name: refused, not
+		// dropped (which would shift every ID by one).
+		dir := writeFiles(t, map[string]string{"m.mtx": mtx, "r.tsv": barcodes + "extra\n", "g.tsv": geneNames})
+		ds, err := Open(bg, filepath.Join(dir, "m.mtx"), Options{Cells: filepath.Join(dir, "r.tsv")})
+		if ds != nil || !errors.Is(err, ErrLabelCount) {
+			t.Fatalf("dataset %v, error %v", ds != nil, err)
+		}
+		for _, w := range []string{filepath.Join(dir, "r.tsv"), "7 cell labels on 7 lines", `"AAACCTGA-1" is not a column name`, "4 rows and 6 columns"} {
+			if !strings.Contains(err.Error(), w) {
+				t.Errorf("message %q does not say %q", err, w)
+			}
+		}
+	})
+	t.Run("found file one line too long", func(t *testing.T) {
+		dir := writeFiles(t, map[string]string{"m.mtx": mtx, "cells.tsv": barcodes + "extra\n", "genes.tsv": geneNames})
+		_, err := Open(bg, dir, Options{})
+		if !errors.Is(err, ErrLabelCount) || !strings.Contains(err.Error(), "cells.tsv (7 lines)") || !strings.Contains(err.Error(), "listing 6 names") {
+			t.Fatalf("error %v", err)
+		}
+	})
+	headers := []struct {
+		name, first string
+		opt         Header
+		ok          bool
+	}{
+		{"column name", "barcode", HeaderAuto, true},
+		{"quoted column name", `"Cell ID"`, HeaderAuto, true},
+		{"comment", "# cells of run 3", HeaderAuto, true},
+		{"said so", "whatever", HeaderFirst, true},
+		{"said not", "barcode", HeaderNone, false},
+		{"not a column name", "whatever", HeaderAuto, false},
+	}
+	for _, h := range headers {
+		t.Run("header: "+h.name, func(t *testing.T) {
+			dir := writeFiles(t, map[string]string{"m.mtx": mtx, "c.tsv": h.first + "\n" + barcodes, "g.tsv": geneNames})
+			var notes []string
+			ds, err := Open(bg, filepath.Join(dir, "m.mtx"), Options{Cells: filepath.Join(dir, "c.tsv"), CellsHeader: h.opt,
+				Note: func(s string) { notes = append(notes, s) }})
+			if !h.ok {
+				if !errors.Is(err, ErrLabelCount) || !strings.Contains(err.Error(), "7 cell labels") {
+					t.Fatalf("error %v", err)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			checkAtlas(t, ds, barcodeIDs, genes, genes)
+			if !strings.Contains(strings.Join(notes, " "), "Took the first line of c.tsv") {
+				t.Errorf("notes %q", notes)
+			}
+		})
+	}
+}
+
+func TestOpenFolderRefusesUnrelatedLabelFiles(t *testing.T) {
+	mtx := mtxText(cellsByGenes, true) // 4 genes × 6 cells
+	t.Run("a second list of six names", func(t *testing.T) {
+		dir := writeFiles(t, map[string]string{"counts.mtx": mtx, "cells.tsv": barcodes, "genes.tsv": geneLines,
+			"notes.txt": "alpha\nbeta\ngamma\ndelta\nepsilon\nzeta\n", "contacts.tsv": "ann\nbob\ncid\n"})
+		_, err := Open(bg, dir, Options{})
+		if !errors.Is(err, ErrAmbiguous) || !strings.Contains(err.Error(), "cells.tsv") || !strings.Contains(err.Error(), "notes.txt") {
+			t.Fatalf("error %v, want ErrAmbiguous naming cells.tsv and notes.txt", err)
+		}
+	})
+	t.Run("prose is no label file", func(t *testing.T) {
+		dir := writeFiles(t, map[string]string{"counts.mtx": mtx, "genes.tsv": geneLines,
+			"notes.txt": strings.Repeat("a line of notes\n", 6)})
+		_, err := Open(bg, dir, Options{})
+		if !errors.Is(err, ErrLabelCount) || !strings.Contains(err.Error(), "notes.txt (6 lines, IDs with spaces)") {
+			t.Fatalf("error %v", err)
+		}
+	})
+	t.Run("an annotation table in another order", func(t *testing.T) {
+		rows := strings.Fields(barcodes)
+		var meta strings.Builder
+		meta.WriteString("barcode\tsample\n")
+		for i := len(rows) - 1; i >= 0; i-- {
+			fmt.Fprintf(&meta, "%s\ts%d\n", rows[i], i)
+		}
+		dir := writeFiles(t, map[string]string{"counts.mtx": mtx, "cells.tsv": barcodes, "genes.tsv": geneLines, "meta.tsv": meta.String()})
+		var notes []string
+		ds, err := Open(bg, dir, Options{Note: func(s string) { notes = append(notes, s) }})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkAtlas(t, ds, barcodeIDs, []string{"ENSG01", "ENSG02", "ENSG03", "ENSG04"}, strings.Fields(geneNames))
+		if ds.Column("sample").Label(0) != "s0" || ds.Column("sample").Label(5) != "s5" {
+			t.Errorf("annotations joined wrongly: %+v", ds.Column("sample"))
+		}
+		joined := strings.Join(notes, " ")
+		if !strings.Contains(joined, "cells from cells.tsv (6, found beside it), genes from genes.tsv (4, found beside it)") || !reflect.DeepEqual(ds.Notes, notes) {
+			t.Errorf("notes %q, dataset notes %q", notes, ds.Notes)
+		}
+	})
+	t.Run("a copy of the cells", func(t *testing.T) {
+		dir := writeFiles(t, map[string]string{"counts.mtx": mtx, "cells.tsv": barcodes, "copy.tsv": barcodes, "genes.tsv": geneLines})
+		ds, err := Open(bg, dir, Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkAtlas(t, ds, barcodeIDs, []string{"ENSG01", "ENSG02", "ENSG03", "ENSG04"}, strings.Fields(geneNames))
+	})
+}
+
+func TestOpenExplicitLabelRoles(t *testing.T) {
+	mtx := mtxText(cellsByGenes, false) // 6 cells × 4 genes
+	dir := writeFiles(t, map[string]string{"m.mtx": mtx, "cells.tsv": cellNames, "genes.tsv": geneNames})
+	at := func(n string) string { return filepath.Join(dir, n) }
+	// Swapped: the names say so.
+	_, err := Open(bg, at("m.mtx"), Options{Cells: at("genes.tsv"), Genes: at("cells.tsv")})
+	if !errors.Is(err, ErrLabelRole) || !strings.Contains(err.Error(), "genes.tsv") || !strings.Contains(err.Error(), "its name says it lists genes") {
+		t.Fatalf("error %v", err)
+	}
+	// MatrixRows that the counts contradict.
+	_, err = Open(bg, at("m.mtx"), Options{Cells: at("cells.tsv"), MatrixRows: RowsGenes})
+	if !errors.Is(err, ErrLabelCount) || !strings.Contains(err.Error(), "rows cannot be genes") {
+		t.Fatalf("error %v", err)
+	}
+	// MatrixRows decides a square matrix.
+	sq := writeFiles(t, map[string]string{"m.mtx": mtxText([][]float64{{1, 0}, {2, 3}}, false), "p.txt": "x\ny\n", "q.txt": "G1\tA\nG2\tB\n"})
+	ds, err := Open(bg, sq, Options{MatrixRows: RowsCells})
+	if err != nil {
+		t.Fatal(err)
+	}
+	float32Equal(t, dense(ds.Counts), [][]float64{{1, 0}, {2, 3}})
+	// Nothing tells which of two files lists the genes of a square matrix.
+	sq = writeFiles(t, map[string]string{"m.mtx": mtxText([][]float64{{1, 0}, {2, 3}}, false), "p.txt": "x\ny\n", "q.txt": "u\nv\n"})
+	if _, err := Open(bg, sq, Options{}); !errors.Is(err, ErrAmbiguous) || !strings.Contains(err.Error(), "nothing tells which lists the genes") {
+		t.Fatalf("error %v", err)
 	}
 }

@@ -30,10 +30,25 @@ type probe struct {
 	first  []byte
 	fields int  // tab-separated fields on the first line
 	sep    byte // ',' or '\t' when the first line holds one, else 0
-	lines  int  // non-blank lines, counted by count up to its limit+1
+
+	// Set by count, for a possible label file:
+	header bool   // the first line is a header (decided before counting)
+	lines  int    // non-blank lines, counted up to a limit+1
+	spaced bool   // an ID (first field of a line after the header) holds a space
+	order  uint64 // hash of the IDs in their order
+	set    uint64 // hash of the IDs whatever their order
 }
 
 func (p *probe) name() string { return filepath.Base(p.path) }
+
+// labels returns the number of labels count found: the non-blank lines
+// without the header.
+func (p *probe) labels() int {
+	if p.header {
+		return p.lines - 1
+	}
+	return p.lines
+}
 
 // openText opens path and returns its text, inflated when gzip compressed,
 // limited to limit bytes when limit > 0. close releases everything.
@@ -80,7 +95,10 @@ func sniff(ctx context.Context, path string) (*probe, error) {
 	return p, nil
 }
 
-// count counts the file's non-blank lines, stopping after limit+1.
+// count counts the file's non-blank lines, stopping after limit+1, and
+// hashes the IDs of the lines after the header (p.header) to compare
+// label files: order changes when the IDs or their order differ, set only
+// when the IDs differ.
 func (p *probe) count(ctx context.Context, limit int) error {
 	src, _, closeText, err := openText(p.path, 0)
 	if err != nil {
@@ -88,16 +106,76 @@ func (p *probe) count(ctx context.Context, limit int) error {
 	}
 	defer closeText()
 	s := newLineScanner(ctx, src)
-	p.lines = 0
+	p.lines, p.spaced, p.order, p.set = 0, false, fnvOffset, 0
 	for p.lines <= limit && s.next() {
-		if len(bytes.TrimSpace(s.text)) > 0 {
-			p.lines++
+		if len(bytes.TrimSpace(s.text)) == 0 {
+			continue
 		}
+		p.lines++
+		if p.header && p.lines == 1 {
+			continue
+		}
+		id, _, _ := bytes.Cut(s.text, []byte{'\t'})
+		if bytes.IndexByte(id, ' ') >= 0 {
+			p.spaced = true
+		}
+		h := fnv64(id)
+		p.order = (p.order ^ h) * fnvPrime
+		p.set += mix64(h)
 	}
 	if p.lines > limit {
 		return nil
 	}
 	return s.failure(p.path)
+}
+
+// FNV-1a (64 bits) and the finaliser of SplitMix64: hashes to compare
+// label files, not for security.
+const (
+	fnvOffset = 14695981039346656037
+	fnvPrime  = 1099511628211
+)
+
+func fnv64(b []byte) uint64 {
+	h := uint64(fnvOffset)
+	for _, c := range b {
+		h = (h ^ uint64(c)) * fnvPrime
+	}
+	return h
+}
+
+func mix64(z uint64) uint64 {
+	z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9
+	z = (z ^ (z >> 27)) * 0x94d049bb133111eb
+	return z ^ (z >> 31)
+}
+
+// labelHeaderWords are the column names a label file's header line may
+// start with (compared in lower case, with '-', '.' and ' ' read as '_').
+var labelHeaderWords = map[string]bool{}
+
+func init() {
+	for _, w := range strings.Fields(`id ids name names label labels index
+		cell cells cell_id cell_ids cellid cell_name cell_names barcode barcodes cell_barcode cell_barcodes
+		gene genes gene_id gene_ids geneid gene_name gene_names gene_symbol gene_symbols symbol symbols
+		feature features feature_id feature_ids feature_name feature_names`) {
+		labelHeaderWords[w] = true
+	}
+}
+
+// isLabelHeader reports whether the first line of a label file is a header
+// by its content: it starts with '#', or its first field is a column name
+// such as "barcode", "cell_id", "gene" or "feature_name" (see
+// labelHeaderWords), with or without quotes.
+func isLabelHeader(first []byte) bool {
+	first = bytes.TrimPrefix(first, utf8BOM)
+	if bytes.HasPrefix(first, []byte{'#'}) {
+		return true
+	}
+	f, _, _ := bytes.Cut(first, []byte{'\t'})
+	w := strings.ToLower(strings.Trim(strings.TrimSpace(string(f)), `"'`))
+	w = strings.NewReplacer("-", "_", ".", "_", " ", "_").Replace(w)
+	return labelHeaderWords[w]
 }
 
 // denseRow reports whether the table at path has a first data row whose

@@ -5,6 +5,7 @@ import (
 	"bytes"
 	"compress/gzip"
 	"context"
+	"fmt"
 	"io"
 	"sync"
 )
@@ -49,8 +50,68 @@ func decompress(r io.Reader) (text io.Reader, close func(), gz bool, err error) 
 	if err != nil {
 		return nil, nil, true, err
 	}
-	a := newAsyncReader(zr)
+	zr.Multistream(false)
+	a := newAsyncReader(&gzipMembers{br: br, zr: zr})
 	return a, a.close, true, nil
+}
+
+// gzipMembers inflates a gzip file member by member (RFC 1952, section 2.2:
+// a file is a series of members). After the last member only zero bytes
+// (padding) may follow; anything else is ErrTrailingData, not a damaged
+// or truncated member.
+type gzipMembers struct {
+	br *bufio.Reader
+	zr *gzip.Reader
+}
+
+func (g *gzipMembers) Read(p []byte) (int, error) {
+	for {
+		n, err := g.zr.Read(p)
+		if err == io.EOF && n > 0 {
+			return n, nil // the member's end is seen again on the next call
+		}
+		if err != io.EOF {
+			return n, err
+		}
+		next, err := g.br.Peek(len(gzipMagic))
+		switch {
+		case len(next) == 0 && err == io.EOF:
+			return 0, io.EOF
+		case bytes.Equal(next, gzipMagic):
+			if err := g.zr.Reset(g.br); err != nil {
+				return 0, err
+			}
+			g.zr.Multistream(false)
+		default:
+			return 0, g.trailing()
+		}
+	}
+}
+
+// trailing reads what follows the last member: io.EOF when it is all zero
+// bytes, else ErrTrailingData saying how much there is.
+func (g *gzipMembers) trailing() error {
+	var n, nonZero int64
+	buf := make([]byte, 32<<10)
+	for {
+		k, err := g.br.Read(buf)
+		for _, c := range buf[:k] {
+			if c != 0 {
+				nonZero++
+			}
+		}
+		n += int64(k)
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return err
+		}
+	}
+	if nonZero == 0 {
+		return io.EOF
+	}
+	return fmt.Errorf("%w: %d bytes that are not gzip data follow the end of the compressed stream", ErrTrailingData, n)
 }
 
 // asyncReader reads its source on its own goroutine into a ring of chunks.

@@ -3,6 +3,7 @@ package ingest
 import (
 	"context"
 	"io"
+	"math"
 
 	"lodestone/compute/atlas"
 	"lodestone/compute/progress"
@@ -77,8 +78,12 @@ func (t *tableStart) checkFields() error {
 // must be a finite number within the float32 range (ErrNotNumber,
 // ErrNotFinite); every row must have as many fields as the first
 // (ErrFieldCount); IDs must be distinct (ErrDuplicateID) and not empty
-// (ErrBlankLabel). name is used in error messages; p, when not nil,
-// receives the bytes read from r, as for ReadLabels.
+// (ErrBlankLabel). Values beyond ±atlas.MaxMagnitude are refused
+// (ErrMagnitude), and so are negative values in a table of more than
+// atlas.MaxFeatureColumns columns, which holds expression (ErrNegative); a
+// narrower table holds features and may hold any value within the bound.
+// name is used in error messages; p, when not nil, receives the bytes read
+// from r, as for ReadLabels.
 func ReadTable(ctx context.Context, r io.Reader, name string, p progress.Func) (ids, header []string, m *atlas.Dense, err error) {
 	r, done := track(r, p)
 	defer done()
@@ -92,6 +97,7 @@ func ReadTable(ctx context.Context, r io.Reader, name string, p progress.Func) (
 		return nil, nil, nil, err
 	}
 	rr := t.rr
+	expression := len(t.names) > atlas.MaxFeatureColumns
 	seen := make(map[string]int) // ID → line
 	var data []float32
 	for {
@@ -116,6 +122,13 @@ func ReadTable(ctx context.Context, r io.Reader, name string, p progress.Func) (
 			v, ok := toFloat32(x)
 			if !ok {
 				return nil, nil, nil, errorf(name, rr.line, k+2, ErrNotFinite, "value %s in column %q is not a finite float32", quote(f), t.names[k])
+			}
+			switch {
+			case math.Abs(x) > atlas.MaxMagnitude:
+				return nil, nil, nil, errorf(name, rr.line, k+2, ErrMagnitude, "value %s in column %q is beyond ±%g", quote(f), t.names[k], atlas.MaxMagnitude)
+			case x < 0 && expression:
+				return nil, nil, nil, errorf(name, rr.line, k+2, ErrNegative,
+					"value %s in column %q: a table of more than %d columns holds expression (counts or normalised values), never negative values", quote(f), t.names[k], atlas.MaxFeatureColumns)
 			}
 			data = append(data, v)
 		}

@@ -2,11 +2,14 @@ package ingest
 
 import (
 	"bytes"
+	"fmt"
 	"math"
 	"reflect"
 	"strconv"
 	"strings"
 	"testing"
+
+	"lodestone/compute/atlas"
 )
 
 func TestReadTable(t *testing.T) {
@@ -14,7 +17,7 @@ func TestReadTable(t *testing.T) {
 		"c1, 0 ,2.5,-0.3\r\n" +
 		"\"c 2\",1e-3,\"7\",123456789\r\n" +
 		"\r\n" +
-		"c3,-0,.5,3.4028234e38\r\n"
+		"c3,-0,.5,1e15\r\n"
 	for _, compress := range []bool{false, true} {
 		data := []byte(text)
 		if compress {
@@ -31,7 +34,7 @@ func TestReadTable(t *testing.T) {
 			t.Errorf("header %q, want %q", header, want)
 		}
 		// Reference: strconv.ParseFloat of each field, rounded to float32.
-		fields := [][]string{{"0", "2.5", "-0.3"}, {"1e-3", "7", "123456789"}, {"-0", ".5", "3.4028234e38"}}
+		fields := [][]string{{"0", "2.5", "-0.3"}, {"1e-3", "7", "123456789"}, {"-0", ".5", "1e15"}}
 		if m.Rows != 3 || m.Cols != 3 {
 			t.Fatalf("%d×%d", m.Rows, m.Cols)
 		}
@@ -79,6 +82,8 @@ func TestReadTableErrors(t *testing.T) {
 		{"duplicate ID", "cell,a\nc1,1\nc2,2\nc1,3\n", 4, 1, ErrDuplicateID},
 		{"empty ID", "cell,a\nc1,1\n,2\n", 3, 1, ErrBlankLabel},
 		{"open quote", "cell,a\nc1,\"1\n", 2, 2, ErrQuote},
+		{"beyond the magnitude bound", "cell,a,b\nc1,1,2\nc2,-1e30,2\n", 3, 2, ErrMagnitude},
+		{"negative expression", wideTable(-3), 4, 52, ErrNegative},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -106,5 +111,44 @@ func TestParseFloatAgainstStrconv(t *testing.T) {
 		if ok != wantOK || (ok && math.Float64bits(got) != math.Float64bits(want) && !(math.IsNaN(got) && math.IsNaN(want))) {
 			t.Errorf("parseFloat(%q) = %v, %v; strconv gives %v, %v", s, got, ok, want, err)
 		}
+	}
+}
+
+// wideTable returns a table of atlas.MaxFeatureColumns+1 columns and three
+// rows with v on line 4, column 52.
+func wideTable(v float64) string {
+	var b strings.Builder
+	b.WriteString("cell")
+	for j := 0; j <= atlas.MaxFeatureColumns; j++ {
+		fmt.Fprintf(&b, ",g%d", j)
+	}
+	for i := 0; i < 3; i++ {
+		fmt.Fprintf(&b, "\nc%d", i)
+		for j := 0; j <= atlas.MaxFeatureColumns; j++ {
+			x := 1.0
+			if i == 2 && j == 50 {
+				x = v
+			}
+			fmt.Fprintf(&b, ",%g", x)
+		}
+	}
+	return b.String() + "\n"
+}
+
+func TestReadTableNarrowTablesHoldAnyValueWithinTheBound(t *testing.T) {
+	// Features (principal components) may be negative and large.
+	text := "cell,PC1,PC2\nc1,-3.5,1e14\nc2,-1e15,0\n"
+	_, _, m, err := ReadTable(bg, strings.NewReader(text), "pcs.csv", nil)
+	if err != nil || !reflect.DeepEqual(m.Data, []float32{-3.5, 1e14, -1e15, 0}) {
+		t.Fatalf("%v %v", m, err)
+	}
+	// An expression table of non-negative values reads.
+	if _, _, m, err := ReadTable(bg, strings.NewReader(wideTable(7)), "wide.csv", nil); err != nil || m.Cols != atlas.MaxFeatureColumns+1 {
+		t.Fatalf("%v %v", m, err)
+	}
+	// The message says why a negative value is refused.
+	_, _, _, err = ReadTable(bg, strings.NewReader(wideTable(-3)), "wide.csv", nil)
+	if err == nil || !strings.Contains(err.Error(), `wide.csv:4:52: negative value: value "-3" in column "g50"`) || !strings.Contains(err.Error(), "holds expression") {
+		t.Fatalf("error %v", err)
 	}
 }

@@ -9,6 +9,7 @@ package pipeline
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"runtime"
@@ -70,6 +71,49 @@ type Settings struct {
 // 30 on 90 neighbours, Euclidean distance, PCA initialisation, seed 1.
 func Default() Settings {
 	return Settings{Prep: prep.DefaultOptions(), Perplexity: 30, Init: InitPCA, Seed: 1}
+}
+
+// MinCells is the fewest cells a map is made of. The perplexity is at most
+// a third of each cell's n − 1 neighbours; with fewer cells it would have to
+// fall below MinPerplexity.
+const MinCells = 10
+
+// MinPerplexity is the smallest perplexity the preparation lowers a larger
+// one to, when there are too few cells for it.
+const MinPerplexity = 3
+
+// MaxThreads bounds Threads: each goroutine holds buffers of its own, and
+// more goroutines than this gain nothing on any machine Lodestone runs on.
+// The bound is fixed, not the processor count, so that a result computed
+// with a thread count can be recomputed with it on a smaller machine.
+const MaxThreads = 128
+
+// ErrSetting is wrapped by the errors of Settings.Validate.
+var ErrSetting = errors.New("setting out of range")
+
+// ErrTooFewCells is wrapped by the error of Features when fewer than
+// MinCells cells pass quality control (it is prep's).
+var ErrTooFewCells = prep.ErrTooFewCells
+
+// Validate reports the first setting outside its range, naming it: the
+// perplexity must be a finite number from 1 (one effective neighbour) to a
+// third of neighbors.MaxK; Neighbors 0 (automatic) … neighbors.MaxK; Threads
+// 0 (all processors) … MaxThreads; components, genes and the QC thresholds
+// as prep checks them.
+func (s Settings) Validate() error {
+	switch p := s.Perplexity; {
+	case math.IsNaN(p) || math.IsInf(p, 0) || p < 1 || p > neighbors.MaxK/3:
+		return fmt.Errorf("pipeline: %w: Perplexity = %v: want a number from 1 to %d", ErrSetting, p, neighbors.MaxK/3)
+	case s.Neighbors < 0 || s.Neighbors > neighbors.MaxK:
+		return fmt.Errorf("pipeline: %w: Neighbors = %d: want 0 (three times the perplexity) to %d", ErrSetting, s.Neighbors, neighbors.MaxK)
+	case s.Threads < 0 || s.Threads > MaxThreads:
+		return fmt.Errorf("pipeline: %w: Threads = %d: want 0 (all processors) to %d", ErrSetting, s.Threads, MaxThreads)
+	case s.Prep.PCA.Components < 0:
+		return fmt.Errorf("pipeline: %w: Components = %d is negative", ErrSetting, s.Prep.PCA.Components)
+	case s.Prep.Genes < 0:
+		return fmt.Errorf("pipeline: %w: Genes = %d is negative", ErrSetting, s.Prep.Genes)
+	}
+	return nil
 }
 
 // GraphK returns the number of neighbours the graph is built with for n
@@ -138,6 +182,9 @@ func Features(ctx context.Context, d *atlas.Dataset, s Settings, report func(sta
 	if report == nil {
 		report = func(string, int64, int64) {}
 	}
+	if err := s.Validate(); err != nil {
+		return nil, err
+	}
 	po := s.Prep
 	po.Threads = s.Threads
 	po.PCA.Seed = s.Seed
@@ -145,6 +192,14 @@ func Features(ctx context.Context, d *atlas.Dataset, s Settings, report func(sta
 	res, err := prep.Prepare(ctx, d, po)
 	if err != nil {
 		return nil, err
+	}
+	if n := len(res.Cells); n < MinCells {
+		have := fmt.Sprintf("the table has %d", n)
+		if res.QC != nil {
+			have = fmt.Sprintf("%d passed quality control (%s)", n, res.QC.Summary())
+		}
+		return nil, fmt.Errorf("pipeline: %w: a map needs at least %d cells, and %s: with fewer, the perplexity (%g) would have to fall below %d, a third of each cell's %d neighbours",
+			ErrTooFewCells, MinCells, have, s.Perplexity, MinPerplexity, MinCells-1)
 	}
 	out := &Prepared{Settings: s, Sources: d.Sources, Prep: res, Features: res.Features, Notes: append([]string(nil), res.Notes...)}
 	out.CellIDs = make([]string, len(res.Cells))

@@ -2,6 +2,7 @@ package prep
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 
@@ -13,7 +14,7 @@ import (
 
 // MaxFeatureColumns is the widest dense table used as features as it is; a
 // wider table is reduced by principal component analysis.
-const MaxFeatureColumns = 100
+const MaxFeatureColumns = atlas.MaxFeatureColumns
 
 // minCells is the least number of cells the preparation can work on: a
 // variance needs two.
@@ -159,11 +160,15 @@ func Prepare(ctx context.Context, d *atlas.Dataset, opt Options) (*Result, error
 func prepareCounts(ctx context.Context, d *atlas.Dataset, opt Options, threads int, report func(string) progress.Func) (*Result, error) {
 	const stage = "prepare"
 	keepCells, keepGenes, qc, err := QC(ctx, d, opt.QC)
+	var pe *Error
+	if err != nil && qc != nil && errors.As(err, &pe) && (pe.Err == ErrTooFewCells || pe.Err == ErrTooFewGenes) {
+		return nil, errAt("qc", -1, -1, pe.Err, "%s", qc.Summary())
+	}
 	if err != nil {
 		return nil, err
 	}
 	if len(keepCells) < minCells {
-		return nil, errAt(stage, -1, -1, ErrTooFewCells, "quality control kept %d of %d cells; at least %d are needed", len(keepCells), qc.Cells, minCells)
+		return nil, errAt(stage, -1, -1, ErrTooFewCells, "at least %d cells are needed; quality control %s", minCells, qc.Summary())
 	}
 	sub, err := subMatrix(ctx, d.Counts, keepCells, keepGenes, threads)
 	if err != nil {
