@@ -11,6 +11,7 @@ import (
 
 	"lodestone/app/cli"
 	"lodestone/app/window"
+	"lodestone/compute/pipeline"
 )
 
 // Main runs Lodestone with the given command-line arguments (without the
@@ -51,6 +52,15 @@ func windowOptions(args []string, stderr io.Writer) (window.Options, error) {
 	fs.IntVar(&o.Threads, "threads", 0, "goroutines for computing (0: all processors)")
 	if err := fs.Parse(args); err != nil {
 		return o, err
+	}
+	switch {
+	case o.Threads < 0:
+		return o, fmt.Errorf("--threads %d: want 0 (all processors) or a number from 1 to %d", o.Threads, pipeline.MaxThreads)
+	case o.Threads > pipeline.MaxThreads:
+		fmt.Fprintf(stderr, "warning: --threads %d lowered to %d, the most Lodestone uses\n", o.Threads, pipeline.MaxThreads)
+		o.Threads = pipeline.MaxThreads
+	case !(o.SelfTestDial >= 0.5): // NaN too
+		return o, fmt.Errorf("--selftest-dial %v: want a number from 0.5, or inf", o.SelfTestDial)
 	}
 	switch fs.NArg() {
 	case 0:

@@ -67,7 +67,7 @@ func (f *flags) checkPaths(extra ...named) error {
 	ins = append(ins, extra...)
 	for k, o := range outs {
 		if _, err := atomicfile.Check(o.path); err != nil {
-			return usageError{fmt.Errorf("%s %s: %w", o.from, o.path, err)}
+			return usageError{fmt.Errorf("%s: %w", o.from, err)}
 		}
 		for _, in := range ins {
 			if sameFile(o.path, in.path) {

@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"sort"
 	"strings"
 	"testing"
 
@@ -198,4 +199,82 @@ func FuzzOpen(f *testing.F) {
 			checkAnnotations(t, ds.Annotations, ds.Join, n)
 		}
 	})
+}
+
+// FuzzLabelDiscovery fuzzes the label files beside a fixed 4 × 6 matrix
+// (genes × cells): three files whose names hint at their roles or not.
+// Open must not panic; when it succeeds, the cells and genes come from
+// files that list exactly 6 and 4 names, and no other plausible label file
+// in the folder lists different names for the same dimension (a choice
+// between two plausible files is never made silently).
+func FuzzLabelDiscovery(f *testing.F) {
+	f.Add([]byte(barcodes), []byte(geneLines), []byte("notes\n"))
+	f.Add([]byte("barcode\n"+barcodes), []byte(geneNames), []byte(cellNames))
+	f.Add([]byte(barcodes+"extra\n"), []byte(geneLines), []byte("a,b\n1,2\n"))
+	f.Add([]byte(cellNames), []byte("# genes\n"+geneNames), []byte("cell\tsample\n"+cellNames))
+	f.Add([]byte(barcodes), []byte(geneLines), []byte("w x\nv\nu\nt\ns\nr\n"))
+	mtx := mtxText(cellsByGenes, true)
+	f.Fuzz(func(t *testing.T, a, b, c []byte) {
+		dir := t.TempDir()
+		files := map[string][]byte{"cells.tsv": a, "features.tsv": b, "other.txt": c}
+		for n, data := range files {
+			if err := os.WriteFile(filepath.Join(dir, n), data, 0o644); err != nil {
+				t.Fatal(err)
+			}
+		}
+		os.WriteFile(filepath.Join(dir, "m.mtx"), []byte(mtx), 0o644)
+		ds, err := Open(bg, dir, Options{})
+		if err != nil {
+			checkErrorPosition(t, err)
+			return
+		}
+		if ds.Cells() != 6 || ds.Features() != 4 {
+			t.Fatalf("%d cells and %d genes from a 4 × 6 matrix", ds.Cells(), ds.Features())
+		}
+		for _, dim := range []struct {
+			ids []string
+			n   int
+		}{{ds.CellIDs, 6}, {ds.GeneIDs, 4}} {
+			want := fmt.Sprint(sorted(dim.ids))
+			for n, data := range files {
+				p := &probe{path: filepath.Join(dir, n), first: firstLine(data)}
+				if p.matrix = bytes.HasPrefix(p.first, []byte("%%MatrixMarket")); p.matrix || (bytes.IndexByte(p.first, ',') >= 0 && bytes.IndexByte(p.first, '\t') < 0) {
+					continue
+				}
+				p.header = isLabelHeader(p.first)
+				l, err := ReadLabels(bg, bytes.NewReader(data), n, nil)
+				if err != nil {
+					continue
+				}
+				if p.header {
+					l.dropFirst()
+				}
+				spaced := false
+				for _, id := range l.IDs {
+					spaced = spaced || strings.Contains(id, " ")
+				}
+				if l.Len() == dim.n && !spaced && fmt.Sprint(sorted(l.IDs)) != want {
+					t.Fatalf("took %q for %d names, but %s lists %q", dim.ids, dim.n, n, l.IDs)
+				}
+			}
+		}
+	})
+}
+
+// firstLine returns the first non-blank line of data, as sniff sees it.
+func firstLine(data []byte) []byte {
+	data = bytes.TrimPrefix(data, utf8BOM)
+	for _, l := range bytes.Split(data, []byte("\n")) {
+		l = bytes.TrimSuffix(l, []byte("\r"))
+		if len(bytes.TrimSpace(l)) > 0 {
+			return l
+		}
+	}
+	return nil
+}
+
+func sorted(s []string) []string {
+	out := append([]string(nil), s...)
+	sort.Strings(out)
+	return out
 }

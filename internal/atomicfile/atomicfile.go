@@ -59,6 +59,12 @@ func (o Outcome) String() string {
 // does not exist.
 var ErrNotWritable = errors.New("cannot be written")
 
+// notWritable is an error wrapping ErrNotWritable: "cannot write PATH: WHY".
+type notWritable struct{ path, why string }
+
+func (e *notWritable) Error() string        { return "cannot write " + e.path + ": " + e.why }
+func (e *notWritable) Is(target error) bool { return target == ErrNotWritable }
+
 // maxLinks bounds the symbolic links followed, as the kernel's limit does.
 const maxLinks = 40
 
@@ -79,17 +85,19 @@ func Check(path string) (Outcome, error) {
 		dir := filepath.Dir(target)
 		di, err := os.Stat(dir)
 		switch {
+		case errors.Is(err, fs.ErrNotExist):
+			return o, &notWritable{path, "its folder " + dir + " does not exist"}
 		case err != nil:
-			return o, fmt.Errorf("cannot write %s: folder %s: %w (%w)", path, dir, ErrNotWritable, unwrapPath(err))
+			return o, &notWritable{path, fmt.Sprintf("its folder %s: %v", dir, unwrapPath(err))}
 		case !di.IsDir():
-			return o, fmt.Errorf("cannot write %s: %s is not a folder: %w", path, dir, ErrNotWritable)
+			return o, &notWritable{path, dir + " is not a folder"}
 		}
 		return o, nil
 	}
 	switch m := fi.Mode(); {
 	case m.IsRegular():
 	case m.IsDir():
-		return o, fmt.Errorf("cannot write %s: it is a folder: %w", path, ErrNotWritable)
+		return o, &notWritable{path, "it is a folder"}
 	case m&fs.ModeNamedPipe != 0:
 		o.How, o.Kind = Through, "a named pipe"
 	case m&fs.ModeCharDevice != 0:
@@ -97,7 +105,7 @@ func Check(path string) (Outcome, error) {
 	case m&fs.ModeDevice != 0:
 		o.How, o.Kind = Through, "a block device"
 	default:
-		return o, fmt.Errorf("cannot write %s: it is neither a regular file, a device nor a named pipe (%v): %w", path, m.Type(), ErrNotWritable)
+		return o, &notWritable{path, fmt.Sprintf("it is neither a regular file, a device nor a named pipe (%v)", m.Type())}
 	}
 	return o, nil
 }
@@ -127,7 +135,7 @@ func resolve(path string) (string, fs.FileInfo, error) {
 		}
 		target = to
 	}
-	return target, nil, fmt.Errorf("cannot write %s: more than %d symbolic links: %w", path, maxLinks, ErrNotWritable)
+	return target, nil, &notWritable{path, fmt.Sprintf("more than %d symbolic links", maxLinks)}
 }
 
 func unwrapPath(err error) error {
