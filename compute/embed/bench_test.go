@@ -163,7 +163,7 @@ func BenchmarkRepulsion(b *testing.B) {
 		b.Run(fmt.Sprintf("%dk", n/1000), func(b *testing.B) {
 			y := clusteredLayout(n, 100*math.Sqrt(float64(n)/70000), 1)
 			dst := make([]float64, len(y))
-			r := newFFTRepulsion(0)
+			r := newFFTRepulsion(0, 1)
 			box := bbox(y)
 			r.compute(dst, y, box, never)
 			b.ResetTimer()

@@ -171,12 +171,12 @@ func TestDigits(t *testing.T) {
 		t.Fatal(err)
 	}
 	acc := labelAccuracy(layout, labels, 10)
-	ours, err := KL(P, layout, 0)
+	ours, err := KL(P, layout, 1, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
 	refLayout, refReported, version := readReference(t)
-	theirs, err := KL(P, refLayout, 0)
+	theirs, err := KL(P, refLayout, 1, 0)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -26,6 +26,7 @@ package embed
 
 import (
 	"context"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"time"
@@ -54,6 +55,14 @@ type Params struct {
 	// automatic: η = N/ρ for the ρ of each phase, N/12 during early
 	// exaggeration.
 	LearningRate float64
+	// Tail is α, the degree of freedom of the similarity kernel
+	// w = (1 + d²/α)^(−α) ("Heavy-tailed kernels reveal a finer cluster
+	// structure in t-SNE visualisations", ECML PKDD 2019): 1 is t-SNE,
+	// smaller values split groups into their finer parts, larger ones pull
+	// them together; from MinTail to MaxTail, 0 means 1. Run gives the same
+	// layout, bit for bit, for 0 and 1. The spectral layout (Attraction
+	// +Inf) does not depend on it.
+	Tail float64
 	// Seed seeds the random initial layout when Run is given none.
 	Seed int64
 	// Threads is the number of goroutines; 0 means all processors. Results
@@ -195,6 +204,12 @@ func (p *Params) check() error {
 	case p.SnapshotEvery < 0:
 		return &ParamError{Name: "SnapshotEvery", Value: p.SnapshotEvery.Seconds(), Reason: "must not be negative"}
 	}
+	if p.Tail == 0 {
+		p.Tail = 1
+	}
+	if err := checkTail(p.Tail); err != nil {
+		return err
+	}
 	if p.Iterations == 0 {
 		p.Iterations = DefaultIterations
 	}
@@ -237,4 +252,12 @@ func runSpectral(ctx context.Context, P *sparse.CSR, init []float32, p Params, p
 			KL: math.NaN(), Attraction: p.Attraction, Settled: true, Done: true})
 	}
 	return layout, nil
+}
+
+// checkTail reports a tail outside [MinTail, MaxTail].
+func checkTail(tail float64) error {
+	if !(tail >= MinTail && tail <= MaxTail) {
+		return &ParamError{Name: "Tail", Value: tail, Reason: fmt.Sprintf("must be from %g to %g (1 for t-SNE)", float64(MinTail), float64(MaxTail))}
+	}
+	return nil
 }

@@ -97,16 +97,17 @@ func checkAffinity(p *sparse.CSR, n, threads int) (*affinities, error) {
 	return &affinities{CSR: p, sum: s}, nil
 }
 
-// attract writes the attractive sums of the layout y to dst,
+// attract writes the attractive sums of the layout y to dst, for the kernel
+// of tail α,
 //
-//	dst_i = Σ_j p_ij w_ij (y_i − y_j),   w_ij = 1 / (1 + |y_i − y_j|²),
+//	dst_i = Σ_j p_ij u_ij (y_i − y_j),   u_ij = 1 / (1 + |y_i − y_j|²/α) = α / (α + |y_i − y_j|²),
 //
 // over the stored entries of P, one block of rows per thread. When logs is
-// not nil it also stores in logs[block] the block's Σ p_ij log(1 + |y_i − y_j|²)
-// (that is −Σ p_ij log w_ij), and when plogp is not nil as well the block's
+// not nil it also stores in logs[block] the block's Σ p_ij log(α + |y_i − y_j|²)
+// (at α = 1, −Σ p_ij log w_ij), and when plogp is not nil as well the block's
 // Σ p_ij log p_ij, for the KL divergence. It returns false when stop reported
 // true part-way.
-func attract(dst, y []float64, p *sparse.CSR, logs, plogp []float64, threads int, stop func() bool) bool {
+func attract(dst, y []float64, p *sparse.CSR, alpha float64, logs, plogp []float64, threads int, stop func() bool) bool {
 	var stopped atomic.Bool
 	parallel.For(p.Rows, threads, func(lo, hi, block int) {
 		var ls, pl float64
@@ -120,10 +121,10 @@ func attract(dst, y []float64, p *sparse.CSR, logs, plogp []float64, threads int
 			start, end := p.RowPtr[i], p.RowPtr[i+1]
 			cols, vals := p.ColIdx[start:end], p.Val[start:end]
 			if logs == nil {
-				fx, fy = attractRow(xi, yi, y, cols, vals)
+				fx, fy = attractRow(xi, yi, alpha, y, cols, vals)
 			} else {
 				var l float64
-				fx, fy, l = attractRowLog(xi, yi, y, cols, vals)
+				fx, fy, l = attractRowLog(xi, yi, alpha, y, cols, vals)
 				ls += l
 				if plogp != nil {
 					for _, v := range vals {
@@ -133,7 +134,7 @@ func attract(dst, y []float64, p *sparse.CSR, logs, plogp []float64, threads int
 					}
 				}
 			}
-			dst[2*i], dst[2*i+1] = fx, fy
+			dst[2*i], dst[2*i+1] = alpha*fx, alpha*fy
 		}
 		if logs != nil {
 			logs[block] = ls
@@ -145,44 +146,45 @@ func attract(dst, y []float64, p *sparse.CSR, logs, plogp []float64, threads int
 	return !stopped.Load()
 }
 
-// attractRow returns Σ_k v_k w_k (x_i − x_{j_k}) and Σ_k v_k w_k (y_i − y_{j_k}),
-// w_k = 1/(1 + |y_i − y_{j_k}|²), over the entries (cols, vals) of one row of
-// P, for the point (xi, yi) of the interleaved layout y. With AVX2 the first
+// attractRow returns Σ_k v_k (x_i − x_{j_k})/q_k and Σ_k v_k (y_i − y_{j_k})/q_k,
+// q_k = a + |y_i − y_{j_k}|², over the entries (cols, vals) of one row of
+// P, for the point (xi, yi) of the interleaved layout y; a is the kernel's
+// α (1 for t-SNE, where 1/q_k is the kernel w). With AVX2 the first
 // len(cols) &^ 3 entries go four at a time (each lane summed separately, the
 // lanes then added as (l0+l2)+(l1+l3)); the rest, and every entry elsewhere,
 // go one by one in order. The kernel also prefetches the layout entries of
 // the columns that follow within cap(cols): as a row of P, cols reaches on
 // into the next rows.
-func attractRow(xi, yi float64, y []float64, cols []int32, vals []float32) (fx, fy float64) {
+func attractRow(xi, yi, a float64, y []float64, cols []int32, vals []float32) (fx, fy float64) {
 	m := 0
 	if haveAVX2 && len(cols) >= 4 {
 		m = len(cols) &^ 3
-		fx, fy = attractRowAVX2(xi, yi, &y[0], &cols[0], &vals[0], m, cap(cols))
+		fx, fy = attractRowAVX2(xi, yi, a, &y[0], &cols[0], &vals[0], m, cap(cols))
 	}
 	vals = vals[:len(cols)]
 	for k, j := range cols[m:] {
 		dx, dy := xi-y[2*j], yi-y[2*j+1]
-		pw := float64(vals[m+k]) / (1 + dx*dx + dy*dy)
+		pw := float64(vals[m+k]) / (a + dx*dx + dy*dy)
 		fx += pw * dx
 		fy += pw * dy
 	}
 	return fx, fy
 }
 
-// attractRowLog is attractRow that also returns Σ_k v_k log(1 + |y_i − y_{j_k}|²).
+// attractRowLog is attractRow that also returns Σ_k v_k log q_k.
 // The AVX2 kernel computes the logarithm itself, to within 1e-12 relative
 // (for the KL divergence of the snapshots); the portable code calls
 // math.Log.
-func attractRowLog(xi, yi float64, y []float64, cols []int32, vals []float32) (fx, fy, ls float64) {
+func attractRowLog(xi, yi, a float64, y []float64, cols []int32, vals []float32) (fx, fy, ls float64) {
 	m := 0
 	if haveAVX2 && len(cols) >= 4 {
 		m = len(cols) &^ 3
-		fx, fy, ls = attractRowLogAVX2(xi, yi, &y[0], &cols[0], &vals[0], m, cap(cols))
+		fx, fy, ls = attractRowLogAVX2(xi, yi, a, &y[0], &cols[0], &vals[0], m, cap(cols))
 	}
 	vals = vals[:len(cols)]
 	for k, j := range cols[m:] {
 		dx, dy := xi-y[2*j], yi-y[2*j+1]
-		q := 1 + dx*dx + dy*dy
+		q := a + dx*dx + dy*dy
 		v := float64(vals[m+k])
 		pw := v / q
 		fx += pw * dx
@@ -193,16 +195,21 @@ func attractRowLog(xi, yi float64, y []float64, cols []int32, vals []float32) (f
 }
 
 // KL returns the Kullback–Leibler divergence of the layout's similarities Q
-// from P, computed exactly in O(N²):
+// from P, for the kernel of tail α (see MinTail; 1 for t-SNE), computed
+// exactly in O(N²):
 //
 //	KL(P‖Q) = Σ_ij p̃_ij log(p̃_ij / q_ij),   q_ij = w_ij / Z,
-//	w_ij = 1 / (1 + |y_i − y_j|²),   Z = Σ_{k≠l} w_kl,   p̃ = P / Σ P.
+//	w_ij = (1 + |y_i − y_j|²/α)^(−α),   Z = Σ_{k≠l} w_kl,   p̃ = P / Σ P.
 //
 // layout holds the interleaved coordinates x0,y0,x1,y1,… of P.Rows points.
 // P must be a valid affinity matrix (square, sorted columns, finite
-// non-negative values, not all zero); otherwise KL returns an *AffinityError
-// or a *LayoutError. threads < 1 means all processors.
-func KL(p *sparse.CSR, layout []float32, threads int) (float64, error) {
+// non-negative values, not all zero) and tail within [MinTail, MaxTail];
+// otherwise KL returns an *AffinityError, a *LayoutError or a *ParamError.
+// threads < 1 means all processors.
+func KL(p *sparse.CSR, layout []float32, tail float64, threads int) (float64, error) {
+	if err := checkTail(tail); err != nil {
+		return 0, err
+	}
 	a, err := checkAffinity(p, len(layout)/2, threads)
 	if err != nil {
 		return 0, err
@@ -216,15 +223,26 @@ func KL(p *sparse.CSR, layout []float32, threads int) (float64, error) {
 	}
 	threads = parallel.Threads(threads)
 	rep := make([]float64, len(y))
-	z := ExactRepulsion(rep, y, threads)
+	z := ExactRepulsion(rep, y, tail, threads)
 	logs, plogp := make([]float64, threads), make([]float64, threads)
-	attract(rep, y, p, logs, plogp, threads, func() bool { return false })
+	attract(rep, y, p, tail, logs, plogp, threads, func() bool { return false })
 	a.setEntropy(plogp)
+	return a.kl(logs, z, tail), nil
+}
+
+// kl returns KL(P‖Q) from the blocks' sums Σ p log(α + d²) of attract, Z and
+// α, once the entropy is known:
+//
+//	KL = Σ p̃ log p̃ − Σ p̃ log w + log Z,   −log w = α·(log(α + d²) − log α).
+func (a *affinities) kl(logs []float64, z, alpha float64) float64 {
 	var ls float64
 	for _, v := range logs {
 		ls += v
 	}
-	return a.entropy + ls/a.sum + math.Log(z), nil
+	if alpha == 1 {
+		return a.entropy + ls/a.sum + math.Log(z)
+	}
+	return a.entropy + alpha*(ls/a.sum-math.Log(alpha)) + math.Log(z)
 }
 
 // toFloat64 converts an interleaved float32 layout, rejecting NaN and ±Inf.

@@ -79,7 +79,7 @@ func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
 		o.gains[i] = 1
 	}
 	if n >= exactBelow {
-		o.fft = newFFTRepulsion(p.Threads)
+		o.fft = newFFTRepulsion(p.Threads, p.Tail)
 	}
 	var sx, sy float64
 	for i := 0; i < n; i++ {
@@ -165,7 +165,7 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	if wantKL && !o.a.known {
 		plogp = o.plogp
 	}
-	if !attract(o.attr, o.y, o.a.CSR, logs, plogp, threads, stop) {
+	if !attract(o.attr, o.y, o.a.CSR, o.p.Tail, logs, plogp, threads, stop) {
 		return 0, false
 	}
 	if plogp != nil {
@@ -173,7 +173,7 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	}
 	var z float64
 	if o.fft == nil {
-		z = ExactRepulsion(o.rep, o.y, threads)
+		z = ExactRepulsion(o.rep, o.y, o.p.Tail, threads)
 	} else {
 		var ok bool
 		if z, ok = o.fft.compute(o.rep, o.y, o.bounds, stop); !ok {
@@ -182,11 +182,7 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	}
 	kl := math.NaN()
 	if wantKL {
-		var ls float64
-		for _, v := range logs {
-			ls += v
-		}
-		kl = o.a.entropy + ls/o.a.sum + math.Log(z)
+		kl = o.a.kl(logs, z, o.p.Tail)
 	}
 
 	// Step: g = ρ/ΣP · attr − rep/Z, the gradient without its factor 4.

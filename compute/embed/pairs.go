@@ -1,5 +1,7 @@
 package embed
 
+import "math"
+
 // blockRows is the padded row count of the near-field blocks: the three
 // kernels at the cellNodes target nodes, and zero rows up to two passes of
 // ten 4-lane registers for the AVX2 kernel.
@@ -56,6 +58,37 @@ func pairSumsGo(xa, ya float64, xs, ys, ax, ay, aw []float64) (fx, fy, fw float6
 		w := 1 / (1 + dx*dx + dy*dy)
 		w2 := w * w
 		gx, gy := w2*dx, w2*dy
+		fx += gx
+		fy += gy
+		fw += w
+		ax[b] -= gx
+		ay[b] -= gy
+		aw[b] += w
+	}
+	return fx, fy, fw
+}
+
+// pairSumsTail is pairSums for the kernel k of any tail α:
+//
+//	ax[b] −= w·u·dx,  ay[b] −= w·u·dy,  aw[b] += w,   u = 1/(1 + (dx² + dy²)/α),  w = u^α,
+//
+// returning the point's own share Σ_b w·u·dx, Σ_b w·u·dy and Σ_b w. The
+// power is exp(−α·log(1 + d²/α)); the AVX2 kernel computes both functions
+// itself, to within 1e-13 relative, and otherwise groups its work as
+// pairSums does.
+func pairSumsTail(xa, ya float64, k tailKernel, xs, ys, ax, ay, aw []float64) (fx, fy, fw float64) {
+	m := 0
+	if haveAVX2 && len(xs) >= 4 {
+		m = len(xs) &^ 3
+		fx, fy, fw = pairSumsTailAVX2(xa, ya, k.scale, k.alpha, &xs[0], &ys[0], &ax[0], &ay[0], &aw[0], m)
+	}
+	xs, ys, ax, ay, aw = xs[m:], ys[m:len(xs)], ax[m:len(xs)], ay[m:len(xs)], aw[m:len(xs)]
+	for b, xb := range xs {
+		dx, dy := xa-xb, ya-ys[b]
+		q := 1 + (dx*dx+dy*dy)*k.scale
+		w := math.Exp(-k.alpha * math.Log(q))
+		wu := w / q
+		gx, gy := wu*dx, wu*dy
 		fx += gx
 		fy += gy
 		fw += w

@@ -11,6 +11,12 @@ var haveAVX2 = cpufeat.AVX2FMA
 //go:noescape
 func pairSumsAVX2(xa, ya float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64)
 
+// pairSumsTailAVX2 is pairSumsTail for the first n points, n a positive
+// multiple of 4, with scale = 1/α.
+//
+//go:noescape
+func pairSumsTailAVX2(xa, ya, scale, alpha float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64)
+
 // subBlockAVX2 is subBlock for the block m of n ≥ 1 columns and the vector q.
 //
 //go:noescape
@@ -24,10 +30,10 @@ func subBlockAVX2(v, m, q *float64, n int)
 // or past ahead.
 //
 //go:noescape
-func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy float64)
+func attractRowAVX2(xi, yi, a float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy float64)
 
 // attractRowLogAVX2 is attractRowLog for the first n entries, n a positive
 // multiple of 4, with the same conditions on the columns and ahead.
 //
 //go:noescape
-func attractRowLogAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy, ls float64)
+func attractRowLogAVX2(xi, yi, a float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy, ls float64)

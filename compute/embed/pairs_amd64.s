@@ -11,8 +11,9 @@
 
 // ATTRACT4 handles entries AX…AX+3 of an attraction row: it gathers x_j and
 // y_j (the columns j doubled, as the layout is interleaved), widens the
-// values v to float64, and adds v·w·dx and v·w·dy to Y2 and Y3, leaving
-// q = 1 + dx² + dy² in Y11 and v in Y10.
+// values v to float64, and adds v·dx/q and v·dy/q to Y2 and Y3, leaving
+// q = a + dx² + dy² in Y11 and v in Y10 (a is the kernel's α, 1 for t-SNE,
+// read from the argument a).
 #define ATTRACT4 \
 	VMOVDQU (DI)(AX*4), X6; \
 	VPADDD X6, X6, X6; \
@@ -25,7 +26,8 @@
 	VSUBPD Y9, Y1, Y9; \
 	VMULPD Y8, Y8, Y11; \
 	VFMADD231PD Y9, Y9, Y11; \
-	VADDPD Y5, Y11, Y11; \
+	VBROADCASTSD a+16(FP), Y12; \
+	VADDPD Y12, Y11, Y11; \
 	VDIVPD Y11, Y10, Y12; \
 	VFMADD231PD Y12, Y8, Y2; \
 	VFMADD231PD Y12, Y9, Y3
@@ -37,11 +39,11 @@
 #define ATTRACT_ARGS \
 	VBROADCASTSD xi+0(FP), Y0; \
 	VBROADCASTSD yi+8(FP), Y1; \
-	MOVQ y+16(FP), SI; \
-	MOVQ cols+24(FP), DI; \
-	MOVQ vals+32(FP), R8; \
-	MOVQ n+40(FP), CX; \
-	MOVQ ahead+48(FP), R12; \
+	MOVQ y+24(FP), SI; \
+	MOVQ cols+32(FP), DI; \
+	MOVQ vals+40(FP), R8; \
+	MOVQ n+48(FP), CX; \
+	MOVQ ahead+56(FP), R12; \
 	SUBQ $4, R12; \
 	VXORPD Y2, Y2, Y2; \
 	VXORPD Y3, Y3, Y3
@@ -197,12 +199,12 @@ column:
 	VZEROUPPER
 	RET
 
-// func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy float64)
+// func attractRowAVX2(xi, yi, a float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy float64)
 // Four entries per step: their columns j (doubled, as the layout is
 // interleaved) gather x_j and y_j, their values are widened to float64.
 // Each step first prefetches the layout entries of later columns
 // (PREFETCH4), reading no further than the ahead columns from cols.
-TEXT ·attractRowAVX2(SB), NOSPLIT, $0-72
+TEXT ·attractRowAVX2(SB), NOSPLIT, $0-80
 	ATTRACT_ARGS
 	VBROADCASTSD one<>(SB), Y5
 	XORQ AX, AX
@@ -214,8 +216,8 @@ attract:
 	CMPQ AX, CX
 	JLT attract
 
-	HSUM(Y2, X2, X6, fx+56(FP))
-	HSUM(Y3, X3, X7, fy+64(FP))
+	HSUM(Y2, X2, X6, fx+64(FP))
+	HSUM(Y3, X3, X7, fy+72(FP))
 	VZEROUPPER
 	RET
 
@@ -286,13 +288,13 @@ DATA inv13<>+16(SB)/8, $0x3fb3b13b13b13b14
 DATA inv13<>+24(SB)/8, $0x3fb3b13b13b13b14
 GLOBL inv13<>(SB), RODATA|NOPTR, $32
 
-// func attractRowLogAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy, ls float64)
-// attractRowAVX2 that also sums v·log(1 + dx² + dy²). The logarithm of
-// q ≥ 1 is taken apart as q = 2^e·m with m in [√2/2, √2), then
+// func attractRowLogAVX2(xi, yi, a float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy, ls float64)
+// attractRowAVX2 that also sums v·log(a + dx² + dy²). The logarithm of
+// q > 0 is taken apart as q = 2^e·m with m in [√2/2, √2), then
 // log q = e·ln 2 + 2·atanh(s), s = (m − 1)/(m + 1), |s| < 0.172, by the
 // series 2s(1 + s²/3 + s⁴/5 + … + s¹²/13), whose truncation error is below
 // 1e-12 relative.
-TEXT ·attractRowLogAVX2(SB), NOSPLIT, $0-80
+TEXT ·attractRowLogAVX2(SB), NOSPLIT, $0-88
 	ATTRACT_ARGS
 	VXORPD Y4, Y4, Y4 // Σ v·log q
 	VBROADCASTSD one<>(SB), Y5
@@ -335,8 +337,147 @@ attractlog:
 	CMPQ AX, CX
 	JLT attractlog
 
-	HSUM(Y2, X2, X6, fx+56(FP))
-	HSUM(Y3, X3, X7, fy+64(FP))
-	HSUM(Y4, X4, X8, ls+72(FP))
+	HSUM(Y2, X2, X6, fx+64(FP))
+	HSUM(Y3, X3, X7, fy+72(FP))
+	HSUM(Y4, X4, X8, ls+80(FP))
+	VZEROUPPER
+	RET
+
+// CONST4 defines name as four lanes of the double with the given bits.
+#define CONST4(name, bits) \
+	DATA name<>+0(SB)/8, $bits; \
+	DATA name<>+8(SB)/8, $bits; \
+	DATA name<>+16(SB)/8, $bits; \
+	DATA name<>+24(SB)/8, $bits; \
+	GLOBL name<>(SB), RODATA|NOPTR, $32
+
+// Constants of pairSumsTailAVX2: two more terms of the logarithm's series
+// (1/15, 1/17); for the exponential, log₂e, ln 2 in two parts (the high
+// part has zero low bits, so k·ln2hi is exact for the k that occur), the
+// cap on the exponent's argument, and 1/n! for n = 2 … 11.
+CONST4(log2e, 0x3ff71547652b82fe)
+CONST4(ln2hi, 0x3fe62e42fee00000)
+CONST4(ln2lo, 0x3dea39ef35793c76)
+CONST4(expcap, 0x4085e00000000000)
+CONST4(inv15, 0x3fb1111111111111)
+CONST4(inv17, 0x3fae1e1e1e1e1e1e)
+CONST4(fact2, 0x3fe0000000000000)
+CONST4(fact3, 0x3fc5555555555555)
+CONST4(fact4, 0x3fa5555555555555)
+CONST4(fact5, 0x3f81111111111111)
+CONST4(fact6, 0x3f56c16c16c16c17)
+CONST4(fact7, 0x3f2a01a01a01a01a)
+CONST4(fact8, 0x3efa01a01a01a01a)
+CONST4(fact9, 0x3ec71de3a556c734)
+CONST4(fact10, 0x3e927e4fb7789f5c)
+CONST4(fact11, 0x3e5ae64567f544e4)
+
+// func pairSumsTailAVX2(xa, ya, scale, alpha float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64)
+// pairSumsAVX2 for the kernel of tail α (scale = 1/α): with
+// q = 1 + scale·(dx² + dy²), w = q^(−α) = exp(−α·log q) and the term
+// w·u = w/q. log q as in attractRowLogAVX2 with the series carried two
+// terms further, to s¹⁶/17 (truncation below 1e-15, as an error δ in
+// log q becomes α·δ relative in w); exp(−t), t = α·log q ≥ 0
+// capped at 700, as 2^(−k)·exp(r) with k = round(t·log₂e) and
+// r = k·ln 2 − t, |r| ≤ ln2/2, by its Taylor series to r¹¹/11! (truncation
+// below 1e-14 relative); 2^(−k) is built in the exponent field from
+// 2^52 + 1023 − k.
+TEXT ·pairSumsTailAVX2(SB), NOSPLIT, $0-104
+	VBROADCASTSD xa+0(FP), Y0
+	VBROADCASTSD ya+8(FP), Y1
+	VBROADCASTSD scale+16(FP), Y15
+	VBROADCASTSD alpha+24(FP), Y12
+	MOVQ xs+32(FP), SI
+	MOVQ ys+40(FP), DI
+	MOVQ ax+48(FP), R8
+	MOVQ ay+56(FP), R9
+	MOVQ aw+64(FP), R10
+	MOVQ n+72(FP), CX
+	VXORPD Y2, Y2, Y2 // Σ w·u·dx
+	VXORPD Y3, Y3, Y3 // Σ w·u·dy
+	VXORPD Y4, Y4, Y4 // Σ w
+	VBROADCASTSD one<>(SB), Y5
+	XORQ AX, AX
+
+tailloop:
+	VSUBPD (SI)(AX*8), Y0, Y6 // dx = xa − xs[b]
+	VSUBPD (DI)(AX*8), Y1, Y7 // dy = ya − ys[b]
+	VMULPD Y6, Y6, Y8
+	VFMADD231PD Y7, Y7, Y8    // dx² + dy²
+	VFMADD213PD Y5, Y15, Y8   // q = 1 + scale·(dx² + dy²)
+
+	// log q = e·ln 2 + log m, as in attractRowLogAVX2.
+	VPSRLQ $52, Y8, Y13
+	VPOR expmagic<>(SB), Y13, Y13
+	VSUBPD bias<>(SB), Y13, Y13
+	VANDPD mantmask<>(SB), Y8, Y14
+	VORPD onebits<>(SB), Y14, Y14
+	VCMPPD $0x1e, sqrt2<>(SB), Y14, Y9
+	VANDPD Y5, Y9, Y10
+	VADDPD Y10, Y13, Y13
+	VMULPD half<>(SB), Y14, Y10
+	VBLENDVPD Y9, Y10, Y14, Y14
+	VSUBPD Y5, Y14, Y10
+	VADDPD Y5, Y14, Y14
+	VDIVPD Y14, Y10, Y10       // s = (m − 1)/(m + 1)
+	VMULPD Y10, Y10, Y14       // s²
+	VMOVUPD inv17<>(SB), Y9
+	VFMADD213PD inv15<>(SB), Y14, Y9
+	VFMADD213PD inv13<>(SB), Y14, Y9
+	VFMADD213PD inv11<>(SB), Y14, Y9
+	VFMADD213PD inv9<>(SB), Y14, Y9
+	VFMADD213PD inv7<>(SB), Y14, Y9
+	VFMADD213PD inv5<>(SB), Y14, Y9
+	VFMADD213PD inv3<>(SB), Y14, Y9
+	VFMADD213PD Y5, Y14, Y9
+	VMULPD Y10, Y9, Y9
+	VADDPD Y9, Y9, Y9              // log m
+	VFMADD231PD ln2<>(SB), Y13, Y9 // log q
+
+	// w = exp(−t), t = min(α·log q, 700).
+	VMULPD Y12, Y9, Y9
+	VMINPD expcap<>(SB), Y9, Y9
+	VMULPD log2e<>(SB), Y9, Y10
+	VROUNDPD $0, Y10, Y10              // k
+	VFMSUB231PD ln2hi<>(SB), Y10, Y9   // k·ln2hi − t
+	VFMADD231PD ln2lo<>(SB), Y10, Y9   // r = k·ln 2 − t
+	VMOVUPD fact11<>(SB), Y11
+	VFMADD213PD fact10<>(SB), Y9, Y11
+	VFMADD213PD fact9<>(SB), Y9, Y11
+	VFMADD213PD fact8<>(SB), Y9, Y11
+	VFMADD213PD fact7<>(SB), Y9, Y11
+	VFMADD213PD fact6<>(SB), Y9, Y11
+	VFMADD213PD fact5<>(SB), Y9, Y11
+	VFMADD213PD fact4<>(SB), Y9, Y11
+	VFMADD213PD fact3<>(SB), Y9, Y11
+	VFMADD213PD fact2<>(SB), Y9, Y11
+	VFMADD213PD Y5, Y9, Y11
+	VFMADD213PD Y5, Y9, Y11            // exp(r)
+	VMOVUPD bias<>(SB), Y13
+	VSUBPD Y10, Y13, Y13               // 2^52 + 1023 − k
+	VPSLLQ $52, Y13, Y13               // 2^(−k)
+	VMULPD Y13, Y11, Y11               // w
+
+	VDIVPD Y8, Y11, Y10                // w·u = w/q
+	VMULPD Y10, Y6, Y6
+	VMULPD Y10, Y7, Y7
+	VADDPD Y6, Y2, Y2
+	VADDPD Y7, Y3, Y3
+	VADDPD Y11, Y4, Y4
+	VMOVUPD (R8)(AX*8), Y9
+	VSUBPD Y6, Y9, Y9
+	VMOVUPD Y9, (R8)(AX*8)
+	VMOVUPD (R9)(AX*8), Y9
+	VSUBPD Y7, Y9, Y9
+	VMOVUPD Y9, (R9)(AX*8)
+	VADDPD (R10)(AX*8), Y11, Y9
+	VMOVUPD Y9, (R10)(AX*8)
+	ADDQ $4, AX
+	CMPQ AX, CX
+	JLT tailloop
+
+	HSUM(Y2, X2, X6, fx+80(FP))
+	HSUM(Y3, X3, X7, fy+88(FP))
+	HSUM(Y4, X4, X8, fw+96(FP))
 	VZEROUPPER
 	RET

@@ -16,10 +16,10 @@ func TestPortableRepulsion(t *testing.T) {
 	}
 	y := clusteredLayout(5000, 60, 11)
 	fast := make([]float64, len(y))
-	zFast, _ := newFFTRepulsion(2).compute(fast, y, bbox(y), never)
+	zFast, _ := newFFTRepulsion(2, 1).compute(fast, y, bbox(y), never)
 	haveAVX2 = false
 	defer func() { haveAVX2 = true }()
-	r := newFFTRepulsion(2)
+	r := newFFTRepulsion(2, 1)
 	slow := make([]float64, len(y))
 	zSlow, _ := r.compute(slow, y, bbox(y), never)
 	if !r.near {

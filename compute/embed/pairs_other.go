@@ -9,14 +9,18 @@ func pairSumsAVX2(xa, ya float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, f
 	panic("embed: no AVX2 kernel on this architecture")
 }
 
+func pairSumsTailAVX2(xa, ya, scale, alpha float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64) {
+	panic("embed: no AVX2 kernel on this architecture")
+}
+
 func subBlockAVX2(v, m, q *float64, n int) {
 	panic("embed: no AVX2 kernel on this architecture")
 }
 
-func attractRowAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy float64) {
+func attractRowAVX2(xi, yi, a float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy float64) {
 	panic("embed: no AVX2 kernel on this architecture")
 }
 
-func attractRowLogAVX2(xi, yi float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy, ls float64) {
+func attractRowLogAVX2(xi, yi, a float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy, ls float64) {
 	panic("embed: no AVX2 kernel on this architecture")
 }

@@ -6,36 +6,79 @@ import (
 	"testing"
 )
 
-// TestPairSums checks pairSums, on whatever kernel this processor runs,
-// against its definition evaluated term by term, for every length from 0 to
-// 19 (full blocks of four and every remainder).
+// TestPairSums checks pairSums and, for tails other than 1, pairSumsTail,
+// on whatever kernel this processor runs, against their definition
+// evaluated term by term with math.Pow, for every length from 0 to 19 (full
+// blocks of four and every remainder) and at distances from 0 to about 10³
+// (the kernel's far tail, where w is tiny at large α).
 func TestPairSums(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 9))
-	for n := 0; n < 20; n++ {
-		xs, ys := make([]float64, n), make([]float64, n)
-		ax, ay, aw := make([]float64, n), make([]float64, n), make([]float64, n)
-		for b := range xs {
-			xs[b], ys[b] = 3*rng.NormFloat64(), 3*rng.NormFloat64()
-			ax[b], ay[b], aw[b] = rng.Float64(), rng.Float64(), rng.Float64()
+	for _, tail := range []float64{1, MinTail, 0.2, 0.5, 0.7, 3, 10, MaxTail} {
+		k := newTail(tail)
+		for n := 0; n < 20; n++ {
+			xs, ys := make([]float64, n), make([]float64, n)
+			ax, ay, aw := make([]float64, n), make([]float64, n), make([]float64, n)
+			for b := range xs {
+				r := math.Pow(10, 5*rng.Float64()-2)
+				if b == 0 {
+					r = 0
+				}
+				xs[b], ys[b] = r*rng.NormFloat64(), r*rng.NormFloat64()
+				ax[b], ay[b], aw[b] = rng.Float64(), rng.Float64(), rng.Float64()
+			}
+			wantX, wantY, wantW := append([]float64(nil), ax...), append([]float64(nil), ay...), append([]float64(nil), aw...)
+			var xa, ya float64
+			var fx, fy, fw float64
+			for b := range xs {
+				dx, dy := xa-xs[b], ya-ys[b]
+				u := 1 / (1 + (dx*dx+dy*dy)/tail)
+				w := math.Pow(u, tail)
+				kx, ky := dx*w*u, dy*w*u
+				fx, fy, fw = fx+kx, fy+ky, fw+w
+				wantX[b] -= kx
+				wantY[b] -= ky
+				wantW[b] += w
+			}
+			var gx, gy, gw float64
+			if k.cauchy() {
+				gx, gy, gw = pairSums(xa, ya, xs, ys, ax, ay, aw)
+			} else {
+				gx, gy, gw = pairSumsTail(xa, ya, k, xs, ys, ax, ay, aw)
+			}
+			close := func(got, want float64) bool { return math.Abs(got-want) <= 1e-13*(1+math.Abs(want)) }
+			if !close(gx, fx) || !close(gy, fy) || !close(gw, fw) {
+				t.Fatalf("α = %g, n = %d: sums (%v, %v, %v), want (%v, %v, %v)", tail, n, gx, gy, gw, fx, fy, fw)
+			}
+			for b := range xs {
+				if !close(ax[b], wantX[b]) || !close(ay[b], wantY[b]) || !close(aw[b], wantW[b]) {
+					t.Fatalf("α = %g, n = %d, point %d: (%v, %v, %v), want (%v, %v, %v)", tail, n, b, ax[b], ay[b], aw[b], wantX[b], wantY[b], wantW[b])
+				}
+			}
 		}
-		wantX, wantY, wantW := append([]float64(nil), ax...), append([]float64(nil), ay...), append([]float64(nil), aw...)
-		xa, ya := rng.NormFloat64(), rng.NormFloat64()
-		var fx, fy, fw float64
-		for b := range xs {
-			kx, ky, kw := kernel(xa-xs[b], ya-ys[b])
-			fx, fy, fw = fx+kx, fy+ky, fw+kw
-			wantX[b] -= kx
-			wantY[b] -= ky
-			wantW[b] += kw
-		}
-		gx, gy, gw := pairSums(xa, ya, xs, ys, ax, ay, aw)
-		close := func(got, want float64) bool { return math.Abs(got-want) <= 1e-14*(1+math.Abs(want)) }
-		if !close(gx, fx) || !close(gy, fy) || !close(gw, fw) {
-			t.Fatalf("n = %d: sums (%v, %v, %v), want (%v, %v, %v)", n, gx, gy, gw, fx, fy, fw)
-		}
-		for b := range xs {
-			if !close(ax[b], wantX[b]) || !close(ay[b], wantY[b]) || !close(aw[b], wantW[b]) {
-				t.Fatalf("n = %d, point %d: (%v, %v, %v), want (%v, %v, %v)", n, b, ax[b], ay[b], aw[b], wantX[b], wantY[b], wantW[b])
+	}
+}
+
+// TestPairSumsTailRelative checks the power w = u^α of pairSumsTail term
+// by term to 1e-13 relative (not only within a sum), at distances from 0.1
+// to 10³ where w spans from about 1 to below 1e-40: a near field's terms are
+// summed, but a relative error must not hide in the tiny ones. Each
+// distance fills a block of four, so the AVX2 kernel computes it where it
+// runs.
+func TestPairSumsTailRelative(t *testing.T) {
+	for _, tail := range []float64{MinTail, 0.5, 2, MaxTail} {
+		k := newTail(tail)
+		for e := -1.0; e <= 3; e += 0.125 {
+			d := math.Pow(10, e)
+			xs, ys := []float64{d, -d, d, -d}, []float64{0, 0, 0, 0}
+			ax, ay, aw := make([]float64, 4), make([]float64, 4), make([]float64, 4)
+			pairSumsTail(0, 0, k, xs, ys, ax, ay, aw)
+			u := 1 / (1 + d*d/tail)
+			w := math.Pow(u, tail)
+			if math.Abs(aw[0]-w) > 1e-13*w {
+				t.Fatalf("α = %g, d = %g: w = %v, want %v", tail, d, aw[0], w)
+			}
+			if want := d * w * u; math.Abs(ax[0]-want) > 1e-13*want {
+				t.Fatalf("α = %g, d = %g: w·u·d = %v, want %v", tail, d, ax[0], want)
 			}
 		}
 	}
@@ -97,9 +140,22 @@ func TestAttractRow(t *testing.T) {
 			wantX += float64(vals[k]) * w * dx
 			wantY += float64(vals[k]) * w * dy
 		}
-		fx, fy := attractRow(xi, yi, y, cols, vals)
+		fx, fy := attractRow(xi, yi, 1, y, cols, vals)
 		if math.Abs(fx-wantX) > 1e-14*(1+math.Abs(wantX)) || math.Abs(fy-wantY) > 1e-14*(1+math.Abs(wantY)) {
 			t.Fatalf("%d entries: (%v, %v), want (%v, %v)", n, fx, fy, wantX, wantY)
+		}
+		// Other tails: Σ v·d/(α + d²).
+		for _, a := range []float64{MinTail, 0.5, 3, MaxTail} {
+			var wantX, wantY float64
+			for k, j := range cols {
+				dx, dy := xi-y[2*j], yi-y[2*j+1]
+				wantX += float64(vals[k]) * dx / (a + dx*dx + dy*dy)
+				wantY += float64(vals[k]) * dy / (a + dx*dx + dy*dy)
+			}
+			fx, fy := attractRow(xi, yi, a, y, cols, vals)
+			if math.Abs(fx-wantX) > 1e-14*(1+math.Abs(wantX)) || math.Abs(fy-wantY) > 1e-14*(1+math.Abs(wantY)) {
+				t.Fatalf("α = %g, %d entries: (%v, %v), want (%v, %v)", a, n, fx, fy, wantX, wantY)
+			}
 		}
 	}
 }
@@ -107,7 +163,8 @@ func TestAttractRow(t *testing.T) {
 // TestAttractRowLog checks attractRowLog, on whatever kernel this processor
 // runs, against its definition with math.Log, to 1e-12 relative, for rows of
 // 0 to 19 entries at distances from 0 (log 1 = 0) to 10⁴, including
-// 1 + d² = √2 and 2 where the logarithm's mantissa range turns over.
+// 1 + d² = √2 and 2 where the logarithm's mantissa range turns over, for
+// t-SNE's kernel and other tails.
 func TestAttractRowLog(t *testing.T) {
 	rng := rand.New(rand.NewPCG(6, 6))
 	const points = 64
@@ -131,18 +188,22 @@ func TestAttractRowLog(t *testing.T) {
 		for k := range cols {
 			cols[k], vals[k] = int32((k*37+n)%points), rng.Float32()
 		}
-		var wantX, wantY, wantL float64
-		for k, j := range cols {
-			dx, dy := -y[2*j], -y[2*j+1]
-			q := 1 + dx*dx + dy*dy
-			wantX += float64(vals[k]) / q * dx
-			wantY += float64(vals[k]) / q * dy
-			wantL += float64(vals[k]) * math.Log(q)
-		}
-		fx, fy, ls := attractRowLog(0, 0, y, cols, vals)
-		close := func(got, want float64) bool { return math.Abs(got-want) <= 1e-12*(1+math.Abs(want)) }
-		if !close(fx, wantX) || !close(fy, wantY) || !close(ls, wantL) {
-			t.Fatalf("%d entries: (%v, %v, %v), want (%v, %v, %v)", n, fx, fy, ls, wantX, wantY, wantL)
+		// a = 1 for t-SNE; other tails α (q = α + d², below 1 for α < 1 and
+		// short distances).
+		for _, a := range []float64{1, MinTail, 0.5, 3, MaxTail} {
+			var wantX, wantY, wantL float64
+			for k, j := range cols {
+				dx, dy := -y[2*j], -y[2*j+1]
+				q := a + dx*dx + dy*dy
+				wantX += float64(vals[k]) / q * dx
+				wantY += float64(vals[k]) / q * dy
+				wantL += float64(vals[k]) * math.Log(q)
+			}
+			fx, fy, ls := attractRowLog(0, 0, a, y, cols, vals)
+			close := func(got, want float64) bool { return math.Abs(got-want) <= 1e-12*(1+math.Abs(want)) }
+			if !close(fx, wantX) || !close(fy, wantY) || !close(ls, wantL) {
+				t.Fatalf("a = %g, %d entries: (%v, %v, %v), want (%v, %v, %v)", a, n, fx, fy, ls, wantX, wantY, wantL)
+			}
 		}
 	}
 }

@@ -11,17 +11,19 @@ import (
 )
 
 // ExactRepulsion computes the repulsive sums of the layout y (interleaved
-// x0,y0,x1,y1,…, float64) exactly, over all pairs:
+// x0,y0,x1,y1,…, float64) exactly, over all pairs, for the kernel of tail α
+// (see MinTail):
 //
-//	dst_i = Σ_{j≠i} w_ij² (y_i − y_j),   w_ij = 1 / (1 + |y_i − y_j|²)
-//	Z     = Σ_{i≠j} w_ij
+//	dst_i = Σ_{j≠i} w_ij u_ij (y_i − y_j),   Z = Σ_{i≠j} w_ij,
+//	u_ij = 1 / (1 + |y_i − y_j|²/α),   w_ij = u_ij^α,
 //
-// and returns Z. dst must have the length of y. The cost is O(N²); it is the
-// reference for the interpolated repulsion and is used for small layouts.
-// threads < 1 means all processors; the result is deterministic for a given
-// thread count.
-func ExactRepulsion(dst, y []float64, threads int) float64 {
+// and returns Z; at α = 1, w_ij u_ij = w_ij² with w_ij = 1/(1 + |y_i − y_j|²).
+// dst must have the length of y. The cost is O(N²); it is the reference for
+// the interpolated repulsion and is used for small layouts. threads < 1
+// means all processors; the result is deterministic for a given thread count.
+func ExactRepulsion(dst, y []float64, tail float64, threads int) float64 {
 	n := len(y) / 2
+	k := newTail(tail)
 	threads = parallel.Threads(threads)
 	partial := make([]float64, threads)
 	parallel.For(n, threads, func(lo, hi, block int) {
@@ -29,13 +31,22 @@ func ExactRepulsion(dst, y []float64, threads int) float64 {
 		for i := lo; i < hi; i++ {
 			xi, yi := y[2*i], y[2*i+1]
 			var fx, fy, zi float64
-			for j := 0; j < n; j++ {
-				dx, dy := xi-y[2*j], yi-y[2*j+1]
-				w := 1 / (1 + dx*dx + dy*dy)
-				zi += w
-				w *= w
-				fx += w * dx
-				fy += w * dy
+			if k.cauchy() {
+				for j := 0; j < n; j++ {
+					dx, dy := xi-y[2*j], yi-y[2*j+1]
+					w := 1 / (1 + dx*dx + dy*dy)
+					zi += w
+					w *= w
+					fx += w * dx
+					fy += w * dy
+				}
+			} else {
+				for j := 0; j < n; j++ {
+					kx, ky, kw := k.at(xi-y[2*j], yi-y[2*j+1])
+					zi += kw
+					fx += kx
+					fy += ky
+				}
 			}
 			dst[2*i], dst[2*i+1] = fx, fy
 			z += zi - 1 // the j = i term has w = 1
@@ -65,7 +76,9 @@ const (
 	// model moves to another width.
 	targetCells = 8
 	// fineCellWidth is the width at or below which the grid alone is accurate
-	// (node spacing 1/8): no near-field correction.
+	// (node spacing 1/8) for t-SNE's kernel: no near-field correction. The
+	// kernel of a tail α < 1 varies on a scale √α near 0 (its fourth-order
+	// term is (α+1)/(2α)·d⁴), and its width is scaled by √α (fineWidth).
 	fineCellWidth = 0.5
 	// nearBudget is the number of near-field pairs per point that the first
 	// guess of the cell width aims at, for a layout of uniform density.
@@ -90,13 +103,14 @@ const cellNodes = interpNodes * interpNodes
 //
 // Kernels. Instead of spreading the four charges (1, y_x, y_y, |y|²) and
 // convolving each with w², it spreads the unit charge once and convolves it
-// with the three kernels
+// with the three kernels of the tail α (see tailKernel; u = w^(1/α))
 //
-//	K_x(d) = d_x w(d)²,   K_y(d) = d_y w(d)²,   K_w(d) = w(d)
+//	K_x(d) = d_x w(d) u(d),   K_y(d) = d_y w(d) u(d),   K_w(d) = w(d)
 //
-// which give Σ_j w_ij²(y_i − y_j) and Σ_j w_ij directly: the same sums with
-// one forward and three inverse transforms instead of four and four, and no
-// cancellation between y_i·Σw² and Σw²y_j in large layouts.
+// which give Σ_j w_ij u_ij (y_i − y_j) and Σ_j w_ij directly: the same sums
+// with one forward and three inverse transforms instead of four and four, no
+// cancellation between y_i·Σw² and Σw²y_j in large layouts, and any α at
+// the same cost (the expansion into charges relies on α = 1).
 //
 // Grid. The layout's bounding box is covered by square cells of width h;
 // each cell holds interpNodes × interpNodes equispaced nodes, its corners
@@ -109,7 +123,7 @@ const cellNodes = interpNodes * interpNodes
 //
 // Near field. Interpolation is accurate for pairs far apart compared with h,
 // but not for close pairs, whose kernel varies on a scale of 1. When
-// h > fineCellWidth, the grid's contribution between points of the same or
+// h > fineWidth(α), the grid's contribution between points of the same or
 // adjacent cells is subtracted — cell by cell, from the cells' own charges and
 // the node-to-node kernel between them — and replaced by the exact sum over
 // those pairs.
@@ -125,6 +139,7 @@ const cellNodes = interpNodes * interpNodes
 // calls.
 type fftRepulsion struct {
 	threads int
+	tail    tailKernel
 
 	// Current grid: nx × ny cells of width h from (x0, y0); mx × my nodes at
 	// spacing delta, embedded in an lx × ly periodic grid.
@@ -181,10 +196,11 @@ type fftWorker struct {
 	product []complex128
 }
 
-// newFFTRepulsion returns a repulsion engine for threads goroutines.
-func newFFTRepulsion(threads int) *fftRepulsion {
+// newFFTRepulsion returns a repulsion engine for threads goroutines and the
+// kernel of tail α.
+func newFFTRepulsion(threads int, tail float64) *fftRepulsion {
 	threads = parallel.Threads(threads)
-	return &fftRepulsion{threads: threads, workers: make([]fftWorker, threads), zpart: make([]float64, threads)}
+	return &fftRepulsion{threads: threads, tail: newTail(tail), workers: make([]fftWorker, threads), zpart: make([]float64, threads)}
 }
 
 // lagrange returns the weights of the interpNodes nodes t_a = a/(interpNodes−1)
@@ -248,18 +264,18 @@ func goodFFTLen(min int) int {
 	}
 }
 
+// fineWidth returns the cell width at or below which the grid alone is
+// accurate for the kernel of tail α: fineCellWidth, times √α for α < 1.
+func fineWidth(alpha float64) float64 {
+	return fineCellWidth * math.Sqrt(min(alpha, 1))
+}
+
 // ladder rounds v > 0 up to a power of 2^(1/8).
 func ladder(v float64) float64 {
 	return math.Exp2(math.Ceil(8*math.Log2(v)) / 8)
 }
 
-// kernel returns K_x, K_y and K_w at offset (dx, dy).
-func kernel(dx, dy float64) (float64, float64, float64) {
-	w := 1 / (1 + dx*dx + dy*dy)
-	return dx * w * w, dy * w * w, w
-}
-
-// compute writes the interpolated repulsive sums Σ_j w_ij²(y_i − y_j) of the
+// compute writes the interpolated repulsive sums Σ_j w_ij u_ij (y_i − y_j) of the
 // layout y to dst and returns Z = Σ_{i≠j} w_ij. bounds is the layout's
 // bounding box (xmin, xmax, ymin, ymax). It returns false, leaving dst
 // partly written, when stop reports true part-way.
@@ -305,12 +321,13 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 	r.cellOf = grow32(r.cellOf, n)
 	r.wts = grow(r.wts, 2*interpNodes*n)
 	r.zval = grow(r.zval, n)
+	fine := fineWidth(r.tail.alpha)
 	cells := func(e, h float64) int { return max(1, int(math.Ceil(e/h))) }
 	fftLen := func(e, h float64) int { return goodFFTLen(2 * (cells(e, h)*d + 1)) }
 	place := func(h float64) {
 		r.h, r.delta, r.x0, r.y0 = h, h/d, bounds[0], bounds[2]
 		r.nx, r.ny = cells(ex, h), cells(ey, h)
-		r.near = h > fineCellWidth
+		r.near = h > fine
 	}
 	// The narrowest cells the FFT allows.
 	hMin := ladder(extent / float64((maxFFTLen/2-1)/d))
@@ -319,7 +336,7 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 	// extent/targetCells.
 	area := max(ex*ey, extent*extent/float64(targetCells*targetCells))
 	h0 := max(hMin, ladder(min(extent/targetCells, math.Sqrt(nearBudget*area/(9*float64(n))))))
-	if coarse := max(hMin, ladder(extent/targetCells)); coarse <= fineCellWidth {
+	if coarse := max(hMin, ladder(extent/targetCells)); coarse <= fine {
 		// A layout this small is covered by targetCells cells fine enough
 		// for the grid alone; more cells would only cost time.
 		h0 = coarse
@@ -338,7 +355,7 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 	cost := func(h float64) float64 {
 		lx, ly := fftLen(ex, h), fftLen(ey, h)
 		c := costFFT * float64(lx*ly) * math.Log2(float64(max(lx, ly)))
-		if h > fineCellWidth {
+		if h > fine {
 			s := (h / h0) * (h / h0)
 			c += costPair*float64(work0)*s + costCell*min(float64(occ0)/s, float64(cells(ex, h)*cells(ey, h)))
 		}
@@ -539,7 +556,7 @@ func (r *fftRepulsion) kernelSpectra() {
 			for row := lo; row < hi; row++ {
 				dy := offset(row, ly)
 				for col := 0; col < lx; col++ {
-					kx, ky, kw := kernel(offset(col, lx), dy)
+					kx, ky, kw := r.tail.at(offset(col, lx), dy)
 					wk.line[col] = [3]float64{kx, ky, kw}[k]
 					// The Nyquist offsets ±l/2 share one sample; leaving them
 					// zero keeps the odd kernels exactly odd. (The convolution
@@ -585,7 +602,7 @@ func (r *fftRepulsion) nearBlocks() {
 				// Target node t of cell c, source node s of cell c + o.
 				dx := float64(t%interpNodes-s%interpNodes)*r.delta - ox*r.h
 				dy := float64(t/interpNodes-s/interpNodes)*r.delta - oy*r.h
-				kx, ky, kw := kernel(dx, dy)
+				kx, ky, kw := r.tail.at(dx, dy)
 				col := r.nearKernel[(o*cellNodes+s)*blockRows:]
 				col[3*t], col[3*t+1], col[3*t+2] = kx, ky, kw
 			}
@@ -868,7 +885,12 @@ func (r *fftRepulsion) pairs(ax, ay, aw []float64, alo, ahi, blo, bhi int32, sam
 		if from >= bhi {
 			continue
 		}
-		fx, fy, fw := pairSums(r.sx[a], r.sy[a], r.sx[from:bhi], r.sy[from:bhi], ax[from:bhi], ay[from:bhi], aw[from:bhi])
+		var fx, fy, fw float64
+		if r.tail.cauchy() {
+			fx, fy, fw = pairSums(r.sx[a], r.sy[a], r.sx[from:bhi], r.sy[from:bhi], ax[from:bhi], ay[from:bhi], aw[from:bhi])
+		} else {
+			fx, fy, fw = pairSumsTail(r.sx[a], r.sy[a], r.tail, r.sx[from:bhi], r.sy[from:bhi], ax[from:bhi], ay[from:bhi], aw[from:bhi])
+		}
 		ax[a] += fx
 		ay[a] += fy
 		aw[a] += fw

@@ -63,7 +63,8 @@ func tsneLayout(t *testing.T) []float64 {
 // stay within 1e-3 (the accuracy the method is meant to deliver; Linderman et
 // al. 2019) on clustered layouts of extent 4 (the largest the coarse grid
 // alone covers) to 100, on a t-SNE map, and on a tiny layout of extent 1e-3
-// as at initialisation.
+// as at initialisation, for t-SNE's kernel (α = 1) and heavier (0.5) and
+// lighter (3) tails, and the ends of the tail's range.
 func TestFFTRepulsionAgainstExact(t *testing.T) {
 	const n = 5000
 	cases := []struct {
@@ -77,26 +78,28 @@ func TestFFTRepulsionAgainstExact(t *testing.T) {
 		{"tiny, extent 1e-3", clusteredLayout(n, 1e-3, 4)},
 		{"t-SNE map", tsneLayout(t)},
 	}
-	for _, c := range cases {
-		exact := make([]float64, 2*n)
-		zExact := ExactRepulsion(exact, c.y, 0)
-		r := newFFTRepulsion(0)
-		got := make([]float64, 2*n)
-		z, ok := r.compute(got, c.y, bbox(c.y), never)
-		if !ok {
-			t.Fatal("stopped without being asked")
-		}
-		var num, den float64
-		for i := range got {
-			num += (got[i] - exact[i]) * (got[i] - exact[i])
-			den += exact[i] * exact[i]
-		}
-		b := bbox(c.y)
-		fErr, zErr := math.Sqrt(num/den), math.Abs(z-zExact)/zExact
-		t.Logf("%s (%.3g × %.3g): cells %d×%d of width %.3g, FFT %d×%d, near field %v: force error %.2e, Z error %.2e",
-			c.name, b[1]-b[0], b[3]-b[2], r.nx, r.ny, r.h, r.lx, r.ly, r.near, fErr, zErr)
-		if fErr > 1e-3 || zErr > 1e-3 {
-			t.Errorf("%s: force error %.2e, Z error %.2e; want ≤ 1e-3", c.name, fErr, zErr)
+	for _, tail := range []float64{1, 0.5, 3, MinTail, MaxTail} {
+		for _, c := range cases {
+			exact := make([]float64, 2*n)
+			zExact := ExactRepulsion(exact, c.y, tail, 0)
+			r := newFFTRepulsion(0, tail)
+			got := make([]float64, 2*n)
+			z, ok := r.compute(got, c.y, bbox(c.y), never)
+			if !ok {
+				t.Fatal("stopped without being asked")
+			}
+			var num, den float64
+			for i := range got {
+				num += (got[i] - exact[i]) * (got[i] - exact[i])
+				den += exact[i] * exact[i]
+			}
+			b := bbox(c.y)
+			fErr, zErr := math.Sqrt(num/den), math.Abs(z-zExact)/zExact
+			t.Logf("α = %g, %s (%.3g × %.3g): cells %d×%d of width %.3g, FFT %d×%d, near field %v: force error %.2e, Z error %.2e",
+				tail, c.name, b[1]-b[0], b[3]-b[2], r.nx, r.ny, r.h, r.lx, r.ly, r.near, fErr, zErr)
+			if fErr > 1e-3 || zErr > 1e-3 {
+				t.Errorf("α = %g, %s: force error %.2e, Z error %.2e; want ≤ 1e-3", tail, c.name, fErr, zErr)
+			}
 		}
 	}
 }
@@ -107,7 +110,7 @@ func TestFFTRepulsionAgainstExact(t *testing.T) {
 func TestFFTRepulsionOnNodes(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 5))
 	const n = 1500
-	r := newFFTRepulsion(0)
+	r := newFFTRepulsion(0, 1)
 	// A layout of extent 2 uses the grid alone with 8 cells of width 1/4
 	// (a power of 2^(1/8), so not rounded); nodes lie 1/16 apart.
 	y := make([]float64, 2*n)
@@ -116,7 +119,7 @@ func TestFFTRepulsionOnNodes(t *testing.T) {
 		y[i] = float64(rng.IntN(33)) / 16
 	}
 	exact := make([]float64, 2*n)
-	zExact := ExactRepulsion(exact, y, 0)
+	zExact := ExactRepulsion(exact, y, 1, 0)
 	got := make([]float64, 2*n)
 	z, _ := r.compute(got, y, bbox(y), never)
 	if r.near || r.delta != 1.0/16 {
@@ -137,7 +140,7 @@ func TestFFTRepulsionOnNodes(t *testing.T) {
 // reproducible parallel code).
 func TestFFTRepulsionDeterministic(t *testing.T) {
 	a, b := clusteredLayout(3000, 40, 7), clusteredLayout(3000, 90, 8)
-	r := newFFTRepulsion(3)
+	r := newFFTRepulsion(3, 1)
 	first := make([]float64, len(a))
 	z1, _ := r.compute(first, a, bbox(a), never)
 	other := make([]float64, len(b))

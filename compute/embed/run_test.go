@@ -87,7 +87,7 @@ func TestSnapshots(t *testing.T) {
 	}
 	// The KL estimate is for the layout before the last iteration; after
 	// 400 iterations one step changes KL by far less than 1e-3.
-	exact, err := KL(P, last.Layout, 0)
+	exact, err := KL(P, last.Layout, 1, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -159,7 +159,7 @@ func TestWarmRestart(t *testing.T) {
 	}
 	before, _ := toFloat64(init, "")
 	after, _ := toFloat64(out, "")
-	cb, ca := objective(P, before, 4), objective(P, after, 4)
+	cb, ca := objective(P, before, 4, 1), objective(P, after, 4, 1)
 	t.Logf("C_4 from %.5f to %.5f", cb, ca)
 	if !(ca < cb) {
 		t.Errorf("warm run at ρ = 4 did not lower C_4: %.5f → %.5f", cb, ca)
@@ -191,6 +191,8 @@ func TestRunErrors(t *testing.T) {
 		{Attraction: 1, Iterations: -1}, {Attraction: 1, EarlyIterations: 800},
 		{Attraction: 1, LearningRate: -2}, {Attraction: 1, EarlyExaggeration: math.Inf(1)},
 		{Attraction: 1, SnapshotEvery: -time.Second},
+		{Attraction: 1, Tail: -1}, {Attraction: 1, Tail: math.NaN()}, {Attraction: 1, Tail: MinTail / 2},
+		{Attraction: 1, Tail: 2 * MaxTail}, {Attraction: 1, Tail: math.Inf(1)},
 	} {
 		if _, err := Run(ctx, P, nil, p, nil); !errors.Is(err, ErrParam) {
 			t.Errorf("%+v: got %v, want ErrParam", p, err)

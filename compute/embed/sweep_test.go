@@ -184,11 +184,11 @@ func TestAttractionSweep(t *testing.T) {
 		}
 		y0, _ := toFloat64(earlier.Layout, "")
 		y1, _ := toFloat64(layout, "")
-		c0, c1 := objective(P, y0, rho), objective(P, y1, rho)
+		c0, c1 := objective(P, y0, rho, 1), objective(P, y1, rho, 1)
 		share[rho] = sharedNeighbours(mapNeighbours(layout, 15), specNb)
 		t.Logf("ρ = %5g: shared 15-NN with the eigenmap %.3f, distance correlation %.3f; p99 %.2f, p99.9 %.2f; over the last %d iterations C_ρ %.5f → %.5f, KL %.4f → %.4f; settled %v",
 			rho, share[rho], distanceCorrelation(layout, spec, 1000), p99, p999, total-earlier.Iteration, c0, c1,
-			objective(P, y0, 1), objective(P, y1, 1), snaps[len(snaps)-1].Settled)
+			objective(P, y0, 1, 1), objective(P, y1, 1, 1), snaps[len(snaps)-1].Settled)
 		if p999 > 2*p99 {
 			t.Errorf("ρ = %g: a cell is flung away: 99.9th percentile %.2f > 2 × 99th %.2f", rho, p999, p99)
 		}
@@ -198,7 +198,7 @@ func TestAttractionSweep(t *testing.T) {
 		// to a limit as the map grows.
 		// Both KL values exactly, from the layouts (a snapshot's estimate
 		// can lag its layout by a second or 10 iterations).
-		kl0, kl1 := objective(P, y0, 1), objective(P, y1, 1)
+		kl0, kl1 := objective(P, y0, 1, 1), objective(P, y1, 1, 1)
 		if (rho < 1 && math.Abs(kl1-kl0) > 0.01*kl1) || (rho >= 1 && math.Abs(c1-c0) > 0.01*math.Abs(c1)) {
 			t.Errorf("ρ = %g: the loss has not settled over the last %d iterations: KL %.5f → %.5f, C_ρ %.5f → %.5f",
 				rho, total-earlier.Iteration, kl0, kl1, c0, c1)
