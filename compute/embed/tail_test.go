@@ -87,7 +87,7 @@ func TestHeavyTailSplitsSubclusters(t *testing.T) {
 	}
 	var rises []float64
 	for seed := uint64(1); seed <= 3; seed++ {
-		x, top, sub := nestedClusters(3000, 10, 4, 3, 20, 3.5, seed)
+		x, top, sub := nestedClusters(2000, 10, 4, 3, 20, 3.5, seed)
 		P := affinityOf(t, x, 30)
 		init, err := InitPCA(x)
 		if err != nil {
@@ -141,7 +141,7 @@ func TestTailOneIsTSNE(t *testing.T) {
 // against the exact KL of its final layout for that tail, as TestSnapshots
 // does for t-SNE.
 func TestTailKLEstimate(t *testing.T) {
-	P := mixtureAffinity(t, 3000)
+	P := mixtureAffinity(t, 2000)
 	for _, tail := range []float64{0.5, 2} {
 		p := DefaultParams()
 		p.Iterations, p.Tail = 400, tail
