@@ -4,11 +4,14 @@ import (
 	"crypto/sha256"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"syscall"
 	"testing"
+
+	"lodestone/app/session"
 )
 
 // Tests of hostile but realistic use of the headless commands: each checks
@@ -268,4 +271,56 @@ func TestTooFewCellsNamesTheSetting(t *testing.T) {
 	os.WriteFile(p, []byte("cell,PC1,PC2\nc1,1,2\nc2,3,1\nc3,0,0\n"), 0o644)
 	wantRefused(t, dir, []string{"a map needs at least 10 cells", "the table has 3", "the perplexity (30) would have to fall below 3"},
 		"embed", "--in", p, "--out", filepath.Join(dir, "x.csv"))
+}
+
+func TestDamagedSessionsAndAnnotationsAreNotSilent(t *testing.T) {
+	dir := writeExample(t)
+	other := t.TempDir()
+	sess := filepath.Join(other, "map.lodestone")
+	if code, _, errs := run(t, append([]string{"embed", "--in", dir, "--session", sess, "--iterations", "30", "--quiet"}, smallFlags...)...); code != ExitOK {
+		t.Fatalf("embed: %s", errs)
+	}
+	s, err := session.Read(sess)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for name, c := range map[string]struct {
+		damage func([]float32)
+		want   string
+	}{
+		"all NaN": {func(l []float32) {
+			for i := range l {
+				l[i] = float32(math.NaN())
+			}
+		}, "the layout has no point with finite coordinates"},
+		"one point": {func(l []float32) { l[7] = float32(math.Inf(1)) }, "the layout has 1 of"},
+	} {
+		d := *s
+		d.Layout = append([]float32(nil), s.Layout...)
+		c.damage(d.Layout)
+		bad := filepath.Join(other, "bad.lodestone")
+		f, _ := os.Create(bad)
+		if err := session.Encode(f, &d); err != nil {
+			t.Fatal(err)
+		}
+		f.Close()
+		wantRefused(t, other, []string{bad, c.want}, "figure", "--session", bad, "--out", filepath.Join(other, name+".png"))
+	}
+
+	// Duplicate cell IDs and a few marks in a numeric column of the
+	// annotation table: both said, the column kept numeric.
+	ann, _ := os.ReadFile(filepath.Join(dir, "annotations.tsv"))
+	lines := strings.Split(strings.TrimSuffix(string(ann), "\n"), "\n")
+	lines = append(lines, lines[1]) // a second row for the first cell
+	f := strings.Split(lines[2], "\t")
+	f[len(f)-1] = "-" // the maturation of the second cell
+	lines[2] = strings.Join(f, "\t")
+	meta := filepath.Join(other, "meta.tsv")
+	os.WriteFile(meta, []byte(strings.Join(lines, "\n")+"\n"), 0o644)
+	out := filepath.Join(other, "layout.csv")
+	code, _, errs := run(t, append([]string{"embed", "--in", dir, "--meta", meta, "--out", out, "--iterations", "30"}, smallFlags...)...)
+	if code != ExitOK || !strings.Contains(errs, "warning: meta.tsv names 1 cell on more than one row (bcomb-c000001)") ||
+		!strings.Contains(errs, `warning: meta.tsv: column "maturation": 1 value that is not a number ("-") read as missing`) {
+		t.Fatalf("status %d, stderr %q", code, errs)
+	}
 }

@@ -112,10 +112,11 @@ func (f *inputFlags) load(ctx context.Context, b *bar) (*atlas.Dataset, error) {
 	}
 	b.finish()
 	for _, n := range d.Notes {
-		b.note("%s", n)
-	}
-	if j := d.Join; j != nil && j.DuplicatedCount > 0 {
-		b.warn("the annotation table names %d cells on more than one row (%s); the first row of each is used", j.DuplicatedCount, strings.Join(j.Duplicated, ", "))
+		if strings.Contains(n, "on more than one row") || strings.Contains(n, "read as missing") {
+			b.warn("%s", n) // rows or values left out
+		} else {
+			b.note("%s", n)
+		}
 	}
 	if f.fs != nil {
 		read := make([]named, len(d.Sources))

@@ -124,6 +124,9 @@ func Decode(r io.ReaderAt, size int64) (*Session, error) {
 	}
 	files := map[string]*zip.File{}
 	for _, f := range z.File {
+		if _, dup := files[f.Name]; dup {
+			return nil, fmt.Errorf("%w: the archive holds two parts named %s", ErrCorrupt, f.Name)
+		}
 		files[f.Name] = f
 	}
 	raw, err := readPart(files, "manifest.json", 64<<20)

@@ -220,6 +220,14 @@ func (s *Session) Validate() error {
 	if len(s.Initial) != 2*n {
 		return fmt.Errorf("%w: initial layout has %d coordinates for %d cells", ErrCorrupt, len(s.Initial), n)
 	}
+	for _, l := range []struct {
+		name string
+		xy   []float32
+	}{{"layout", s.Layout}, {"initial layout", s.Initial}} {
+		if err := finitePoints(l.name, l.xy, s.CellIDs); err != nil {
+			return err
+		}
+	}
 	for i, c := range s.Columns {
 		switch c.Kind {
 		case "categorical":
@@ -260,6 +268,29 @@ func (s *Session) Validate() error {
 		return fmt.Errorf("%w: attraction is not a number", ErrCorrupt)
 	}
 	return nil
+}
+
+// finitePoints reports a layout with points whose coordinates are not
+// finite numbers: the map could not be drawn (NaN bounds, a blank figure)
+// nor continued from.
+func finitePoints(name string, xy []float32, ids []string) error {
+	bad, first := 0, -1
+	for i := 0; i+1 < len(xy); i += 2 {
+		x, y := float64(xy[i]), float64(xy[i+1])
+		if math.IsNaN(x) || math.IsInf(x, 0) || math.IsNaN(y) || math.IsInf(y, 0) {
+			if bad == 0 {
+				first = i / 2
+			}
+			bad++
+		}
+	}
+	switch {
+	case bad == 0:
+		return nil
+	case 2*bad == len(xy):
+		return fmt.Errorf("%w: the %s has no point with finite coordinates (all %d are NaN or infinite)", ErrCorrupt, name, bad)
+	}
+	return fmt.Errorf("%w: the %s has %d of %d points whose coordinates are NaN or infinite, the first cell %q (number %d)", ErrCorrupt, name, bad, len(xy)/2, ids[first], first+1)
 }
 
 // Members lists the cells marked in a selection, ascending.

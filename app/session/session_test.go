@@ -3,6 +3,7 @@ package session
 import (
 	"archive/zip"
 	"bytes"
+	"encoding/binary"
 	"errors"
 	"math"
 	"os"
@@ -99,11 +100,47 @@ func TestBadFilesGiveClearErrors(t *testing.T) {
 		"bad code":       {rewrite(t, good, "columns/0.i32", func(b []byte) []byte { c := append([]byte(nil), b...); c[0] = 9; return c }), ErrCorrupt},
 		"unsorted group": {rewrite(t, good, "groups/0.u32", func(b []byte) []byte { c := append([]byte(nil), b...); c[0], c[4] = 4, 0; return c }), ErrCorrupt},
 	}
+	nan := func(all bool) func([]byte) []byte {
+		return func(b []byte) []byte {
+			c := append([]byte(nil), b...)
+			for i := 0; i < len(c); i += 4 {
+				if all || i == 12 { // cell 2's y
+					binary.LittleEndian.PutUint32(c[i:], math.Float32bits(float32(math.NaN())))
+				}
+			}
+			return c
+		}
+	}
+	messages := map[string]struct {
+		data []byte
+		msg  string
+	}{
+		"NaN map":         {rewrite(t, good, "layout.f32", nan(true)), "the layout has no point with finite coordinates (all 5 are NaN or infinite)"},
+		"one NaN point":   {rewrite(t, good, "layout.f32", nan(false)), `the layout has 1 of 5 points whose coordinates are NaN or infinite, the first cell "c2" (number 2)`},
+		"NaN start":       {rewrite(t, good, "initial.f32", nan(false)), "the initial layout has 1 of 5 points"},
+		"duplicate parts": {duplicatePart(t, good, "layout.f32"), "the archive holds two parts named layout.f32"},
+	}
+	for name, c := range messages {
+		cases[name] = struct {
+			data []byte
+			want error
+		}{c.data, ErrCorrupt}
+		_, err := Decode(bytes.NewReader(c.data), int64(len(c.data)))
+		if err == nil || !strings.Contains(err.Error(), c.msg) {
+			t.Errorf("%s: error %v, want %q", name, err, c.msg)
+		}
+	}
 	for name, c := range cases {
 		_, err := Decode(bytes.NewReader(c.data), int64(len(c.data)))
 		if !errors.Is(err, c.want) {
 			t.Errorf("%s: error %v, want %v", name, err, c.want)
 		}
+	}
+	// A map with a NaN point is not written either.
+	bad := sample()
+	bad.Layout[3] = float32(math.NaN())
+	if err := Write(filepath.Join(t.TempDir(), "x"+Extension), bad); !errors.Is(err, ErrCorrupt) {
+		t.Errorf("writing a NaN map: %v", err)
 	}
 	// Read names the file.
 	path := filepath.Join(t.TempDir(), "broken"+Extension)
@@ -199,4 +236,30 @@ func FuzzDecode(f *testing.F) {
 			t.Fatalf("Decode returned an invalid session: %v", err)
 		}
 	})
+}
+
+// duplicatePart returns the archive with a second part named part, holding
+// other data, after the first.
+func duplicatePart(t *testing.T, data []byte, part string) []byte {
+	t.Helper()
+	z, err := zip.NewReader(bytes.NewReader(data), int64(len(data)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var out bytes.Buffer
+	w := zip.NewWriter(&out)
+	for _, zf := range z.File {
+		rc, _ := zf.Open()
+		var b bytes.Buffer
+		b.ReadFrom(rc)
+		rc.Close()
+		fw, _ := w.Create(zf.Name)
+		fw.Write(b.Bytes())
+		if zf.Name == part {
+			fw, _ := w.Create(zf.Name)
+			fw.Write(make([]byte, b.Len()))
+		}
+	}
+	w.Close()
+	return out.Bytes()
 }

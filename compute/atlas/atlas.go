@@ -154,6 +154,9 @@ type JoinReport struct {
 	Extra           int      // annotation rows naming no cell
 	Duplicated      []string // IDs that occur more than once in the annotation table (first kept), at most 20 listed
 	DuplicatedCount int      // how many duplicated IDs in all
+	// NotNumbers lists, one sentence per numeric column, the few values
+	// that were not numbers and were read as missing.
+	NotNumbers []string
 }
 
 // Cells returns the number of cells.

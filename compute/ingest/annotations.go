@@ -63,6 +63,11 @@ func isMissing(f []byte, quoted bool) bool {
 // Each column's kind is inferred from its non-missing values: continuous
 // when all are finite numbers, except that integers with at most
 // MaxIntegerLevels distinct values are categorical; otherwise categorical.
+// A column of numbers with a few values that are not (at most
+// maxOddTokens distinct ones, at most one for 20 numbers, such as "-", "?",
+// "#N/A" or "inf") stays continuous when its numbers would be: those values
+// are read as missing and listed in the report's NotNumbers. (In a column
+// of a few integer levels they stay levels of their own.)
 // Levels are in natural order (see NaturalLess): numbers by value, then
 // text, with runs of digits inside text compared by value ("state 2" before
 // "state 10"). Empty column names become "column N" and repeated ones get
@@ -138,6 +143,9 @@ func ReadAnnotations(ctx context.Context, r io.Reader, name string, cellIDs []st
 	out := make([]atlas.Column, len(cols))
 	for k := range cols {
 		out[k] = cols[k].finish(names[k])
+		if b := &cols[k]; out[k].Kind == atlas.Continuous && len(b.odd) > 0 {
+			rep.NotNumbers = append(rep.NotNumbers, b.oddNote(names[k]))
+		}
 	}
 	return out, rep, nil
 }
@@ -171,10 +179,21 @@ type colBuilder struct {
 	intern  map[string]int32
 	levels  []string
 	codes   []int32 // per cell, Missing when absent; nil while not interning
+	// odd counts the values that are not numbers in a column still taken
+	// as numeric, by value; oddLimit bounds their count.
+	odd      map[string]int
+	oddAt    map[int32]string // the cells holding them
+	oddCount int
+	oddLimit int
+	numCount int // values that are numbers
 }
 
+// maxOddTokens bounds the distinct values that are not numbers in a column
+// still read as numbers.
+const maxOddTokens = 3
+
 func newColBuilder(n int) colBuilder {
-	b := colBuilder{numeric: true, num: make([]float64, n), intern: map[string]int32{}, codes: make([]int32, n)}
+	b := colBuilder{numeric: true, num: make([]float64, n), intern: map[string]int32{}, codes: make([]int32, n), oddLimit: max(1, n/20)}
 	for i := range b.num {
 		b.num[i] = math.NaN()
 		b.codes[i] = atlas.Missing
@@ -187,12 +206,21 @@ func (b *colBuilder) add(i int32, f []byte) {
 	if b.numeric {
 		if x, ok := parseFloat(f); ok && !math.IsNaN(x) && !math.IsInf(x, 0) {
 			b.num[i] = x
+			b.numCount++
 		} else {
-			b.numeric = false
-			if b.codes == nil {
-				b.textFromNumbers()
+			if b.odd == nil {
+				b.odd, b.oddAt = map[string]int{}, map[int32]string{}
 			}
-			b.num = nil
+			b.odd[string(f)]++
+			b.oddAt[i] = string(f)
+			b.oddCount++
+			if len(b.odd) > maxOddTokens || b.oddCount > b.oddLimit {
+				b.numeric = false
+				if b.codes == nil {
+					b.textFromNumbers()
+				}
+				b.num, b.odd, b.oddAt = nil, nil, nil
+			}
 		}
 	}
 	if b.codes == nil {
@@ -211,18 +239,37 @@ func (b *colBuilder) add(i int32, f []byte) {
 	}
 }
 
+// oddNote says which values of a numeric column were read as missing.
+func (b *colBuilder) oddNote(name string) string {
+	var vals []string
+	for v := range b.odd {
+		vals = append(vals, strconv.Quote(v))
+	}
+	sort.Strings(vals)
+	what := plural(b.oddCount, "value") + " that are not numbers"
+	if b.oddCount == 1 {
+		what = "1 value that is not a number"
+	}
+	return fmt.Sprintf("column %q: %s (%s) read as missing", name, what, strings.Join(vals, ", "))
+}
+
 // textFromNumbers rebuilds the codes of a column that stopped keeping its
-// texts from its numbers, written in shortest form.
+// texts from its numbers, written in shortest form, and the values that
+// were not numbers.
 func (b *colBuilder) textFromNumbers() {
 	b.intern = map[string]int32{}
+	b.levels = nil
 	b.codes = make([]int32, len(b.num))
 	var buf []byte
 	for i, x := range b.num {
 		b.codes[i] = atlas.Missing
-		if math.IsNaN(x) {
+		if odd, ok := b.oddAt[int32(i)]; ok {
+			buf = append(buf[:0], odd...)
+		} else if math.IsNaN(x) {
 			continue
+		} else {
+			buf = strconv.AppendFloat(buf[:0], x, 'g', -1, 64)
 		}
-		buf = strconv.AppendFloat(buf[:0], x, 'g', -1, 64)
 		code, ok := b.intern[string(buf)]
 		if !ok {
 			code = int32(len(b.levels))
@@ -235,6 +282,13 @@ func (b *colBuilder) textFromNumbers() {
 
 // finish decides the column's kind and returns it.
 func (b *colBuilder) finish(name string) atlas.Column {
+	if b.numeric && b.oddCount > 0 && 20*b.oddCount > b.numCount {
+		// More than one value in 20 is not a number: text.
+		b.numeric = false
+		if b.codes == nil {
+			b.textFromNumbers()
+		}
+	}
 	if !b.numeric {
 		return categorical(name, b.levels, b.codes)
 	}
@@ -251,6 +305,13 @@ func (b *colBuilder) finish(name string) atlas.Column {
 	}
 	if !integers || len(distinct) == 0 || len(distinct) > MaxIntegerLevels {
 		return atlas.Column{Name: name, Kind: atlas.Continuous, Values: b.num}
+	}
+	if len(b.odd) > 0 {
+		// A few integer levels and a few texts: all of them are levels.
+		if b.codes == nil {
+			b.textFromNumbers()
+		}
+		return categorical(name, b.levels, b.codes)
 	}
 	levels := make([]string, len(distinct))
 	for x, code := range distinct {

@@ -96,24 +96,28 @@ func TestReadAnnotationsIntegerLevels(t *testing.T) {
 }
 
 func TestReadAnnotationsNumbersThenText(t *testing.T) {
-	// More distinct numbers than are remembered as text, then a word: the
-	// column becomes categorical, the numbers written in shortest form.
+	// More distinct numbers than are remembered as text, then more
+	// distinct words than a numeric column tolerates: the column becomes
+	// categorical, the numbers written in shortest form.
 	n := internLimit + 10
-	cells := make([]string, n+1)
+	words := []string{"word", "alpha", "beta", "gamma"}
+	cells := make([]string, n+len(words))
 	var b strings.Builder
 	b.WriteString("cell,x\n")
 	for i := 0; i < n; i++ {
 		cells[i] = fmt.Sprint("c", i)
 		fmt.Fprintf(&b, "c%d,%d.50\n", i, i)
 	}
-	cells[n] = "last"
-	b.WriteString("last,word\n")
+	for k, w := range words {
+		cells[n+k] = fmt.Sprint("last", k)
+		fmt.Fprintf(&b, "last%d,%s\n", k, w)
+	}
 	cols, _, err := ReadAnnotations(bg, strings.NewReader(b.String()), "x.csv", cells, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
 	c := cols[0]
-	if c.Kind != atlas.Categorical || len(c.Levels) != n+1 {
+	if c.Kind != atlas.Categorical || len(c.Levels) != n+len(words) {
 		t.Fatalf("%v with %d levels", c.Kind, len(c.Levels))
 	}
 	for _, i := range []int{0, 1, 777, n - 1} {
@@ -121,8 +125,53 @@ func TestReadAnnotationsNumbersThenText(t *testing.T) {
 			t.Errorf("cell %d: %q, want %q", i, c.Label(i), want)
 		}
 	}
-	if c.Label(n) != "word" || c.Levels[n] != "word" {
-		t.Errorf("last cell %q, last level %q", c.Label(n), c.Levels[n])
+	for k, w := range words {
+		if c.Label(n+k) != w {
+			t.Errorf("cell %d: %q, want %q", n+k, c.Label(n+k), w)
+		}
+	}
+}
+
+func TestReadAnnotationsNumbersWithAFewMissingMarks(t *testing.T) {
+	// A numeric column with a few marks that are not numbers stays numeric
+	// (they are missing, and reported); a column of a few integer levels
+	// keeps them as levels; too many marks make text.
+	const n = 200
+	cells := make([]string, n)
+	var b strings.Builder
+	b.WriteString("cell\tscore\tday\tmostly\n")
+	for i := range n {
+		cells[i] = fmt.Sprint("c", i)
+		score, day, mostly := fmt.Sprintf("%g", cellScore(i)), fmt.Sprint(i%5), fmt.Sprint(i)
+		switch i {
+		case 5:
+			score, day = "-", "unknown"
+		case 9:
+			score = "#N/A"
+		case 17:
+			score = "inf"
+		}
+		if i%10 == 3 {
+			mostly = "?"
+		}
+		fmt.Fprintf(&b, "c%d\t%s\t%s\t%s\n", i, score, day, mostly)
+	}
+	cols, rep, err := ReadAnnotations(bg, strings.NewReader(b.String()), "a.tsv", cells, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	score, day, mostly := cols[0], cols[1], cols[2]
+	if score.Kind != atlas.Continuous || !math.IsNaN(score.Values[5]) || !math.IsNaN(score.Values[17]) || score.Values[6] != cellScore(6) {
+		t.Fatalf("score: %v %v", score.Kind, score.Values[:8])
+	}
+	if len(rep.NotNumbers) != 1 || rep.NotNumbers[0] != `column "score": 3 values that are not numbers ("#N/A", "-", "inf") read as missing` {
+		t.Errorf("report %q", rep.NotNumbers)
+	}
+	if day.Kind != atlas.Categorical || day.Label(5) != "unknown" || day.Label(6) != "1" || len(day.Levels) != 6 {
+		t.Errorf("day: %v %q %q", day.Kind, day.Levels, day.Label(5))
+	}
+	if mostly.Kind != atlas.Categorical || mostly.Label(3) != "?" {
+		t.Errorf("mostly: %v, cell 3 %q", mostly.Kind, mostly.Label(3))
 	}
 }
 
@@ -200,3 +249,5 @@ func TestNaturalLess(t *testing.T) {
 		}
 	}
 }
+
+func cellScore(i int) float64 { return float64(i) * 0.37 }

@@ -723,6 +723,16 @@ func (pl *plan) load(ctx context.Context, opt Options) (*atlas.Dataset, error) {
 		if err != nil {
 			return nil, err
 		}
+		name, j := filepath.Base(pl.annotations), ds.Join
+		if j.Unmatched > 0 || j.Extra > 0 {
+			pl.note("%s: %d cells found a row, %d have none (their annotations are missing), %d rows name no cell.", name, j.Matched, j.Unmatched, j.Extra)
+		}
+		if j.DuplicatedCount > 0 {
+			pl.note("%s names %s on more than one row (%s); the first row of each was used.", name, plural(j.DuplicatedCount, "cell"), strings.Join(j.Duplicated, ", "))
+		}
+		for _, n := range j.NotNumbers {
+			pl.note("%s: %s.", name, n)
+		}
 	}
 	c.finish()
 	return ds, nil
@@ -821,4 +831,12 @@ func checkUnique(ids []string, file string, first int) error {
 		seen[id] = i
 	}
 	return nil
+}
+
+// plural returns "1 cell", "2 cells".
+func plural(n int, what string) string {
+	if n == 1 {
+		return "1 " + what
+	}
+	return fmt.Sprintf("%d %ss", n, what)
 }
