@@ -1,6 +1,7 @@
 package cli
 
 import (
+	"context"
 	"crypto/sha256"
 	"fmt"
 	"io"
@@ -11,6 +12,7 @@ import (
 	"syscall"
 	"testing"
 
+	"lodestone/app/restore"
 	"lodestone/app/session"
 )
 
@@ -190,10 +192,21 @@ func TestLabelFilesAreNeverGuessedWrong(t *testing.T) {
 	os.WriteFile(filepath.Join(folder, "notes.txt"), []byte(notes.String()), 0o644)
 	wantRefused(t, folder, []string{"cells.tsv", "notes.txt", "--cell-labels and --gene-labels"},
 		append([]string{"embed", "--in", folder, "--out", out}, smallFlags...)...)
-	// Named, it opens, and progress says which file gave what.
-	code, _, errs := run(t, append([]string{"embed", "--in", folder, "--cell-labels", filepath.Join(folder, "cells.tsv"), "--out", out, "--iterations", "30"}, smallFlags...)...)
+	// Named, it opens, and progress says which file gave what; the session
+	// keeps the name, so the atlas is read again the same way.
+	sess := filepath.Join(other, "map.lodestone")
+	code, _, errs := run(t, append([]string{"embed", "--in", folder, "--cell-labels", filepath.Join(folder, "cells.tsv"), "--out", out,
+		"--session", sess, "--iterations", "30"}, smallFlags...)...)
 	if code != ExitOK || !strings.Contains(errs, "cells from cells.tsv (1200, given), genes from genes.tsv (300, found beside it)") {
 		t.Fatalf("status %d, stderr %q", code, errs)
+	}
+	s, err := session.Read(sess)
+	if err != nil || s.Reading == nil || s.Reading.CellLabels != filepath.Join(folder, "cells.tsv") {
+		t.Fatalf("session %v, reading %+v", err, s.Reading)
+	}
+	d, err := restore.Load(context.Background(), s, nil)
+	if err != nil || d.Cells() != 1200 || d.CellIDs[0] != "bcomb-c000001" {
+		t.Fatalf("reading again: %v", err)
 	}
 }
 

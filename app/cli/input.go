@@ -399,5 +399,6 @@ func (f *inputFlags) origin(p *pipeline.Prepared) (restore.Origin, error) {
 	if err != nil {
 		return restore.Origin{}, err
 	}
-	return restore.Origin{Path: f.in, Inputs: ins}, nil
+	opt, err := f.options()
+	return restore.Origin{Path: f.in, Inputs: ins, Open: opt}, err
 }

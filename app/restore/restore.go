@@ -37,6 +37,10 @@ type Origin struct {
 	// generated with these options (their Cells, Genes and Seed are
 	// stored); Path and Inputs are then not used.
 	Example *sampledata.Options
+	// Open holds what was given to the reader beyond Path: the label
+	// files, their header lines, the orientation and the annotation table
+	// (its other fields are not used).
+	Open ingest.Options
 }
 
 // Map is what a session records of a map, beside what only the window has
@@ -80,7 +84,45 @@ func Capture(m Map) *session.Session {
 		s.OpenedPath = abs
 	}
 	s.Inputs = m.Origin.Inputs
+	s.Reading = reading(m.Origin.Open)
 	return s
+}
+
+// header names a label file's header option as a session stores it.
+var header = map[ingest.Header]string{ingest.HeaderAuto: "", ingest.HeaderNone: "none", ingest.HeaderFirst: "first"}
+
+// reading returns what a session stores of the reader's options, nil when
+// nothing was given.
+func reading(o ingest.Options) *session.Reading {
+	abs := func(p string) string {
+		if a, err := filepath.Abs(p); err == nil && p != "" {
+			return a
+		}
+		return p
+	}
+	r := session.Reading{CellLabels: abs(o.Cells), GeneLabels: abs(o.Genes), CellsHeader: header[o.CellsHeader],
+		GenesHeader: header[o.GenesHeader], MatrixRows: o.MatrixRows, Annotations: abs(o.Annotations)}
+	if r == (session.Reading{}) {
+		return nil
+	}
+	return &r
+}
+
+// openOptions returns the reader's options a session stores.
+func openOptions(r *session.Reading) ingest.Options {
+	if r == nil {
+		return ingest.Options{}
+	}
+	o := ingest.Options{Cells: r.CellLabels, Genes: r.GeneLabels, MatrixRows: r.MatrixRows, Annotations: r.Annotations}
+	for h, name := range header {
+		if name == r.CellsHeader {
+			o.CellsHeader = h
+		}
+		if name == r.GenesHeader {
+			o.GenesHeader = h
+		}
+	}
+	return o
 }
 
 // Hash returns the sizes and SHA-256 hashes of the files an atlas was read
@@ -117,7 +159,9 @@ func Load(ctx context.Context, s *session.Session, report func(stage string, don
 	if s.OpenedPath == "" {
 		return nil, ErrNoInputs
 	}
-	return ingest.Open(ctx, s.OpenedPath, ingest.Options{Progress: func(done, total int64) { report("read", done, total) }})
+	o := openOptions(s.Reading)
+	o.Progress = func(done, total int64) { report("read", done, total) }
+	return ingest.Open(ctx, s.OpenedPath, o)
 }
 
 // Features reads the inputs of s and reruns the preparation with its

@@ -67,6 +67,20 @@ type Input struct {
 	SHA256 string `json:"sha256"`
 }
 
+// Reading says what was given about the input files beyond the path
+// opened, so that they are read again the same way: the label files (as
+// absolute paths), whether their first lines are headers ("first", "none",
+// or empty: decided by the content), what the matrix's rows are ("cells",
+// "genes", or empty: decided from the label files), the annotation table.
+type Reading struct {
+	CellLabels  string `json:"cell_labels,omitempty"`
+	GeneLabels  string `json:"gene_labels,omitempty"`
+	CellsHeader string `json:"cells_header,omitempty"`
+	GenesHeader string `json:"genes_header,omitempty"`
+	MatrixRows  string `json:"matrix_rows,omitempty"`
+	Annotations string `json:"annotations,omitempty"`
+}
+
 // Example describes the bundled example atlas used as input.
 type Example struct {
 	Cells int   `json:"cells"`
@@ -184,7 +198,10 @@ type Session struct {
 	OpenedPath string   `json:"opened_path,omitempty"`
 	Inputs     []Input  `json:"inputs,omitempty"`
 	Example    *Example `json:"example,omitempty"`
-	Settings   Settings `json:"settings"`
+	// Reading, when not nil, says what was given about the input files
+	// beyond the path opened.
+	Reading  *Reading `json:"reading,omitempty"`
+	Settings Settings `json:"settings"`
 
 	CellIDs []string  `json:"-"`
 	Columns []Column  `json:"columns"`
@@ -262,6 +279,16 @@ func (s *Session) Validate() error {
 		}
 		if st.Done < 0 || st.Iterations < 0 {
 			return fmt.Errorf("%w: history step %d has negative counts", ErrCorrupt, i+1)
+		}
+	}
+	if r := s.Reading; r != nil {
+		for _, h := range []string{r.CellsHeader, r.GenesHeader} {
+			if h != "" && h != "first" && h != "none" {
+				return fmt.Errorf("%w: reading: header %q (want first or none)", ErrCorrupt, h)
+			}
+		}
+		if r.MatrixRows != "" && r.MatrixRows != "cells" && r.MatrixRows != "genes" {
+			return fmt.Errorf("%w: reading: matrix rows %q (want cells or genes)", ErrCorrupt, r.MatrixRows)
 		}
 	}
 	if math.IsNaN(float64(s.Attraction)) {
