@@ -26,6 +26,10 @@ func init() {
 	register("bench", "time the stages on generated data: kNN, PCA and the embedding", runBench)
 }
 
+// maxBenchCells bounds the atlases bench generates (about 1 GB of
+// features per million cells at 50 components, with the graph on top).
+const maxBenchCells = 5000000
+
 func runBench(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("bench", "[--sizes 10000,70000,250000,1000000] [--sections knn,pca,embed]", stderr)
 	sizesFlag := fs.String("sizes", "10000,70000,250000,1000000", "numbers of cells, comma-separated")
@@ -39,8 +43,8 @@ func runBench(args []string, stdout, stderr io.Writer) error {
 	var sizes []int
 	for _, f := range strings.Split(*sizesFlag, ",") {
 		n, err := strconv.Atoi(strings.TrimSpace(f))
-		if err != nil || n < 200 {
-			return usagef("--sizes: %q is not a number of cells ≥ 200", f)
+		if err != nil || n < 200 || n > maxBenchCells {
+			return usagef("--sizes: %q is not a number of cells from 200 to %d", f, maxBenchCells)
 		}
 		sizes = append(sizes, n)
 	}

@@ -166,8 +166,10 @@ func TestBenchPrintsItsTables(t *testing.T) {
 			t.Errorf("bench output lacks %q:\n%s", want, out)
 		}
 	}
-	if code, _, _ := run(t, "bench", "--sizes", "12"); code != ExitUsage {
-		t.Errorf("bench --sizes 12: status %d", code)
+	for _, bad := range []string{"12", "1000000000"} {
+		if code, _, _ := run(t, "bench", "--sizes", bad); code != ExitUsage {
+			t.Errorf("bench --sizes %s: status %d", bad, code)
+		}
 	}
 }
 

@@ -89,6 +89,7 @@ func TestOutputEqualToAnInputIsRefused(t *testing.T) {
 		{[]string{"embed", "--in", mtx, "--cell-labels", filepath.Join(dir, "cells.tsv"), "--out", filepath.Join(dir, "cells.tsv")}, []string{"same file as --cell-labels"}},
 		{[]string{"embed", "--in", dir, "--out", filepath.Join(other, "s.lodestone"), "--session", filepath.Join(other, ".", "s.lodestone")}, []string{"--out", "--session", "are the same file"}},
 		{[]string{"cluster", "--in", dir, "--out", mtx}, []string{"same file as the input file " + mtx}},
+		{[]string{"embed", "--in", dir, "--init", filepath.Join(other, "l.csv"), "--out", filepath.Join(other, "l.csv")}, []string{"is the same file as --init"}},
 		{[]string{"score", "--in", dir, "--layout", mtx, "--out", mtx}, nil}, // score has no --out: a usage error too
 		{[]string{"embed", "--in", dir, "--out", other}, []string{"--out: cannot write " + other + ": it is a folder"}},
 		{[]string{"embed", "--in", dir, "--out", filepath.Join(other, "no", "such", "x.csv")}, []string{"--out: cannot write " + filepath.Join(other, "no", "such", "x.csv") + ": its folder " + filepath.Join(other, "no", "such") + " does not exist"}},
