@@ -23,7 +23,7 @@ func interruptible() (context.Context, context.CancelFunc) {
 }
 
 func runEmbed(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("embed", "--in PATH [--rows FILE --cols FILE] [--meta FILE] --out layout.csv [flags]", stderr)
+	fs := newFlags("embed", "--in PATH [--cell-labels FILE --gene-labels FILE] [--meta FILE] --out layout.csv [flags]", stderr)
 	var in inputFlags
 	var pf prepFlags
 	in.register(fs)
