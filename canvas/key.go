@@ -62,6 +62,7 @@ func (k *Key) SetEntries(title string, entries []KeyEntry) {
 		hint := widget.NewLabel("tap: hide or show · double tap: show only this")
 		hint.Importance = widget.LowImportance
 		hint.TextStyle = fyne.TextStyle{Italic: true}
+		hint.Wrapping = fyne.TextWrapWord
 		objs = append(objs, hint)
 	}
 	k.body.Objects = objs

@@ -36,6 +36,9 @@ const (
 //
 // While a run moves the points the view follows the layout's extent
 // smoothly, until the user pans or zooms, which pins it; Fit unpins it.
+// The widget holds all state and changes it (its view follows the layout
+// and the widget's size); the renderer only reads it, scales the view from
+// logical to device pixels and draws.
 // All methods must be called on the UI goroutine.
 type Map struct {
 	widget.BaseWidget
@@ -59,13 +62,12 @@ type Map struct {
 	selCount  int
 	undo      [][]bool
 
-	view       raster.View // in device pixels
+	view       raster.View // in logical pixels (the renderer scales it to the device's)
 	viewFrom   raster.View // start of the glide towards the fitted view
 	viewTarget raster.View
 	glide      *fyne.Animation
 	pinned     bool
 	hasView    bool
-	pixScale   float64
 
 	path  []fyne.Position // the lasso being drawn, in logical pixels
 	hover int
@@ -76,11 +78,8 @@ type Map struct {
 
 	drawColours []uint16 // colours with the selection dimming applied
 	drawPalette []color.NRGBA
-	drawStale   bool
 
-	rend     raster.Renderer
-	img      *image.RGBA
-	lastDraw time.Duration
+	renderer *mapRenderer // the renderer, for what it drew (Snapshot, LastDrawTime)
 }
 
 var (
@@ -91,7 +90,8 @@ var (
 
 // NewMap returns an empty map.
 func NewMap() *Map {
-	m := &Map{hover: -1, pixScale: 1}
+	m := &Map{hover: -1}
+	m.style.Background = color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0xff}
 	m.ExtendBaseWidget(m)
 	return m
 }
@@ -110,10 +110,12 @@ func (m *Map) SetLayout(layout []float32) {
 		m.selection = make([]bool, n)
 		m.selCount = 0
 		m.undo = nil
+		bg := m.style.Background
 		m.style = raster.DefaultStyle(n)
+		m.style.Background = bg
 		m.hasView = false
 		m.pinned = false
-		m.drawStale = true
+		m.updateDrawColours()
 	}
 	m.layout = layout
 	m.gridStale = true
@@ -128,7 +130,7 @@ func (m *Map) Layout() []float32 { return m.layout }
 // palette. The slices must not be modified afterwards.
 func (m *Map) SetPaint(colours []uint16, palette []color.NRGBA) {
 	m.colours, m.palette = colours, palette
-	m.drawStale = true
+	m.updateDrawColours()
 	m.gridStale = true
 	m.Refresh()
 }
@@ -170,7 +172,7 @@ func (m *Map) applySelection(sel []bool) {
 			m.selCount++
 		}
 	}
-	m.drawStale = true
+	m.updateDrawColours()
 	m.Refresh()
 	if m.OnSelection != nil {
 		m.OnSelection(m.selCount)
@@ -215,61 +217,73 @@ func (m *Map) Fit() {
 // Order returns the drawing order of the cells.
 func (m *Map) Order() []int32 { return m.order }
 
-// LogicalView returns the current view in logical pixels (what the user
-// sees, independent of the screen's pixel density), and the widget's width
-// in logical pixels.
-func (m *Map) LogicalView() (raster.View, int) {
-	v := m.view
-	s := m.pixScale
-	if s <= 0 {
-		s = 1
-	}
-	v.Scale /= s
-	v.Width = int(math.Round(float64(v.Width) / s))
-	v.Height = int(math.Round(float64(v.Height) / s))
-	return v, int(m.Size().Width)
-}
-
 // Pinned reports whether the user's pan or zoom holds the view.
 func (m *Map) Pinned() bool { return m.pinned }
 
-// View returns the current view in device pixels.
+// View returns the current view in logical pixels: what the user sees,
+// independent of the screen's pixel density; its Width and Height are the
+// widget's size.
 func (m *Map) View() raster.View { return m.view }
 
-// SetView shows v (in device pixels) and pins it.
+// SetView shows v (in logical pixels) and pins it; its centre and scale are
+// kept, its size follows the widget's.
 func (m *Map) SetView(v raster.View) {
 	m.stopGlide()
+	v.Width, v.Height = m.logicalSize()
 	m.view, m.hasView, m.pinned = v, true, true
 	m.Refresh()
 }
 
-// Snapshot returns a copy of the last frame drawn (nil before the first).
+// Resize sizes the widget; a pinned view keeps its centre and scale, a
+// following view fits the layout at the new size at once.
+func (m *Map) Resize(s fyne.Size) {
+	if s == m.Size() {
+		return
+	}
+	m.BaseWidget.Resize(s)
+	if m.pinned && m.hasView {
+		m.view.Width, m.view.Height = m.logicalSize()
+		return
+	}
+	m.hasView = false
+	m.follow()
+}
+
+// Snapshot returns a copy of the last frame drawn, in device pixels (nil
+// before the first).
 func (m *Map) Snapshot() *image.RGBA {
-	if m.img == nil {
+	if m.renderer == nil || m.renderer.img == nil {
 		return nil
 	}
-	c := image.NewRGBA(m.img.Rect)
-	copy(c.Pix, m.img.Pix)
+	img := m.renderer.img
+	c := image.NewRGBA(img.Rect)
+	copy(c.Pix, img.Pix)
 	return c
 }
 
 // LastDrawTime returns how long drawing the last frame took.
-func (m *Map) LastDrawTime() time.Duration { return m.lastDraw }
+func (m *Map) LastDrawTime() time.Duration {
+	if m.renderer == nil {
+		return 0
+	}
+	return m.renderer.lastDraw
+}
 
-func (m *Map) deviceSize() (int, int) {
+// logicalSize returns the widget's size in whole logical pixels.
+func (m *Map) logicalSize() (int, int) {
 	s := m.Size()
-	return int(math.Round(float64(s.Width) * m.pixScale)), int(math.Round(float64(s.Height) * m.pixScale))
+	return int(math.Round(float64(s.Width))), int(math.Round(float64(s.Height)))
 }
 
 // fitted returns the view that shows the layout in the widget: its bulk,
 // that is, so that a few stragglers far outside do not shrink the map to a
 // dot (see FitBox).
 func (m *Map) fitted() (raster.View, bool) {
-	w, h := m.deviceSize()
+	w, h := m.logicalSize()
 	if w < 8 || h < 8 || len(m.layout) == 0 {
 		return raster.View{}, false
 	}
-	margin := math.Min(24*m.pixScale, float64(min(w, h))/4)
+	margin := math.Min(24, float64(min(w, h))/4)
 	x0, x1, y0, y1, ok := FitBox(m.layout)
 	if !ok {
 		v, err := raster.Fit(m.layout, w, h, margin)
@@ -376,7 +390,7 @@ func (m *Map) Dragged(e *fyne.DragEvent) {
 	if m.tool == Move {
 		m.stopGlide()
 		m.pinned = true
-		m.view = m.view.Pan(float64(e.Dragged.DX)*m.pixScale, float64(e.Dragged.DY)*m.pixScale)
+		m.view = m.view.Pan(float64(e.Dragged.DX), float64(e.Dragged.DY))
 		m.Refresh()
 		return
 	}
@@ -402,7 +416,7 @@ func (m *Map) DragEnd() {
 	}
 	poly := make([]float64, 0, 2*len(m.path))
 	for _, p := range m.path {
-		x, y := m.view.ToData(float64(p.X)*m.pixScale, float64(p.Y)*m.pixScale)
+		x, y := m.view.ToData(float64(p.X), float64(p.Y))
 		poly = append(poly, x, y)
 	}
 	m.path = m.path[:0]
@@ -442,7 +456,7 @@ func (m *Map) Scrolled(e *fyne.ScrollEvent) {
 	m.stopGlide()
 	m.pinned = true
 	f := math.Pow(1.0015, float64(e.Scrolled.DY))
-	m.view = m.view.ZoomAt(float64(e.Position.X)*m.pixScale, float64(e.Position.Y)*m.pixScale, f)
+	m.view = m.view.ZoomAt(float64(e.Position.X), float64(e.Position.Y), f)
 	m.Refresh()
 }
 
@@ -497,8 +511,8 @@ func (m *Map) CellAt(p fyne.Position) int {
 		}
 		m.grid, m.gridStale = g, false
 	}
-	x, y := m.view.ToData(float64(p.X)*m.pixScale, float64(p.Y)*m.pixScale)
-	reach := (6 + m.style.Radius) * m.pixScale / m.view.Scale
+	x, y := m.view.ToData(float64(p.X), float64(p.Y))
+	reach := (6 + m.style.Radius) / m.view.Scale
 	if i, ok := m.grid.Nearest(x, y, reach); ok {
 		return i
 	}
@@ -511,6 +525,7 @@ func (m *Map) MinSize() fyne.Size { return fyne.NewSize(200, 160) }
 // CreateRenderer builds the map's drawing.
 func (m *Map) CreateRenderer() fyne.WidgetRenderer {
 	r := &mapRenderer{m: m}
+	m.renderer = r
 	r.points = fynecanvas.NewRaster(r.drawPoints)
 	r.points.ScaleMode = fynecanvas.ImageScalePixels
 	r.overlay = fynecanvas.NewRaster(r.drawOverlay)
@@ -523,12 +538,18 @@ func (m *Map) CreateRenderer() fyne.WidgetRenderer {
 	return r
 }
 
+// mapRenderer draws a Map. It reads the widget's state and writes only its
+// own: the images it draws into and how long the last frame took.
 type mapRenderer struct {
 	m               *Map
 	points, overlay *fynecanvas.Raster
 	tipBox          *fynecanvas.Rectangle
 	tipText         *fynecanvas.Text
 	overlayImg      *image.NRGBA
+
+	rend     raster.Renderer
+	img      *image.RGBA
+	lastDraw time.Duration
 }
 
 func (r *mapRenderer) Layout(s fyne.Size) {
@@ -543,7 +564,7 @@ func (r *mapRenderer) Objects() []fyne.CanvasObject {
 	return []fyne.CanvasObject{r.points, r.overlay, r.tipBox, r.tipText}
 }
 
-func (r *mapRenderer) Destroy() { r.m.stopGlide() }
+func (r *mapRenderer) Destroy() {}
 
 func (r *mapRenderer) Refresh() {
 	r.placeTip()
@@ -590,14 +611,10 @@ func dimmed(c, bg color.NRGBA) color.NRGBA {
 	return color.NRGBA{R: mix(c.R, bg.R), G: mix(c.G, bg.G), B: mix(c.B, bg.B), A: c.A}
 }
 
-// prepareColours applies the selection: with cells selected, the others are
-// drawn in faded versions of their colours.
-func (m *Map) prepareColours() {
-	if !m.drawStale {
-		return
-	}
-	m.drawStale = false
-	if m.selCount == 0 {
+// updateDrawColours applies the selection to the paint: with cells
+// selected, the others are drawn in faded versions of their colours.
+func (m *Map) updateDrawColours() {
+	if m.selCount == 0 || len(m.selection) != len(m.colours) {
 		m.drawColours, m.drawPalette = m.colours, m.palette
 		return
 	}
@@ -618,44 +635,36 @@ func (m *Map) prepareColours() {
 	}
 }
 
+// deviceScale returns the device pixels per logical pixel of an image w
+// pixels wide drawn over the widget.
+func (r *mapRenderer) deviceScale(w int) float64 {
+	if s := r.m.Size(); s.Width > 0 {
+		return float64(w) / float64(s.Width)
+	}
+	return 1
+}
+
 func (r *mapRenderer) drawPoints(w, h int) image.Image {
 	m := r.m
-	if s := m.Size(); s.Width > 0 {
-		m.pixScale = float64(w) / float64(s.Width)
-	}
-	if r.m.img == nil || m.img.Rect.Dx() != w || m.img.Rect.Dy() != h {
-		m.img = image.NewRGBA(image.Rect(0, 0, w, h))
-		if m.hasView && (m.view.Width != w || m.view.Height != h) {
-			if m.pinned {
-				m.view.Width, m.view.Height = w, h
-			} else {
-				m.hasView = false
-				m.follow()
-			}
-		}
-	}
-	if !m.hasView {
-		m.follow()
-	}
-	bg := m.style.Background
-	if bg.A == 0 {
-		m.style.Background = color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0xff}
+	if r.img == nil || r.img.Rect.Dx() != w || r.img.Rect.Dy() != h {
+		r.img = image.NewRGBA(image.Rect(0, 0, w, h))
 	}
 	if len(m.layout) == 0 || !m.hasView {
-		fill(m.img, m.style.Background)
-		return m.img
+		fill(r.img, m.style.Background)
+		return r.img
 	}
-	m.prepareColours()
 	start := time.Now()
+	s := r.deviceScale(w)
 	st := m.style
-	st.PixelScale = m.pixScale
+	st.PixelScale = s
 	v := m.view
+	v.Scale *= s
 	v.Width, v.Height = w, h
-	if err := m.rend.Draw(m.img, m.layout, m.drawColours, m.drawPalette, m.order, v, st, 0); err != nil {
+	if err := r.rend.Draw(r.img, m.layout, m.drawColours, m.drawPalette, m.order, v, st, 0); err != nil {
 		fyne.LogError("drawing the map", err)
 	}
-	m.lastDraw = time.Since(start)
-	return m.img
+	r.lastDraw = time.Since(start)
+	return r.img
 }
 
 func fill(img *image.RGBA, c color.NRGBA) {
@@ -682,7 +691,7 @@ func (r *mapRenderer) drawOverlay(w, h int) image.Image {
 	}
 	rc, gc, bc, _ := c.RGBA()
 	col := color.NRGBA{R: uint8(rc >> 8), G: uint8(gc >> 8), B: uint8(bc >> 8), A: 0xff}
-	s := m.pixScale
+	s := r.deviceScale(w)
 	for i := 1; i <= len(m.path); i++ {
 		a, b := m.path[i-1], m.path[i%len(m.path)]
 		alpha := uint8(0xff)

@@ -73,7 +73,7 @@ func TestLassoByDragMatchesPointInPolygon(t *testing.T) {
 	// its start point) turned into data coordinates.
 	var poly []float64
 	for _, p := range path {
-		x, y := m.view.ToData(float64(p.X)*m.pixScale, float64(p.Y)*m.pixScale)
+		x, y := m.view.ToData(float64(p.X), float64(p.Y))
 		poly = append(poly, x, y)
 	}
 	sel, n := m.Selection()
@@ -203,5 +203,74 @@ func TestFitBoxIgnoresStragglers(t *testing.T) {
 	x0, x1, y0, y1, _ = FitBox(l)
 	if x1 > 10 || y0 < -10 {
 		t.Fatalf("10 stragglers stretched the box to (%v,%v)×(%v,%v)", x0, x1, y0, y1)
+	}
+}
+
+// TestRendererOnlyReadsTheWidget draws the same map at two pixel densities:
+// the widget's view, style and selection stay as they were (the renderer
+// writes nothing back), and the denser frame shows the same picture at
+// twice the pixels.
+func TestRendererOnlyReadsTheWidget(t *testing.T) {
+	a := test.NewApp()
+	defer a.Quit()
+	m := NewMap()
+	w := test.NewWindow(m)
+	defer w.Close()
+	w.SetPadded(false)
+	w.Resize(fyne.NewSize(240, 180))
+	m.SetLayout(randomLayout(500, 11))
+	m.SetPaint(make([]uint16, 500), []color.NRGBA{{R: 30, G: 60, B: 200, A: 255}})
+	m.SetPointStyle(3, 1)
+	view, style := m.View(), m.style
+	if !m.hasView || view.Width != int(m.Size().Width) || view.Height != int(m.Size().Height) {
+		t.Fatalf("the widget did not fit its view to its size %v: %+v", m.Size(), view)
+	}
+	w.Canvas().Capture()
+	one := m.Snapshot()
+	c := w.Canvas().(test.WindowlessCanvas)
+	c.SetScale(2)
+	w.Canvas().Capture()
+	two := m.Snapshot()
+	c.SetScale(1)
+	if m.View() != view || m.style != style || m.Pinned() {
+		t.Fatalf("drawing changed the widget: view %+v → %+v, style %+v → %+v", view, m.View(), style, m.style)
+	}
+	if two.Rect.Dx() != 2*one.Rect.Dx() || two.Rect.Dy() != 2*one.Rect.Dy() {
+		t.Fatalf("frames of %v and %v; want the second twice the first", one.Rect, two.Rect)
+	}
+	// Each point covers four times the pixels at twice the density.
+	n1, n2 := countNear(one, color.NRGBA{R: 30, G: 60, B: 200}), countNear(two, color.NRGBA{R: 30, G: 60, B: 200})
+	if n1 == 0 || math.Abs(float64(n2)/float64(n1)-4) > 0.6 {
+		t.Fatalf("%d inked pixels at scale 1, %d at scale 2; want about 4×", n1, n2)
+	}
+}
+
+// TestResizeRefitsAFollowingView checks that the widget, not its renderer,
+// fits the view when its size changes, and that a pinned view keeps its
+// centre and scale.
+func TestResizeRefitsAFollowingView(t *testing.T) {
+	a := test.NewApp()
+	defer a.Quit()
+	m := NewMap()
+	m.Resize(fyne.NewSize(300, 200))
+	m.SetLayout(randomLayout(1000, 12))
+	small := m.View()
+	m.Resize(fyne.NewSize(600, 400))
+	big := m.View()
+	x0, x1, y0, y1, _ := FitBox(m.Layout())
+	want, err := raster.Fit([]float32{float32(x0), float32(y0), float32(x1), float32(y1)}, 600, 400, 24)
+	if err != nil || big != want || small.Width != 300 {
+		t.Fatalf("refit view %+v after %+v; want %+v", big, small, want)
+	}
+	m.ZoomBy(3)
+	pinned := m.View()
+	m.Resize(fyne.NewSize(500, 500))
+	v := m.View()
+	if !m.Pinned() || v.Scale != pinned.Scale || v.CenterX != pinned.CenterX || v.Width != 500 {
+		t.Fatalf("a pinned view changed on resize: %+v → %+v", pinned, v)
+	}
+	m.Fit()
+	if m.Pinned() {
+		t.Fatal("Fit left the view pinned")
 	}
 }

@@ -1,7 +1,6 @@
 package window
 
 import (
-	"context"
 	"fmt"
 	"strings"
 
@@ -10,22 +9,38 @@ import (
 	"fyne.io/fyne/v2/widget"
 
 	"lodestone/compute/atlas"
-	"lodestone/compute/quality"
+	"lodestone/compute/pipeline"
 )
 
 // atlasPanel summarises the open atlas: its size, its annotation columns
 // and their kinds, how the annotation table matched, and what quality
-// control, gene selection and PCA did.
-func (v *atlasView) atlasPanel() fyne.CanvasObject {
-	text := widget.NewRichTextFromMarkdown(atlasSummary(v.src.name(), v.data, v))
-	text.Wrapping = fyne.TextWrapWord
-	return container.NewVScroll(text)
+// control, gene selection and PCA did. It follows the atlas state.
+type atlasPanel struct {
+	st   *atlasState
+	text *widget.RichText
+	box  fyne.CanvasObject
+}
+
+func newAtlasPanel(st *atlasState) *atlasPanel {
+	a := &atlasPanel{st: st, text: widget.NewRichText()}
+	a.text.Wrapping = fyne.TextWrapWord
+	a.box = container.NewVScroll(a.text)
+	a.show()
+	st.on(topicAtlas, a.show)
+	st.on(topicColumns, a.show)
+	return a
+}
+
+// content returns the panel's widgets.
+func (a *atlasPanel) content() fyne.CanvasObject { return a.box }
+
+func (a *atlasPanel) show() {
+	a.text.ParseMarkdown(atlasSummary(a.st.src.name(), a.st.data, a.st.prep))
 }
 
 // atlasSummary writes the summary as Markdown.
-func atlasSummary(name string, d *atlas.Dataset, v *atlasView) string {
+func atlasSummary(name string, d *atlas.Dataset, p *pipeline.Prepared) string {
 	var b strings.Builder
-	p := v.prep
 	fmt.Fprintf(&b, "**%s**\n\n", name)
 	kind := "counts"
 	if d.Table != nil {
@@ -90,32 +105,4 @@ func atlasSummary(name string, d *atlas.Dataset, v *atlasView) string {
 		fmt.Fprintf(&b, "\n- note: %s", n)
 	}
 	return b.String()
-}
-
-// scoreFidelity computes the fidelity of the map on screen in the
-// background and shows it in the status line.
-func (v *atlasView) scoreFidelity() {
-	if v.fidelityCancel != nil {
-		v.fidelityCancel()
-	}
-	ctx, cancel := context.WithCancel(context.Background())
-	v.fidelityCancel = cancel
-	layout := v.shown
-	high := v.prep.Features
-	fo := quality.FidelityOptions{Seed: v.prep.Settings.Seed, Threads: v.prep.Settings.Threads}
-	v.fidelity.SetText("fidelity: scoring…")
-	go func() {
-		f, err := quality.Fidelity(ctx, high, layout, fo)
-		kept, trust := f.KNN, f.Trust
-		fyne.Do(func() {
-			if ctx.Err() != nil {
-				return
-			}
-			if err != nil {
-				v.fidelity.SetText("fidelity: " + err.Error())
-				return
-			}
-			v.fidelity.SetText(fmt.Sprintf("fidelity: kept neighbours %.2f · trustworthiness %.3f", kept, trust))
-		})
-	}()
 }

@@ -1,7 +1,6 @@
 package window
 
 import (
-	"context"
 	"fmt"
 	"image/color"
 	"io"
@@ -16,8 +15,9 @@ import (
 
 	"lodestone/app/paint"
 	"lodestone/app/tables"
+	lcanvas "lodestone/canvas"
 	"lodestone/canvas/figure"
-	"lodestone/internal/atomicfile"
+	"lodestone/compute/atlas"
 )
 
 // presetLabels names the figure presets for people.
@@ -29,6 +29,17 @@ var presetLabels = map[string]string{
 }
 
 const customSize = "custom size (pixels)"
+
+// exporter writes what the map shows: the figure (PNG or SVG), the map's
+// table (coordinates, groups and paint per cell) and the selected cells'
+// IDs. It reads the atlas state and the map widget's view and style.
+type exporter struct {
+	st    *atlasState
+	view  *lcanvas.Map
+	files *saver
+	errs  errorShower
+	win   fyne.Window
+}
 
 // figureChoices are what the export dialog asks.
 type figureChoices struct {
@@ -42,8 +53,9 @@ type figureChoices struct {
 }
 
 // askExportFigure shows the export dialog, then asks where to save.
-func (v *atlasView) askExportFigure() {
-	if len(v.shown) == 0 {
+func (e *exporter) askFigure() {
+	if len(e.st.layout) == 0 || e.st.paint == nil {
+		e.errs.showError("Nothing to export", fmt.Errorf("the map has not been drawn yet"))
 		return
 	}
 	var presets, labels []string
@@ -95,166 +107,129 @@ func (v *atlasView) askExportFigure() {
 		c.width, err1 = strconv.Atoi(strings.TrimSpace(width.Text))
 		c.height, err2 = strconv.Atoi(strings.TrimSpace(height.Text))
 		if c.preset == customSize && (err1 != nil || err2 != nil || c.width < 16 || c.height < 16 || c.width > 20000 || c.height > 20000) {
-			v.u.showError("Custom size", fmt.Errorf("give a width and a height from 16 to 20000 pixels"))
+			e.errs.showError("Custom size", fmt.Errorf("give a width and a height from 16 to 20000 pixels"))
 			return
 		}
-		v.saveFigureAs(c)
-	}, v.u.win)
+		e.saveFigureAs(c)
+	}, e.win)
 }
 
-func (v *atlasView) saveFigureAs(c figureChoices) {
-	name := strings.TrimSuffix(v.src.name(), filepath.Ext(v.src.name()))
-	if v.src.example {
-		name = "example"
+// saveFigureAs asks where to save the figure, then writes it.
+func (e *exporter) saveFigureAs(c figureChoices) {
+	name := stem(e.st.src)
+	if p := e.st.paint; p != nil && p.Source != paint.Plain {
+		name += "-" + strings.ReplaceAll(p.Name, " ", "-")
 	}
-	if v.painted != nil {
-		name += "-" + strings.ReplaceAll(v.painted.Name, " ", "-")
+	e.files.ask("Export the figure", name+"."+c.format, func(path string) { e.writeFigure(path, c) })
+}
+
+// stem is the start of the names of files suggested for an atlas.
+func stem(src source) string {
+	if src.example {
+		return "example"
 	}
-	go func() {
-		path, err := v.u.chooser.SaveFile("Export the figure", name+"."+c.format, strings.ToUpper(c.format)+" image", c.format)
-		fyne.Do(func() {
-			switch {
-			case err == errChoiceCancelled:
-			case err != nil:
-				v.u.showError("Could not open the file dialog", err)
-			default:
-				if !strings.EqualFold(filepath.Ext(path), "."+c.format) {
-					path += "." + c.format
-				}
-				v.writeFigure(path, c)
-			}
-		})
-	}()
+	return strings.TrimSuffix(src.name(), filepath.Ext(src.name()))
 }
 
 // mapFigure describes what the map shows as a figure: the layout, the
 // paint (without the on-screen dimming of unselected cells), the drawing
 // order and, when the user pinned it, the view.
-func (v *atlasView) mapFigure(c figureChoices) *figure.Figure {
+func (e *exporter) mapFigure(c figureChoices) *figure.Figure {
+	p := e.st.paint
 	f := &figure.Figure{
-		Layout: v.shown, Colours: v.painted.Colours, Palette: v.painted.Palette, Order: v.mapView.Order(),
+		Layout: e.st.layout, Colours: p.Colours, Palette: p.Palette, Order: e.view.Order(),
 		Title: c.title, Background: color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0xff},
 	}
-	f.ScreenRadius, f.Opacity = v.mapView.PointStyle()
-	view, width := v.mapView.LogicalView()
-	f.ScreenWidth = width
-	if v.mapView.Pinned() {
+	f.ScreenRadius, f.Opacity = e.view.PointStyle()
+	view := e.view.View()
+	f.ScreenWidth = view.Width
+	if e.view.Pinned() {
 		f.View = &view
 	}
 	if c.transparent {
 		f.Background = color.NRGBA{}
 	}
 	if c.key {
-		f.Key = v.painted.Key()
+		f.Key = p.Key()
 	}
 	return f
 }
 
 // writeFigure renders and writes the figure in the background.
-func (v *atlasView) writeFigure(path string, c figureChoices) {
-	f := v.mapFigure(c)
-	p := v.painted
-	v.note("exporting " + filepath.Base(path) + "…")
-	go func() {
-		err := func() error {
-			if c.labels {
-				l, err := p.Labels(context.Background(), f.Layout)
-				if err != nil {
-					return err
-				}
-				f.Labels = l
-			}
-			size := figure.Size{WidthPx: c.width, HeightPx: c.height, DPI: c.dpi}
-			if c.preset != customSize {
-				var err error
-				if size, err = figure.Preset(c.preset, c.dpi); err != nil {
-					return err
-				}
-			}
-			return atomicfile.Write(path, func(w io.Writer) error {
-				if c.format == "svg" {
-					return figure.WriteSVG(w, f, size, figure.DefaultVectorLimit)
-				}
-				return figure.WritePNG(w, f, size)
-			})
-		}()
-		fyne.Do(func() {
+func (e *exporter) writeFigure(path string, c figureChoices) {
+	f := e.mapFigure(c)
+	p := e.st.paint
+	size := figure.Size{WidthPx: c.width, HeightPx: c.height, DPI: c.dpi}
+	if c.preset != customSize {
+		var err error
+		if size, err = figure.Preset(c.preset, c.dpi); err != nil {
+			e.errs.showError("Could not export the figure", err)
+			return
+		}
+	}
+	e.files.write(path, func(w io.Writer) error {
+		if c.labels {
+			l, err := p.Labels(e.files.jobs.ctx, f.Layout)
 			if err != nil {
-				v.u.showError("Could not export the figure", err)
-				return
+				return err
 			}
-			v.note("exported " + path)
-		})
-	}()
+			f.Labels = l
+		}
+		if c.format == "svg" {
+			return figure.WriteSVG(w, f, size, figure.DefaultVectorLimit)
+		}
+		return figure.WritePNG(w, f, size)
+	})
 }
 
-// askExportTable saves the map's table: per cell its coordinates, the
-// groups it belongs to and the value of the current paint.
-func (v *atlasView) askExportTable() {
-	t := tables.Cells{IDs: v.prep.CellIDs, Layout: v.shown}
-	for _, g := range v.groups {
-		t.Groups = append(t.Groups, tables.Group{Name: g.Name, Cells: g.Cells})
-	}
-	if p := v.painted; p != nil && p.Source != paint.Plain {
-		t.PaintName = p.Name
-		t.PaintValue = v.paintLabel
-	}
-	v.saveTable("Export the map as a table", "map-cells.csv", t.Write)
-}
-
-// askExportSelection saves the IDs of the selected cells, one per line.
-func (v *atlasView) askExportSelection() {
-	sel, n := v.mapView.Selection()
-	if n == 0 {
-		v.u.showError("Nothing selected", fmt.Errorf("draw a lasso around some cells first"))
+// askTable saves the map's table: per cell its coordinates, the groups
+// it belongs to and the value of the current paint.
+func (e *exporter) askTable() {
+	if len(e.st.layout) == 0 {
+		e.errs.showError("Nothing to export", fmt.Errorf("the map has not been drawn yet"))
 		return
 	}
-	ids := v.prep.CellIDs
-	v.saveTable("Export the selected cells' IDs", "selected-cells.txt", func(w io.Writer) error {
+	t := tables.Cells{IDs: e.st.prep.CellIDs, Layout: e.st.layout}
+	for _, g := range e.st.groups {
+		t.Groups = append(t.Groups, tables.Group{Name: g.Name, Cells: g.Cells})
+	}
+	if p := e.st.paint; p != nil && p.Source != paint.Plain {
+		t.PaintName = p.Name
+		t.PaintValue = paintLabel(p, e.st.geneValues, e.st.column(p.Name))
+	}
+	e.files.save("Export the map as a table", stem(e.st.src)+"-cells.csv", t.Write)
+}
+
+// askSelection saves the IDs of the selected cells, one per line.
+func (e *exporter) askSelection() {
+	if e.st.selected == 0 {
+		e.errs.showError("Nothing selected", fmt.Errorf("draw a lasso around some cells first"))
+		return
+	}
+	ids, sel := e.st.prep.CellIDs, e.st.selection
+	e.files.save("Export the selected cells' IDs", "selected-cells.txt", func(w io.Writer) error {
 		return tables.WriteIDs(w, ids, sel)
 	})
 }
 
-// saveTable asks for a file and writes it atomically in the background.
-func (v *atlasView) saveTable(title, suggested string, write func(io.Writer) error) {
-	go func() {
-		ext := strings.TrimPrefix(filepath.Ext(suggested), ".")
-		path, err := v.u.chooser.SaveFile(title, suggested, strings.ToUpper(ext)+" file", ext)
-		if err == nil {
-			if filepath.Ext(path) == "" {
-				path += "." + ext
+// paintLabel returns a function that writes cell i's value of paint p as
+// text: the gene's value, the group's or the column's label.
+func paintLabel(p *paint.Paint, geneValues []float64, c *atlas.Column) func(i int) string {
+	return func(i int) string {
+		switch {
+		case p.Source == paint.Gene:
+			if i < len(geneValues) {
+				return strconv.FormatFloat(geneValues[i], 'g', 6, 64)
 			}
-			err = atomicfile.Write(path, write)
-		}
-		fyne.Do(func() {
-			switch {
-			case err == errChoiceCancelled:
-			case err != nil:
-				v.u.showError("Could not save", err)
-			default:
-				v.note("saved " + path)
+			return ""
+		case p.Source == paint.Groups:
+			if k := int(p.Colours[i]); k < len(p.Entries)-1 {
+				return p.Entries[k].Label
 			}
-		})
-	}()
-}
-
-// paintLabel returns cell i's value of the current paint as text.
-func (v *atlasView) paintLabel(i int) string {
-	p := v.painted
-	switch {
-	case p == nil:
-		return ""
-	case p.Source == paint.Gene:
-		return strconv.FormatFloat(v.paintValue(i), 'g', 6, 64)
-	case p.Source == paint.Groups:
-		c := p.Colours[i]
-		if int(c) < len(p.Entries)-1 {
-			return p.Entries[c].Label
+			return ""
+		case c != nil:
+			return c.Label(i)
 		}
 		return ""
 	}
-	if c := v.column(p.Name); c != nil {
-		return c.Label(i)
-	}
-	return ""
 }

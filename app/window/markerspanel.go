@@ -1,6 +1,7 @@
 package window
 
 import (
+	"bytes"
 	"context"
 	"fmt"
 	"io"
@@ -11,7 +12,6 @@ import (
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
-	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/layout"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
@@ -20,43 +20,74 @@ import (
 	"lodestone/canvas/figure"
 	"lodestone/compute/atlas"
 	"lodestone/compute/markers"
-	"lodestone/compute/pipeline"
-	"lodestone/internal/atomicfile"
+	"lodestone/compute/sparse"
 )
 
 // markerColumns are the columns of the markers table.
 var markerColumns = []string{"gene", "log₂ fold", "q (FDR)", "% in", "% rest"}
 
-// markersState is the markers tab: which cells to compare, and the result.
-type markersState struct {
-	source    *widget.Select // "my groups" or a categorical column
-	which     *widget.Select // a group or a level
-	against   *widget.Select // "all other cells" or another group or level
-	run       *widget.Button
-	info      *widget.Label
-	table     *widget.Table
-	results   []markers.Result
-	sortCol   int
-	sortDesc  bool
-	expr      *markers.Expression
-	exprBusy  bool
-	lastLabel string
-	onDone    func() // called after a ranking finished (used by the self-test)
-}
-
 const (
-	restChoice   = "all other cells"
-	groupsSource = "my groups"
+	restChoice      = "all other cells"
+	groupsSource    = "my groups"
+	selectionSource = "the selection"
 )
 
-// markersPanel builds the markers tab.
-func (v *atlasView) markersPanel() fyne.CanvasObject {
-	m := &markersState{sortCol: -1}
-	v.markers = m
+// plotGeneCount is how many of the top markers the expression plot shows.
+const plotGeneCount = 12
+
+// markersPanel ranks the genes that mark a set of cells (the selection, a
+// group or a category) against the rest or another set, shows them in a
+// sortable table, saves it, and draws the expression of the top markers
+// across the categories. It owns the comparison's choices, the results and
+// the expression matrix held gene by gene.
+type markersPanel struct {
+	st       *atlasState
+	jobs     *viewJobs
+	errs     errorShower
+	files    *saver
+	showGene func(g int) // paints the map by a gene
+	plots    plotOpener
+
+	source  *widget.Select // the selection, "my groups" or a categorical column
+	which   *widget.Select // a group or a level
+	against *widget.Select // "all other cells" or another group or level
+	run     *widget.Button
+	info    *widget.Label
+	table   *widget.Table
+	saveBtn *widget.Button
+	plotBtn *widget.Button
+	box     fyne.CanvasObject
+
+	results    []markers.Result
+	compared   comparison // what results compare
+	sortCol    int
+	sortDesc   bool
+	expr       *markers.Expression
+	exprOf     *sparse.CSR // the matrix expr was made from
+	ranking    bool
+	groupCount int // groups seen, to notice a new one
+}
+
+// comparison is what a ranking compared: the cells of which (from source)
+// against the rest or against.
+type comparison struct {
+	source, which, against string
+}
+
+func (c comparison) label() string { return c.which + " against " + c.against }
+
+// plotOpener shows an expression plot in a window of its own: png is t
+// drawn at size.
+type plotOpener interface {
+	openPlot(title, name string, t *figure.ExpressionTable, size figure.Size, png []byte)
+}
+
+func newMarkersPanel(st *atlasState, jobs *viewJobs, errs errorShower, files *saver, showGene func(int), plots plotOpener) *markersPanel {
+	m := &markersPanel{st: st, jobs: jobs, errs: errs, files: files, showGene: showGene, plots: plots, sortCol: -1}
 	m.which = widget.NewSelect(nil, nil)
 	m.against = widget.NewSelect(nil, nil)
-	m.source = widget.NewSelect(nil, func(string) { v.fillMarkerChoices() })
-	m.run = widget.NewButtonWithIcon("Rank the genes", theme.SearchIcon(), v.rankMarkers)
+	m.source = widget.NewSelect(nil, func(string) { m.fillChoices("") })
+	m.run = widget.NewButtonWithIcon("Rank the genes", theme.SearchIcon(), m.rank)
 	m.info = widget.NewLabel("Genes that mark a group or category: Wilcoxon rank-sum test, Benjamini–Hochberg q-values.")
 	m.info.Wrapping = fyne.TextWrapWord
 	m.info.Importance = widget.LowImportance
@@ -64,7 +95,7 @@ func (v *atlasView) markersPanel() fyne.CanvasObject {
 		func() (int, int) { return len(m.results), len(markerColumns) },
 		func() fyne.CanvasObject { return widget.NewLabel("0000000000") },
 		func(id widget.TableCellID, o fyne.CanvasObject) {
-			o.(*widget.Label).SetText(v.markerCell(id.Row, id.Col))
+			o.(*widget.Label).SetText(m.cell(id.Row, id.Col))
 		})
 	m.table.ShowHeaderColumn = false
 	m.table.CreateHeader = func() fyne.CanvasObject { return widget.NewButton("", nil) }
@@ -79,103 +110,190 @@ func (v *atlasView) markersPanel() fyne.CanvasObject {
 		}
 		b.SetText(label)
 		col := id.Col
-		b.OnTapped = func() { v.sortMarkers(col) }
+		b.OnTapped = func() { m.sortBy(col) }
 	}
 	for c, w := range []float32{104, 58, 64, 40, 48} {
 		m.table.SetColumnWidth(c, w)
 	}
 	m.table.OnSelected = func(id widget.TableCellID) {
 		if id.Row >= 0 && id.Row < len(m.results) {
-			g := m.results[id.Row].Gene
-			v.geneBox.SetText(geneLabel(v.prep.GeneSymbols[g], v.prep.GeneIDs[g]))
-			v.paintByGene(g)
+			m.showGene(m.results[id.Row].Gene)
 		}
 	}
-	save := widget.NewButtonWithIcon("Save table…", theme.DocumentSaveIcon(), v.askSaveMarkers)
-	plot := widget.NewButtonWithIcon("Expression plot…", theme.GridIcon(), v.askExpressionPlot)
+	m.saveBtn = widget.NewButtonWithIcon("Save table…", theme.DocumentSaveIcon(), m.askSave)
+	m.plotBtn = widget.NewButtonWithIcon("Expression plot", theme.GridIcon(), m.plot)
 	form := container.NewVBox(
 		container.New(layout.NewFormLayout(),
 			widget.NewLabelWithStyle("markers of", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}), m.source,
 			widget.NewLabel(""), m.which,
 			widget.NewLabel("against"), m.against),
 		m.run, m.info)
-	v.fillMarkerSources()
-	return container.NewBorder(form, container.NewGridWithColumns(2, save, plot), nil, nil, m.table)
+	m.box = container.NewBorder(form, container.NewGridWithColumns(2, m.saveBtn, m.plotBtn), nil, nil, m.table)
+	m.fillSources()
+	m.pickDefault()
+	st.on(topicColumns, func() { m.fillSources() })
+	st.on(topicSelection, m.selectionChanged)
+	st.on(topicGroups, m.groupsChanged)
+	return m
 }
 
-// fillMarkerSources lists the places groups of cells come from: the user's
-// groups and every categorical column with 2–200 levels.
-func (v *atlasView) fillMarkerSources() {
-	m := v.markers
-	opts := []string{groupsSource}
-	for i := range v.prep.Annotations {
-		c := &v.prep.Annotations[i]
+// content returns the panel's widgets.
+func (m *markersPanel) content() fyne.CanvasObject { return m.box }
+
+// fillSources lists the places sets of cells come from: the selection (when
+// there is one), the user's groups and every categorical column with 2–200
+// levels. The source chosen stays chosen while it is listed.
+func (m *markersPanel) fillSources() {
+	var opts []string
+	if m.st.selected > 0 {
+		opts = append(opts, selectionSource)
+	}
+	opts = append(opts, groupsSource)
+	for i := range m.st.prep.Annotations {
+		c := &m.st.prep.Annotations[i]
 		if c.Kind == atlas.Categorical && len(c.Levels) >= 2 && len(c.Levels) <= 200 {
 			opts = append(opts, c.Name)
 		}
 	}
-	sel := m.source.Selected
 	m.source.SetOptions(opts)
-	if sel == "" {
-		if len(opts) > 1 {
-			sel = opts[1]
-		} else {
-			sel = opts[0]
-		}
+	if sel := m.source.Selected; sel != "" && !contains(opts, sel) {
+		m.source.ClearSelected()
 	}
-	m.source.SetSelected(sel)
 }
 
-// fillMarkerChoices lists the groups or levels of the chosen source.
-func (v *atlasView) fillMarkerChoices() {
-	m := v.markers
-	names := v.markerNames()
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+// choose compares which of source against the rest.
+func (m *markersPanel) choose(source, which string) {
+	m.source.Selected = source // without the callback: fillChoices follows
+	m.source.Refresh()
+	m.fillChoices(which)
+}
+
+// pickDefault chooses what the markers are of: the selection when cells are
+// selected (the group of exactly those cells when there is one), else the
+// newest group, else the first categorical column.
+func (m *markersPanel) pickDefault() {
+	m.fillSources()
+	switch {
+	case m.st.selected > 0:
+		if g := m.st.groupWithCells(m.st.selection); g != nil {
+			m.choose(groupsSource, g.Name)
+		} else {
+			m.choose(selectionSource, "")
+		}
+	case len(m.st.groups) > 0:
+		m.choose(groupsSource, m.st.groups[len(m.st.groups)-1].Name)
+	case len(m.source.Options) > 1:
+		m.choose(m.source.Options[1], "")
+	default:
+		m.choose(groupsSource, "")
+	}
+}
+
+// selectionChanged makes the new selection (or, when it was cleared, the
+// next best thing) what the markers are of.
+func (m *markersPanel) selectionChanged() {
+	if m.st.selected > 0 || m.source.Selected == selectionSource {
+		m.pickDefault()
+		return
+	}
+	m.fillSources()
+}
+
+// groupsChanged makes a new group what the markers are of, and follows
+// renames and deletions.
+func (m *markersPanel) groupsChanged() {
+	n := len(m.st.groups)
+	grew := n > m.groupCount
+	m.groupCount = n
+	if grew {
+		m.pickDefault()
+		return
+	}
+	if m.source.Selected == groupsSource {
+		m.fillChoices(m.which.Selected)
+	}
+}
+
+// fillChoices lists the sets of the chosen source, choosing which when it
+// is one of them (else the first).
+func (m *markersPanel) fillChoices(which string) {
+	names := m.names(m.source.Selected)
 	m.which.SetOptions(names)
-	m.against.SetOptions(append([]string{restChoice}, names...))
-	if len(names) > 0 {
+	against := []string{restChoice}
+	if m.source.Selected != selectionSource {
+		against = append(against, names...)
+	}
+	m.against.SetOptions(against)
+	switch {
+	case contains(names, which):
+		m.which.SetSelected(which)
+	case len(names) > 0:
 		m.which.SetSelected(names[0])
-	} else {
+	default:
 		m.which.ClearSelected()
 	}
 	m.against.SetSelected(restChoice)
 }
 
-// markerNames returns the names of the groups or levels of the chosen source.
-func (v *atlasView) markerNames() []string {
-	m := v.markers
-	if m.source.Selected == groupsSource {
+// names returns the names of the sets of cells of a source.
+func (m *markersPanel) names(source string) []string {
+	switch source {
+	case selectionSource:
+		return []string{fmt.Sprintf("%s selected cells", count(m.st.selected))}
+	case groupsSource:
 		var out []string
-		for _, g := range v.groups {
+		for _, g := range m.st.groups {
 			out = append(out, g.Name)
 		}
 		return out
 	}
-	if c := v.column(m.source.Selected); c != nil {
+	if c := m.st.column(source); c != nil {
 		return c.Levels
 	}
 	return nil
 }
 
-// markerMask returns the cells of a group or level of the chosen source.
-func (v *atlasView) markerMask(name string) []bool {
-	m := v.markers
-	if m.source.Selected == groupsSource {
-		for _, g := range v.groups {
+// mask returns the cells of set name of a source, or nil.
+func (m *markersPanel) mask(source, name string) []bool {
+	switch source {
+	case selectionSource:
+		if m.st.selected == 0 {
+			return nil
+		}
+		return m.st.selection
+	case groupsSource:
+		for _, g := range m.st.groups {
 			if g.Name == name {
 				return g.Cells
 			}
 		}
 		return nil
 	}
-	c := v.column(m.source.Selected)
-	if c == nil {
-		return nil
+	if c := m.st.column(source); c != nil {
+		return levelMask(c, name)
 	}
+	return nil
+}
+
+// levelMask returns the cells whose value in column c is level name.
+func levelMask(c *atlas.Column, name string) []bool {
 	level := int32(-1)
 	for i, l := range c.Levels {
 		if l == name {
 			level = int32(i)
 		}
+	}
+	if level < 0 {
+		return nil
 	}
 	mask := make([]bool, len(c.Codes))
 	for i, code := range c.Codes {
@@ -184,33 +302,39 @@ func (v *atlasView) markerMask(name string) []bool {
 	return mask
 }
 
-// rankMarkers ranks the genes for the chosen cells in the background.
-func (v *atlasView) rankMarkers() {
-	m := v.markers
-	if !v.ready || v.prep.Expression == nil {
-		v.u.showError("No expression values", fmt.Errorf("marker genes need the expression of the atlas (counts or a wide table)"))
+// rank ranks the genes for the chosen cells in the background.
+func (m *markersPanel) rank() {
+	if !m.st.ready || m.st.prep.Expression == nil {
+		m.errs.showError("No expression values", fmt.Errorf("marker genes need the expression of the atlas (counts or a wide table)"))
 		return
 	}
-	in := v.markerMask(m.which.Selected)
+	if m.ranking {
+		return
+	}
+	c := comparison{source: m.source.Selected, which: m.which.Selected, against: m.against.Selected}
+	in := m.mask(c.source, c.which)
 	if in == nil {
-		v.u.showError("Nothing to compare", fmt.Errorf("choose a group (lasso some cells and make a group) or a category first"))
+		m.errs.showError("Nothing to compare", fmt.Errorf("choose a group (lasso some cells and make a group), the selection or a category first"))
 		return
 	}
 	var ref []bool
-	if m.against.Selected != restChoice {
-		if ref = v.markerMask(m.against.Selected); ref == nil {
+	if c.against != restChoice {
+		if ref = m.mask(c.source, c.against); ref == nil {
+			m.errs.showError("Nothing to compare against", fmt.Errorf("%q holds no cells", c.against))
 			return
 		}
 	}
-	label := m.which.Selected + " against " + m.against.Selected
+	m.ranking = true
 	m.run.Disable()
-	m.info.SetText("ranking genes for " + label + "…")
-	x := v.prep.Expression
-	threads := v.prep.Settings.Threads
+	m.info.SetText("ranking genes for " + c.label() + "…")
+	x := m.st.prep.Expression
+	threads := m.st.prep.Settings.Threads
 	expr := m.expr
-	go func() {
+	if m.exprOf != x {
+		expr = nil
+	}
+	m.jobs.run(func(ctx context.Context) {
 		start := time.Now()
-		ctx := context.Background()
 		var err error
 		if expr == nil {
 			expr, err = markers.NewExpression(ctx, x)
@@ -219,42 +343,44 @@ func (v *atlasView) rankMarkers() {
 		if err == nil {
 			res, err = expr.Rank(ctx, in, ref, markers.Options{Threads: threads})
 		}
-		fyne.Do(func() {
+		m.jobs.do(func() {
+			m.ranking = false
 			m.run.Enable()
 			if err != nil {
 				m.info.SetText("")
-				v.u.showError("Could not rank the genes", err)
+				m.errs.showError("Could not rank the genes", err)
 				return
 			}
-			m.expr = expr
-			m.results = res
-			m.sortCol, m.sortDesc = -1, false
-			m.lastLabel = label
-			up := 0
-			for _, r := range res {
-				if r.Q < 0.05 && r.LogFoldChange > 0 {
-					up++
-				}
-			}
-			m.info.SetText(fmt.Sprintf("%d genes higher at q < 0.05 (%.1f s); tap one to paint by it", up, time.Since(start).Seconds()))
-			m.table.Refresh()
-			m.table.ScrollToTop()
-			if m.onDone != nil {
-				m.onDone()
-			}
+			m.expr, m.exprOf = expr, x
+			m.showResults(c, res, time.Since(start))
 		})
-	}()
+	})
 }
 
-// markerCell formats one cell of the markers table.
-func (v *atlasView) markerCell(row, col int) string {
-	r := v.markers.results[row]
+// showResults fills the table with a ranking.
+func (m *markersPanel) showResults(c comparison, res []markers.Result, took time.Duration) {
+	m.results, m.compared = res, c
+	m.sortCol, m.sortDesc = -1, false
+	up := 0
+	for _, r := range res {
+		if r.Q < 0.05 && r.LogFoldChange > 0 {
+			up++
+		}
+	}
+	m.info.SetText(fmt.Sprintf("%s: %d genes higher at q < 0.05 (%.1f s); tap one to paint by it", c.label(), up, took.Seconds()))
+	m.table.Refresh()
+	m.table.ScrollToTop()
+}
+
+// cell formats one cell of the markers table.
+func (m *markersPanel) cell(row, col int) string {
+	r := m.results[row]
 	switch col {
 	case 0:
-		if sym := v.prep.GeneSymbols[r.Gene]; sym != "" {
+		if sym := m.st.prep.GeneSymbols[r.Gene]; sym != "" {
 			return sym
 		}
-		return v.prep.GeneIDs[r.Gene]
+		return m.st.prep.GeneIDs[r.Gene]
 	case 1:
 		return fmt.Sprintf("%.2f", r.LogFoldChange)
 	case 2:
@@ -269,14 +395,20 @@ func (v *atlasView) markerCell(row, col int) string {
 	}
 }
 
-// sortMarkers sorts the table by a column (a second tap reverses it).
-func (v *atlasView) sortMarkers(col int) {
-	m := v.markers
+// sortBy sorts the table by a column (a second tap reverses it).
+func (m *markersPanel) sortBy(col int) {
 	if m.sortCol == col {
 		m.sortDesc = !m.sortDesc
 	} else {
 		m.sortCol, m.sortDesc = col, col == 1 || col == 3
 	}
+	sortResults(m.results, col, m.sortDesc, m.st.prep.GeneSymbols)
+	m.table.Refresh()
+}
+
+// sortResults sorts marker results by a column of the table: 0 the gene's
+// symbol, 1 the fold change, 2 q, 3 and 4 the shares expressing; NaN last.
+func sortResults(res []markers.Result, col int, desc bool, symbols []string) {
 	key := func(r markers.Result) float64 {
 		switch col {
 		case 1:
@@ -290,174 +422,123 @@ func (v *atlasView) sortMarkers(col int) {
 		}
 		return 0
 	}
-	sort.SliceStable(m.results, func(a, b int) bool {
-		ra, rb := m.results[a], m.results[b]
+	sort.SliceStable(res, func(a, b int) bool {
+		ra, rb := res[a], res[b]
 		if col == 0 {
-			la := strings.ToLower(v.prep.GeneSymbols[ra.Gene])
-			lb := strings.ToLower(v.prep.GeneSymbols[rb.Gene])
-			if m.sortDesc {
+			la, lb := strings.ToLower(symbols[ra.Gene]), strings.ToLower(symbols[rb.Gene])
+			if desc {
 				return la > lb
 			}
 			return la < lb
 		}
 		ka, kb := key(ra), key(rb)
-		if math.IsNaN(ka) {
+		switch {
+		case math.IsNaN(ka):
 			return false
-		}
-		if m.sortDesc {
+		case math.IsNaN(kb):
+			return true
+		case desc:
 			return ka > kb
 		}
 		return ka < kb
 	})
-	m.table.Refresh()
 }
 
-func (v *atlasView) askSaveMarkers() {
-	m := v.markers
+// fileStem turns a comparison's label into part of a file name.
+func fileStem(s string) string {
+	return strings.NewReplacer(" ", "-", "/", "-", "\\", "-").Replace(s)
+}
+
+func (m *markersPanel) askSave() {
 	if len(m.results) == 0 {
-		v.u.showError("No markers yet", fmt.Errorf("rank the genes first"))
+		m.errs.showError("No markers yet", fmt.Errorf("rank the genes first"))
 		return
 	}
 	res := append([]markers.Result(nil), m.results...)
-	ids, syms := v.prep.GeneIDs, v.prep.GeneSymbols
-	name := "markers-" + strings.NewReplacer(" ", "-", "/", "-").Replace(m.lastLabel) + ".csv"
-	v.saveTable("Save the markers table", name, func(w io.Writer) error { return tables.WriteMarkers(w, res, ids, syms) })
+	ids, syms := m.st.prep.GeneIDs, m.st.prep.GeneSymbols
+	m.files.save("Save the markers table", "markers-"+fileStem(m.compared.label())+".csv",
+		func(w io.Writer) error { return tables.WriteMarkers(w, res, ids, syms) })
 }
 
-// askExpressionPlot draws the expression-by-group plot of the top markers
-// (up to 12 genes higher in the group) across the categories of the
-// chosen source, and saves it as PNG or SVG.
-func (v *atlasView) askExpressionPlot() {
-	m := v.markers
-	if len(m.results) == 0 {
-		v.u.showError("No markers yet", fmt.Errorf("rank the genes first; the plot shows the top ones across the categories"))
-		return
-	}
-	var genes []int
-	byZ := append([]markers.Result(nil), m.results...)
+// topMarkers returns up to n genes higher in the group, by decreasing z.
+func topMarkers(res []markers.Result, n int) []int {
+	byZ := append([]markers.Result(nil), res...)
 	sort.SliceStable(byZ, func(a, b int) bool { return byZ[a].Z > byZ[b].Z })
+	var genes []int
 	for _, r := range byZ {
-		if len(genes) == 12 {
+		if len(genes) == n {
 			break
 		}
 		if r.LogFoldChange > 0 {
 			genes = append(genes, r.Gene)
 		}
 	}
-	names := v.markerNames()
-	codes := make([]int32, v.prep.Cells())
+	return genes
+}
+
+// plotRows returns the rows of the expression plot for the source of a
+// comparison: its sets of cells by name and each cell's row (−1: none). A
+// cell in several groups counts in the first. For the selection the rows
+// are the selected and the other cells.
+func (m *markersPanel) plotRows(source string) (names []string, codes []int32) {
+	codes = make([]int32, m.st.cells())
 	for i := range codes {
 		codes[i] = -1
 	}
+	if source == selectionSource {
+		names = []string{"selected cells", "other cells"}
+		for i, in := range m.st.selection {
+			codes[i] = 1
+			if in {
+				codes[i] = 0
+			}
+		}
+		return names, codes
+	}
+	names = m.names(source)
 	for k, n := range names {
-		for i, in := range v.markerMask(n) {
+		for i, in := range m.mask(source, n) {
 			if in && codes[i] < 0 {
 				codes[i] = int32(k)
 			}
 		}
 	}
-	geneNames := make([]string, len(v.prep.GeneSymbols))
-	for j := range geneNames {
-		geneNames[j] = geneLabel(v.prep.GeneSymbols[j], v.prep.GeneIDs[j])
-	}
-	x := v.prep.Expression
-	go func() {
-		path, err := v.u.chooser.SaveFile("Save the expression plot", "expression-by-group.png", "PNG or SVG image", "png", "svg")
-		if err == nil {
-			var t *figure.ExpressionTable
-			t, err = figure.Expression(context.Background(), x, genes, geneNames, codes, names)
-			if err == nil {
-				size := figure.Size{WidthPx: 200 + 70*len(genes), HeightPx: 260 + 36*len(names), DPI: 150}
-				err = atomicfile.Write(path, func(w io.Writer) error {
-					if strings.EqualFold(strings.TrimPrefix(pathExt(path), "."), "svg") {
-						return figure.WriteExpressionSVG(w, t, size)
-					}
-					return figure.WriteExpressionPNG(w, t, size)
-				})
-			}
-		}
-		fyne.Do(func() {
-			switch {
-			case err == errChoiceCancelled:
-			case err != nil:
-				v.u.showError("Could not draw the expression plot", err)
-			default:
-				v.note("saved " + path)
-			}
-		})
-	}()
+	return names, codes
 }
 
-func pathExt(p string) string {
-	if i := strings.LastIndex(p, "."); i >= 0 && !strings.ContainsAny(p[i:], "/\\") {
-		return p[i:]
-	}
-	return ""
-}
-
-// askClusters finds Leiden clusters at a resolution the user gives and adds
-// them as an annotation column that paints the map.
-func (v *atlasView) askClusters() {
-	if !v.ready {
+// plot draws the expression of the top markers across the sets of cells of
+// the ranking's source in the background, and shows it in a window of its
+// own, from which it can be saved.
+func (m *markersPanel) plot() {
+	if len(m.results) == 0 {
+		m.errs.showError("No markers yet", fmt.Errorf("rank the genes first; the plot shows the top ones across the categories"))
 		return
 	}
-	e := widget.NewEntry()
-	e.SetText("1")
-	dialog.ShowForm("Leiden clusters", "Cluster", "Cancel", []*widget.FormItem{
-		widget.NewFormItem("resolution", e),
-		widget.NewFormItem("", widget.NewLabel("Larger values give more, smaller clusters.")),
-	}, func(ok bool) {
-		if !ok {
-			return
+	genes := topMarkers(m.results, plotGeneCount)
+	if len(genes) == 0 {
+		m.errs.showError("No markers to plot", fmt.Errorf("no gene is higher in %s than in %s", m.compared.which, m.compared.against))
+		return
+	}
+	geneNames := make([]string, len(genes))
+	for k, g := range genes {
+		geneNames[k] = geneLabel(m.st.prep.GeneSymbols[g], m.st.prep.GeneIDs[g])
+	}
+	names, codes := m.plotRows(m.compared.source)
+	x := m.st.prep.Expression
+	c := m.compared
+	size := figure.Size{WidthPx: 200 + 70*len(genes), HeightPx: 260 + 36*len(names), DPI: 150}
+	m.jobs.run(func(ctx context.Context) {
+		var png bytes.Buffer
+		t, err := figure.Expression(ctx, x, genes, geneNames, codes, names)
+		if err == nil {
+			err = figure.WriteExpressionPNG(&png, t, size)
 		}
-		var res float64
-		if _, err := fmt.Sscan(e.Text, &res); err != nil || res <= 0 || res > 100 {
-			v.u.showError("Resolution", fmt.Errorf("give a positive number, e.g. 0.5, 1 or 2"))
-			return
-		}
-		v.clusterCells(res)
-	}, v.u.win)
-}
-
-func (v *atlasView) clusterCells(resolution float64) {
-	p := v.prep
-	v.note(fmt.Sprintf("finding clusters at resolution %g…", resolution))
-	go func() {
-		labels, q, err := pipeline.Clusters(context.Background(), p, 15, resolution, nil)
-		fyne.Do(func() {
+		m.jobs.do(func() {
 			if err != nil {
-				v.u.showError("Could not cluster the cells", err)
+				m.errs.showError("Could not draw the expression plot", err)
 				return
 			}
-			n := 0
-			for _, l := range labels {
-				n = max(n, int(l)+1)
-			}
-			col := atlas.Column{Name: fmt.Sprintf("clusters (resolution %g)", resolution), Kind: atlas.Categorical, Codes: labels}
-			for k := 0; k < n; k++ {
-				col.Levels = append(col.Levels, fmt.Sprintf("cluster %d", k+1))
-			}
-			v.addColumn(col)
-			v.note(fmt.Sprintf("%d clusters, modularity %.3f", n, q))
+			m.plots.openPlot("Top markers of "+c.label(), "expression-"+fileStem(c.which), t, size, png.Bytes())
 		})
-	}()
-}
-
-// addColumn adds (or replaces) an annotation column and paints by it.
-func (v *atlasView) addColumn(col atlas.Column) {
-	replaced := false
-	for i := range v.prep.Annotations {
-		if v.prep.Annotations[i].Name == col.Name {
-			v.prep.Annotations[i] = col
-			replaced = true
-		}
-	}
-	if !replaced {
-		v.prep.Annotations = append(v.prep.Annotations, col)
-		opts := append([]string(nil), v.paintSel.Options[:len(v.paintSel.Options)-1]...)
-		opts = append(opts, col.Name, groupsChoice)
-		v.paintSel.SetOptions(opts)
-	}
-	v.paintSel.SetSelected(col.Name)
-	v.fillMarkerSources()
+	})
 }

@@ -11,6 +11,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"fyne.io/fyne/v2"
@@ -20,10 +21,14 @@ import (
 	"lodestone/internal/atomicfile"
 )
 
-// The self-test opens the example atlas, waits for the first run to end,
-// saves a screenshot, turns the dial to Options.SelfTestDial, waits for the
-// rerun to end, saves a second screenshot, checks that the map is not
-// blank, and quits with status 0 (or 1 on any failure).
+// The self-test drives the window as a user would and watches what it
+// shows, from a goroutine of its own; it is no part of the code it tests.
+// It opens the example atlas, waits for the first run to end, saves a
+// screenshot, turns the dial to Options.SelfTestDial, waits for the rerun
+// to end, saves a second screenshot, checks that the map is not blank, and
+// quits with status 0 (or 1 on any failure). With Options.SelfTestTour it
+// goes on to rank the markers of a state and run a short sweep, saving a
+// screenshot of each (the README's).
 
 // selfTestLimit is how long the self-test may take before it fails.
 const selfTestLimit = 10 * time.Minute
@@ -34,147 +39,260 @@ const (
 	SelfTestTurned = "turned.png"
 )
 
+// selfTest is one run of the self-test.
+type selfTest struct {
+	u        *ui
+	dir      string
+	deadline time.Time
+	lastSaid time.Time
+}
+
+// errSelfTest carries a failure out of the script.
+type errSelfTest struct{ err error }
+
 func (u *ui) startSelfTest() {
 	u.selfTestDone = make(chan int, 1)
-	if err := os.MkdirAll(u.opts.SelfTest, 0o755); err != nil {
-		u.selfTestFail(err)
-		return
-	}
-	fmt.Fprintln(os.Stderr, "self-test: opening the example atlas")
-	time.AfterFunc(selfTestLimit, func() {
-		fyne.Do(func() { u.selfTestFail(fmt.Errorf("did not finish within %v", selfTestLimit)) })
-	})
-	u.openExample()
-}
-
-func (u *ui) selfTestFail(err error) {
-	select {
-	case u.selfTestDone <- 1:
-		fmt.Fprintln(os.Stderr, "self-test failed:", err)
-	default:
-	}
-	u.app.Quit()
-}
-
-func (u *ui) selfTestPass() {
-	select {
-	case u.selfTestDone <- 0:
-		fmt.Fprintln(os.Stderr, "self-test passed")
-	default:
-	}
-	u.app.Quit()
-}
-
-// selfTestAtlasShown is called when the atlas view first appears; from
-// then on the self-test reports the run's progress every 15 seconds.
-func (u *ui) selfTestAtlasShown(v *atlasView) {
-	fmt.Fprintf(os.Stderr, "self-test: %d cells on the map; first run at attraction %s\n", v.prep.Cells(), lcanvas.FormatAttraction(v.dial.Value))
-	t := time.NewTicker(15 * time.Second)
+	t := &selfTest{u: u, dir: u.opts.SelfTest, deadline: time.Now().Add(selfTestLimit)}
 	go func() {
-		defer t.Stop()
-		for {
-			select {
-			case <-v.closed:
-				return
-			case <-t.C:
-				_, st := v.engine.Latest()
-				fmt.Fprintf(os.Stderr, "self-test: run %d at attraction %s, iteration %d/%d, running %v, %.0f s\n",
-					st.Runs, lcanvas.FormatAttraction(st.Attraction), st.Iteration, st.Iterations, st.Running, st.Elapsed.Seconds())
+		code := 0
+		defer func() {
+			if r := recover(); r != nil {
+				f, ok := r.(errSelfTest)
+				if !ok {
+					panic(r)
+				}
+				fmt.Fprintln(os.Stderr, "self-test failed:", f.err)
+				code = 1
 			}
-		}
+			if code == 0 {
+				fmt.Fprintln(os.Stderr, "self-test passed")
+			}
+			u.selfTestDone <- code
+			fyne.Do(func() {
+				u.closeView()
+				u.app.Quit()
+			})
+		}()
+		t.script()
 	}()
 }
 
-// selfTestRunEnded advances the self-test after each run.
-func (u *ui) selfTestRunEnded(v *atlasView, st live.Status) {
-	if st.Err != nil {
-		u.selfTestFail(st.Err)
-		return
+// fail ends the self-test with err.
+func (t *selfTest) fail(err error) { panic(errSelfTest{err}) }
+
+// ui runs f on the UI goroutine and waits for it.
+func (t *selfTest) ui(f func()) { fyne.DoAndWait(f) }
+
+// waitFor polls cond on the UI goroutine until it holds; an error dialog on
+// the start view fails the self-test, and every 15 seconds it says how the
+// run goes.
+func (t *selfTest) waitFor(what string, cond func() bool) {
+	for {
+		ok, shown := false, ""
+		t.ui(func() {
+			ok = cond()
+			if n := len(t.u.errorsShown); !ok && n > 0 {
+				shown = t.u.errorsShown[n-1]
+			}
+		})
+		switch {
+		case ok:
+			return
+		case shown != "":
+			t.fail(fmt.Errorf("waiting for %s, the window shows an error: %s", what, shown))
+		case time.Now().After(t.deadline):
+			t.fail(fmt.Errorf("%s did not come within %v", what, selfTestLimit))
+		}
+		if time.Since(t.lastSaid) > 15*time.Second {
+			t.lastSaid = time.Now()
+			t.ui(func() {
+				if v := t.u.atlas; v != nil {
+					st := v.st.run
+					fmt.Fprintf(os.Stderr, "self-test: waiting for %s: run %d at attraction %s, iteration %d/%d, running %v, %.0f s\n",
+						what, st.Runs, lcanvas.FormatAttraction(st.Attraction), st.Iteration, st.Iterations, st.Running, st.Elapsed.Seconds())
+				}
+			})
+		}
+		time.Sleep(100 * time.Millisecond)
 	}
-	target := u.opts.SelfTestDial
-	if target == 0 {
-		target = 10
+}
+
+// runEnded waits until run number runs of the view has ended.
+func (t *selfTest) runEnded(v *atlasView, runs int) {
+	t.waitFor(fmt.Sprintf("run %d to end", runs), func() bool { return v.st.run.Runs == runs && !v.st.run.Running })
+	var st live.Status
+	t.ui(func() { st = v.st.run })
+	if st.Err != nil {
+		t.fail(st.Err)
 	}
 	fmt.Fprintf(os.Stderr, "self-test: run %d ended after %d iterations in %.1f s (KL %.3f, settled %v)\n",
 		st.Runs, st.Iteration, st.Elapsed.Seconds(), st.KL, st.Settled)
-	// Let the view finish gliding to the final layout before capturing.
-	time.AfterFunc(600*time.Millisecond, func() {
-		fyne.Do(func() {
-			switch st.Runs {
-			case 1:
-				if err := u.selfTestCapture(v, SelfTestFirst); err != nil {
-					u.selfTestFail(err)
-					return
-				}
-				v.dial.SetValue(target)
-				v.turn(target)
-			case 2:
-				if err := u.selfTestCapture(v, SelfTestTurned); err != nil {
-					u.selfTestFail(err)
-					return
-				}
-				if u.opts.SelfTestTour {
-					u.selfTestTour(v)
-					return
-				}
-				u.selfTestPass()
-			}
-		})
-	})
+	time.Sleep(600 * time.Millisecond) // the view glides to the final layout
 }
 
-// selfTestCapture saves a screenshot of the window (name) and the map as
-// drawn (map-name), and checks that the map shows points in several
-// colours.
-func (u *ui) selfTestCapture(v *atlasView, name string) error {
-	path := filepath.Join(u.opts.SelfTest, name)
-	shot, how := u.screenshot()
-	if err := writePNG(path, shot); err != nil {
-		return err
+func (t *selfTest) script() {
+	if err := os.MkdirAll(t.dir, 0o755); err != nil {
+		t.fail(err)
 	}
-	drawn := v.mapView.Snapshot()
+	target := t.u.opts.SelfTestDial
+	if target == 0 {
+		target = 10
+	}
+	fmt.Fprintln(os.Stderr, "self-test: opening the example atlas")
+	t.ui(t.u.openExample)
+	var v *atlasView
+	t.waitFor("the atlas view", func() bool { v = t.u.atlas; return v != nil })
+	t.ui(func() {
+		fmt.Fprintf(os.Stderr, "self-test: %d cells on the map; first run at attraction %s\n", v.st.cells(), lcanvas.FormatAttraction(v.run.dial.Value))
+	})
+	t.runEnded(v, 1)
+	t.capture(v, SelfTestFirst)
+	t.ui(func() { v.run.turnTo(target) })
+	t.runEnded(v, 2)
+	t.capture(v, SelfTestTurned)
+	if !t.u.opts.SelfTestTour {
+		return
+	}
+
+	t.ui(func() {
+		v.paint.paintBy("state")
+		v.reveal(tabMarkers)
+		v.markers.source.SetSelected("state")
+		v.markers.run.OnTapped()
+	})
+	t.waitFor("the markers", func() bool { return !v.markers.ranking && len(v.markers.results) > 0 })
+	t.shot("markers.png")
+	t.ui(func() { v.markers.plotBtn.OnTapped() })
+	t.waitFor("the expression plot", func() bool { return len(v.plots.open) > 0 })
+	var plot fyne.Window
+	t.ui(func() { plot = v.plots.open[0].win })
+	t.shotOf(plot, "expression.png")
+	t.ui(plot.Close)
+
+	t.ui(func() {
+		v.reveal(tabSweep)
+		v.sweep.values.SetText("1, 4, 30, inf")
+		v.run.iterations.SetText("250")
+		v.sweep.run.OnTapped()
+	})
+	t.waitFor("the sweep", func() bool { return !v.sweep.running() && len(v.sweep.results) > 0 })
+	t.shot("sweep.png")
+}
+
+// capture saves a screenshot of the window (name) and the map as drawn
+// (map-name), and checks that the map shows points in several colours.
+func (t *selfTest) capture(v *atlasView, name string) {
+	t.shot(name)
+	var drawn *image.RGBA
+	var palette []color.NRGBA
+	t.ui(func() {
+		drawn = v.mapP.mapView.Snapshot()
+		palette = v.st.paint.Palette
+	})
 	if drawn == nil {
-		return fmt.Errorf("the map has not been drawn")
+		t.fail(fmt.Errorf("the map has not been drawn"))
 	}
-	mapPath := filepath.Join(u.opts.SelfTest, "map-"+name)
+	mapPath := filepath.Join(t.dir, "map-"+name)
 	if err := writePNG(mapPath, drawn); err != nil {
-		return err
+		t.fail(err)
 	}
-	shares, inked := PaletteShares(drawn, v.painted.Palette)
+	shares, inked := PaletteShares(drawn, palette)
 	seen := 0
 	for _, sh := range shares {
 		if sh >= 0.005 {
 			seen++
 		}
 	}
-	want := min(3, len(v.painted.Palette)-1)
-	fmt.Fprintf(os.Stderr, "self-test: saved %s (%s) and %s; %d paint colours each hold ≥ 0.5%% of the inked pixels, %.1f%% of the map inked\n",
-		path, how, mapPath, seen, 100*inked)
+	want := min(3, len(palette)-1)
+	fmt.Fprintf(os.Stderr, "self-test: saved %s; %d paint colours each hold ≥ 0.5%% of the inked pixels, %.1f%% of the map inked\n",
+		mapPath, seen, 100*inked)
 	if seen < want || inked < 0.01 {
-		return fmt.Errorf("the map in %s looks blank (%d paint colours seen, %.2f%% inked)", mapPath, seen, 100*inked)
+		t.fail(fmt.Errorf("the map in %s looks blank (%d paint colours seen, %.2f%% inked)", mapPath, seen, 100*inked))
 	}
-	return nil
+}
+
+// shot waits for the window to draw what was just done and saves a
+// screenshot of it.
+func (t *selfTest) shot(name string) { t.shotOf(t.u.win, name) }
+
+// shotOf saves a screenshot of a window.
+func (t *selfTest) shotOf(w fyne.Window, name string) {
+	time.Sleep(300 * time.Millisecond)
+	var title string
+	var size fyne.Size
+	var scale float32
+	t.ui(func() {
+		title, size, scale = w.Title(), w.Canvas().Size(), w.Canvas().Scale()
+	})
+	img, how := screenshot(title, int(size.Width*scale+0.5), int(size.Height*scale+0.5))
+	if img == nil {
+		t.ui(func() { img = w.Canvas().Capture() })
+		how = "canvas capture"
+	}
+	path := filepath.Join(t.dir, name)
+	if err := writePNG(path, img); err != nil {
+		t.fail(err)
+	}
+	fmt.Fprintf(os.Stderr, "self-test: saved %s (%s, %d × %d)\n", path, how, img.Bounds().Dx(), img.Bounds().Dy())
 }
 
 func writePNG(path string, img image.Image) error {
 	return atomicfile.Write(path, func(w io.Writer) error { return png.Encode(w, img) })
 }
 
-// screenshot returns an image of the window: from the X server with
-// ImageMagick's import when both are there (OpenGL front buffers read back
-// blank under some software renderers), else from the canvas.
-func (u *ui) screenshot() (image.Image, string) {
-	if os.Getenv("DISPLAY") != "" {
-		if imp, err := exec.LookPath("import"); err == nil {
-			out, err := exec.Command(imp, "-window", "root", "png:-").Output()
-			if err == nil {
-				if img, err := png.Decode(bytes.NewReader(out)); err == nil {
-					return img, "X server screenshot"
-				}
-			}
+// screenshot returns an image of the window titled title, of width × height
+// pixels, from the X server with ImageMagick's import (OpenGL front buffers
+// read back blank under some software renderers): the window itself when
+// xwininfo finds it, else the top left corner of the screen, where a bare X
+// server such as Xvfb puts it. It returns nil without an X server or
+// import.
+func screenshot(title string, width, height int) (image.Image, string) {
+	imp, err := exec.LookPath("import")
+	if os.Getenv("DISPLAY") == "" || err != nil {
+		return nil, ""
+	}
+	if id := xWindow(title, width, height); id != "" {
+		if img := importPNG(imp, "-window", id, "png:-"); img != nil {
+			return img, "X window " + id
 		}
 	}
-	return u.win.Canvas().Capture(), "canvas capture"
+	if img := importPNG(imp, "-window", "root", "-crop", fmt.Sprintf("%dx%d+0+0", width, height), "+repage", "png:-"); img != nil {
+		return img, "X screen, top left corner"
+	}
+	return nil, ""
+}
+
+func importPNG(imp string, args ...string) image.Image {
+	out, err := exec.Command(imp, args...).Output()
+	if err != nil {
+		return nil
+	}
+	img, err := png.Decode(bytes.NewReader(out))
+	if err != nil {
+		return nil
+	}
+	return img
+}
+
+// xWindow returns the X id of the window named title and of the given
+// size, from xwininfo's tree of windows, or "".
+func xWindow(title string, width, height int) string {
+	xw, err := exec.LookPath("xwininfo")
+	if err != nil {
+		return ""
+	}
+	out, err := exec.Command(xw, "-root", "-tree").Output()
+	if err != nil {
+		return ""
+	}
+	size := fmt.Sprintf(" %dx%d+", width, height)
+	for _, line := range strings.Split(string(out), "\n") {
+		f := strings.Fields(line)
+		if len(f) > 1 && strings.Contains(line, `"`+title+`"`) && strings.Contains(line, size) && strings.HasPrefix(f[0], "0x") {
+			return f[0]
+		}
+	}
+	return ""
 }
 
 // PaletteShares classifies each pixel of img by the nearest (in RGB) of
@@ -263,50 +381,4 @@ func MapColours(img image.Image, r image.Rectangle) (colours int, inked float64)
 		}
 	}
 	return colours, float64(total-bgCount) / float64(total)
-}
-
-// selfTestTour goes on to the markers of the first state and a short
-// sweep, saving a screenshot of each (for the README).
-func (u *ui) selfTestTour(v *atlasView) {
-	m, s := v.markers, v.sweep
-	sweep := func() {
-		v.tabs.SelectIndex(3)
-		s.values.SetText("1, 4, 30, inf")
-		v.iterations.SetText("250")
-		s.onDone = func() {
-			s.onDone = nil
-			u.selfTestShotLater("sweep.png", u.selfTestPass)
-		}
-		v.toggleSweep()
-	}
-	v.tabs.SelectIndex(2)
-	m.source.SetSelected("state")
-	m.onDone = func() {
-		m.onDone = nil
-		u.selfTestShotLater("markers.png", sweep)
-	}
-	v.rankMarkers()
-}
-
-// selfTestShotLater waits for the window to draw what was just done, saves a
-// screenshot and goes on with next, on the UI goroutine; a failed save fails
-// the self-test.
-func (u *ui) selfTestShotLater(name string, next func()) {
-	time.AfterFunc(300*time.Millisecond, func() {
-		fyne.Do(func() {
-			if err := u.selfTestShot(name); err != nil {
-				u.selfTestFail(err)
-				return
-			}
-			next()
-		})
-	})
-}
-
-// selfTestShot saves a screenshot of the window only.
-func (u *ui) selfTestShot(name string) error {
-	path := filepath.Join(u.opts.SelfTest, name)
-	shot, how := u.screenshot()
-	fmt.Fprintf(os.Stderr, "self-test: saved %s (%s)\n", path, how)
-	return writePNG(path, shot)
 }

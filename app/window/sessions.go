@@ -31,91 +31,66 @@ func isSession(path string) bool {
 
 // toSession captures the view's state.
 func (v *atlasView) toSession() *session.Session {
-	layout, _ := v.engine.Latest()
-	origin := restore.Origin{Path: v.src.path, Inputs: v.inputs}
-	if v.src.example {
+	run := v.run.snapshot()
+	origin := restore.Origin{Path: v.st.src.path, Inputs: v.inputs}
+	if v.st.src.example {
 		opts := v.exampleOpts
 		origin = restore.Origin{Example: &opts}
 	}
-	s := restore.Capture(restore.Map{Prepared: v.prep, Origin: origin, Initial: v.engine.Initial(), Layout: layout,
-		Attraction: v.dial.Value, History: v.engine.History()})
-	for _, g := range v.groups {
+	s := restore.Capture(restore.Map{Prepared: v.st.prep, Origin: origin, Initial: run.initial, Layout: run.layout,
+		Attraction: run.attraction, History: run.history})
+	for _, g := range v.st.groups {
 		s.Groups = append(s.Groups, session.Group{Name: g.Name, Colour: session.Colour{R: g.Colour.R, G: g.Colour.G, B: g.Colour.B},
 			Members: session.Members(g.Cells)})
 	}
-	if v.painted != nil {
-		s.Paint = session.Paint{Source: []string{"plain", "column", "gene", "groups"}[v.painted.Source], Name: v.painted.Name, Hidden: v.hidden}
+	if pt := v.st.paint; pt != nil {
+		s.Paint = session.Paint{Source: []string{"plain", "column", "gene", "groups"}[pt.Source], Name: pt.Name, Hidden: v.paint.hidden}
 	}
-	view := v.mapView.View()
+	m := v.mapP.mapView
+	view := m.View()
 	s.View = session.View{CenterX: view.CenterX, CenterY: view.CenterY, Scale: view.Scale, Width: view.Width, Height: view.Height,
-		Pinned: v.mapView.Pinned()}
-	s.PointSize, s.Opacity = v.mapView.PointStyle()
+		Pinned: m.Pinned()}
+	s.PointSize, s.Opacity = m.PointStyle()
 	return s
 }
 
 // hashInputs hashes the files an atlas was read from, in the background.
 func (v *atlasView) hashInputs() {
-	sources := v.data.Sources
-	go func() {
+	sources := v.st.data.Sources
+	v.jobs.run(func(context.Context) {
 		ins, err := restore.Hash(sources)
 		if err != nil {
 			return
 		}
-		fyne.Do(func() { v.inputs = ins })
-	}()
+		v.jobs.do(func() { v.inputs = ins })
+	})
 }
 
+// askSaveSession asks where to save the session, then saves it.
 func (v *atlasView) askSaveSession() {
-	name := strings.TrimSuffix(v.src.name(), filepath.Ext(v.src.name()))
-	if v.src.example {
-		name = "example"
-	}
-	go func() {
-		path, err := v.u.chooser.SaveFile("Save the session", name+session.Extension, "Lodestone session", strings.TrimPrefix(session.Extension, "."))
-		fyne.Do(func() {
-			switch {
-			case err == errChoiceCancelled:
-			case err != nil:
-				v.u.showError("Could not open the file dialog", err)
-			default:
-				if !strings.EqualFold(filepath.Ext(path), session.Extension) {
-					path += session.Extension
-				}
-				v.saveSession(path, true)
-			}
-		})
-	}()
-}
-
-// saveSession writes the session in the background; when tell is set the
-// outcome is shown to the user.
-func (v *atlasView) saveSession(path string, tell bool) {
-	if !v.ready {
-		if tell {
-			v.u.showError("Not yet", fmt.Errorf("the session can be saved once the atlas has been prepared"))
-		}
+	if !v.st.ready {
+		v.u.showError("Not yet", fmt.Errorf("the session can be saved once the atlas has been prepared"))
 		return
 	}
-	s := v.toSession()
-	go func() {
-		err := session.Write(path, s)
-		fyne.Do(func() {
-			if err != nil {
-				if tell {
-					v.u.showError("Could not save the session", err)
-				}
-				return
-			}
-			if tell {
-				v.note("saved " + path)
-				v.u.remember(path)
-			}
-		})
-	}()
+	v.files.ask("Save the session", stem(v.st.src)+session.Extension, func(path string) { v.saveSession(path) })
 }
 
-// note shows a short message in the status line.
-func (v *atlasView) note(s string) { v.stage.SetText(s) }
+// saveSession writes the session in the background and tells the outcome.
+func (v *atlasView) saveSession(path string) {
+	s := v.toSession()
+	v.st.tell("saving " + filepath.Base(path) + "…")
+	v.jobs.run(func(context.Context) {
+		err := session.Write(path, s)
+		v.jobs.do(func() {
+			if err != nil {
+				v.u.showError("Could not save the session", err)
+				return
+			}
+			v.st.tell("saved " + path)
+			v.u.remember(path)
+		})
+	})
+}
 
 // openSession reads a session file and shows its map at once; the atlas is
 // prepared again in the background so that the dial, genes and markers
@@ -155,10 +130,11 @@ func (u *ui) showSession(path string, s *session.Session) {
 	}
 	v.inputs = s.Inputs
 	u.atlas = v
+	u.atlasChanged()
 	u.win.SetTitle("Lodestone — " + filepath.Base(path))
 	u.win.SetContent(v.content())
 	v.restore(s)
-	v.startTicker()
+	v.open()
 
 	changed := session.Changed(s)
 	if len(changed) == 0 {
@@ -173,47 +149,31 @@ func (u *ui) showSession(path string, s *session.Session) {
 		if prepare {
 			v.prepareBehind(s)
 		} else {
-			v.note("stored map only: the inputs changed")
+			v.st.tell("stored map only: the inputs changed")
 		}
 	}, u.win)
 }
 
 // restore applies a session's layout, history, dial, groups, paint and view.
 func (v *atlasView) restore(s *session.Session) {
-	v.engine.SetLayout(s.Layout, restore.Steps(s))
-	v.dial.SetValue(float64(s.Attraction))
-	if n := len(s.History); n > 0 {
-		v.perp = s.History[n-1].Setting
-	}
-	v.perplexity.SetText(strconv.FormatFloat(v.perp, 'g', 4, 64))
+	v.run.show(s.Layout, restore.Steps(s), float64(s.Attraction))
 	n := len(s.CellIDs)
-	v.groups = nil
+	var groups []*paint.Group
 	for _, g := range s.Groups {
-		mask := g.Mask(n)
-		v.groups = append(v.groups, &paint.Group{Name: g.Name, Colour: color.NRGBA{R: g.Colour.R, G: g.Colour.G, B: g.Colour.B, A: 0xff},
-			Cells: mask, Count: len(g.Members)})
+		groups = append(groups, &paint.Group{Name: g.Name, Colour: color.NRGBA{R: g.Colour.R, G: g.Colour.G, B: g.Colour.B, A: 0xff},
+			Cells: g.Mask(n), Count: len(g.Members)})
 	}
-	v.groupsList.Refresh()
+	v.st.setGroups(groups)
+	m := v.mapP.mapView
 	if s.PointSize > 0 {
-		v.mapView.SetPointStyle(s.PointSize, s.Opacity)
+		m.SetPointStyle(s.PointSize, s.Opacity)
+		v.mapP.styled = true
+		v.mapP.dot.SetValue(s.PointSize)
+		v.mapP.ink.SetValue(s.Opacity)
 	}
-	v.showFrame()
-	switch s.Paint.Source {
-	case "column":
-		v.paintSel.SetSelected(s.Paint.Name)
-		if c := v.column(s.Paint.Name); c != nil && c.Kind == atlas.Categorical && len(s.Paint.Hidden) == len(c.Levels)+1 {
-			v.hidden = s.Paint.Hidden
-			v.repaint()
-		}
-	case "groups":
-		v.paintSel.SetSelected(groupsChoice)
-	case "gene":
-		v.pendingGene = s.Paint.Name
-	default:
-		v.paintSel.SetSelected(plainChoice)
-	}
+	v.paint.restore(s.Paint.Source, s.Paint.Name, s.Paint.Hidden)
 	if s.View.Pinned && s.View.Scale > 0 {
-		v.mapView.SetView(raster.View{CenterX: s.View.CenterX, CenterY: s.View.CenterY, Scale: s.View.Scale,
+		m.SetView(raster.View{CenterX: s.View.CenterX, CenterY: s.View.CenterY, Scale: s.View.Scale,
 			Width: s.View.Width, Height: s.View.Height})
 	}
 }
@@ -221,39 +181,30 @@ func (v *atlasView) restore(s *session.Session) {
 // prepareBehind prepares the atlas of a session in the background and
 // attaches it to the view when done.
 func (v *atlasView) prepareBehind(s *session.Session) {
-	v.note("preparing the atlas behind the stored map…")
-	ctx, cancel := context.WithCancel(context.Background())
-	go func() {
-		<-v.closed
-		cancel()
-	}()
+	v.st.tell("preparing the atlas behind the stored map…")
 	relay := newProgressRelay(func(stage string, done, total int64) {
-		if v.ready {
-			return
+		if !v.st.ready && !v.jobs.closed() {
+			v.st.tell(fmt.Sprintf("preparing the atlas behind the stored map: %s %.0f%%", stageLabel(stage), 100*float64(done)/math.Max(1, float64(total))))
 		}
-		v.note(fmt.Sprintf("preparing the atlas behind the stored map: %s %.0f%%", stageLabel(stage), 100*float64(done)/math.Max(1, float64(total))))
 	})
-	go func() {
+	v.jobs.run(func(ctx context.Context) {
 		p, d, err := restore.Prepare(ctx, s, relay.report)
 		var opt *live.TSNE
 		setting := 0.0
 		if err == nil {
 			opt, setting, err = restore.NewReplayer(p).Current(ctx, restore.Steps(s))
 		}
-		fyne.Do(func() {
-			if ctx.Err() != nil {
-				return
-			}
+		v.jobs.do(func() {
 			if err != nil {
-				v.note("stored map only")
+				v.st.tell("stored map only")
 				v.u.showError("Could not prepare the atlas behind the session", err)
 				return
 			}
-			v.data = d
-			v.attach(p, opt, setting)
-			v.note("ready")
+			v.st.attach(d, p)
+			v.run.attach(opt, setting)
+			v.st.tell("ready")
 		})
-	}()
+	})
 }
 
 func stageLabel(stage string) string {
@@ -268,61 +219,41 @@ func stageLabel(stage string) string {
 	return stage
 }
 
-// attach makes a view opened from a session fully usable once its atlas is
-// prepared.
-func (v *atlasView) attach(p *pipeline.Prepared, opt *live.TSNE, setting float64) {
-	p.Annotations = v.prep.Annotations
-	v.prep = p
-	v.tsne = opt
-	v.perp = setting
-	v.engine.SetOptimizer(opt, setting)
-	v.ready = true
-	v.enableControls()
-	v.refreshAtlasPanel()
-	if v.pendingGene != "" {
-		if g := v.findGene(v.pendingGene); g >= 0 {
-			v.geneBox.SetText(v.pendingGene)
-			v.paintByGene(g)
-		}
-		v.pendingGene = ""
-	}
-	v.scoreFidelity()
-}
-
 // recompute replays the history of the map from the prepared atlas and
 // compares the result with the map on screen.
 func (v *atlasView) recompute() {
-	if !v.ready {
+	if !v.st.ready {
 		v.u.showError("Not yet", fmt.Errorf("the atlas behind the map is still being prepared"))
 		return
 	}
-	shown, _ := v.engine.Latest()
-	history := v.engine.History()
-	initial := v.engine.Initial()
-	v.engine.Stop()
-	p := v.prep
-	v.note("recomputing the map from its history…")
-	go func() {
+	v.run.engine.Stop()
+	run := v.run.snapshot()
+	p := v.st.prep
+	v.st.tell("recomputing the map from its history…")
+	v.jobs.run(func(ctx context.Context) {
 		start := time.Now()
-		layout, err := restore.NewReplayer(p).Replay(context.Background(), initial, history)
-		fyne.Do(func() {
+		layout, err := restore.NewReplayer(p).Replay(ctx, run.initial, run.history)
+		v.jobs.do(func() {
 			if err != nil {
 				v.u.showError("Could not recompute the map", err)
 				return
 			}
-			diff := maxAbsDiff(shown, layout)
-			msg := fmt.Sprintf("The map was recomputed from the inputs' preparation and its %d runs in %.1f s. ", len(history), time.Since(start).Seconds())
-			if diff == 0 {
-				msg += "It is identical, bit for bit, to the map that was shown."
-			} else {
-				msg += fmt.Sprintf("It differs from the map that was shown by at most %.3g (in map units); "+
-					"the seed, the thread count or the platform differ from those that made it.", diff)
-			}
-			v.engine.SetLayout(layout, history)
-			v.showFrame()
+			msg := recomputeMessage(len(run.history), time.Since(start), maxAbsDiff(run.layout, layout))
+			v.run.show(layout, run.history, run.attraction)
+			v.st.tell("recomputed the map")
 			dialog.ShowCustom("Recomputed", "Close", newWrapLabel(msg), v.u.win)
 		})
-	}()
+	})
+}
+
+// recomputeMessage says how a recomputed map compares with the one shown.
+func recomputeMessage(runs int, took time.Duration, diff float64) string {
+	msg := fmt.Sprintf("The map was recomputed from the inputs' preparation and its %d runs in %.1f s. ", runs, took.Seconds())
+	if diff == 0 {
+		return msg + "It is identical, bit for bit, to the map that was shown."
+	}
+	return msg + fmt.Sprintf("It differs from the map that was shown by at most %.3g (in map units); "+
+		"the seed, the thread count or the platform differ from those that made it.", diff)
 }
 
 func maxAbsDiff(a, b []float32) float64 {
@@ -371,7 +302,7 @@ func clearRunning() { os.Remove(runningMarker()) }
 // autosave writes the open map to the autosave file (synchronously when
 // wait is set, as on quit).
 func (v *atlasView) autosave(wait bool) {
-	if !v.ready {
+	if !v.st.ready {
 		return
 	}
 	s := v.toSession()
@@ -381,11 +312,11 @@ func (v *atlasView) autosave(wait bool) {
 		}
 		return
 	}
-	go func() {
+	v.jobs.run(func(context.Context) {
 		if err := session.Write(autosavePath(), s); err != nil {
 			fyne.LogError("autosave", err)
 		}
-	}()
+	})
 }
 
 // offerRecovery asks whether to reopen the map autosaved before a crash.

@@ -251,9 +251,6 @@ func (u *ui) open(src source) {
 			if err != nil {
 				u.win.SetContent(previous)
 				u.showError("Could not open "+src.name(), err)
-				if u.selfTestDone != nil {
-					u.selfTestFail(err)
-				}
 				return
 			}
 			if !src.example {

@@ -22,6 +22,7 @@ import (
 	"fyne.io/fyne/v2/widget"
 
 	"lodestone/assets"
+	lcanvas "lodestone/canvas"
 )
 
 // Options say what the window does when it opens.
@@ -37,8 +38,9 @@ type Options struct {
 // ExampleName is what the window calls the bundled example atlas.
 const ExampleName = "example atlas (invented)"
 
-// ui is the state of the window. Its fields are touched on the UI goroutine
-// only.
+// ui is the window's shell: the start view, loading, menus, dialogs, and
+// the atlas view while one is open. Its fields are touched on the UI
+// goroutine only.
 type ui struct {
 	app     fyne.App
 	win     fyne.Window
@@ -47,7 +49,9 @@ type ui struct {
 
 	loadCancel context.CancelFunc // cancels the loading in flight
 	atlas      *atlasView         // the open atlas, nil on the start view
+	atlasItems []*fyne.MenuItem   // menu items that need an open atlas
 
+	errorsShown  []string // the errors shown to the user, oldest first
 	selfTestDone chan int // receives the self-test's exit status
 	autosaveOn   bool     // autosave the open map (off in tests and the self-test)
 }
@@ -63,12 +67,16 @@ func Run(opts Options) int {
 		defer clearRunning()
 	}
 	u := newUI(a, nativeChooser{}, opts)
+	// The view's jobs stop before the toolkit's loop does, so that none of
+	// them touches a widget after it.
+	a.Lifecycle().SetOnStopped(u.closeView)
 	if opts.SelfTest == "" {
 		u.autosaveOn = true
 		u.win.SetCloseIntercept(func() {
 			if u.atlas != nil {
 				u.atlas.autosave(true)
 			}
+			u.closeView()
 			u.win.Close()
 		})
 		if crashed && opts.Path == "" && !opts.Example {
@@ -76,9 +84,7 @@ func Run(opts Options) int {
 		}
 	}
 	u.win.ShowAndRun()
-	if u.atlas != nil {
-		u.atlas.close()
-	}
+	u.closeView()
 	if u.selfTestDone != nil {
 		select {
 		case code := <-u.selfTestDone:
@@ -90,12 +96,18 @@ func Run(opts Options) int {
 	return 0
 }
 
+// closeView stops the open atlas view's work (the view stays on screen).
+func (u *ui) closeView() {
+	if u.atlas != nil {
+		u.atlas.close()
+	}
+}
+
 func newUI(a fyne.App, ch Chooser, opts Options) *ui {
 	u := &ui{app: a, chooser: ch, opts: opts}
 	u.win = a.NewWindow("Lodestone")
 	u.win.Resize(fyne.NewSize(1280, 800))
 	u.win.SetMainMenu(u.menu())
-	u.addShortcuts()
 	u.win.SetOnDropped(u.dropped)
 	u.showStart()
 	switch {
@@ -109,69 +121,108 @@ func newUI(a fyne.App, ch Chooser, opts Options) *ui {
 	return u
 }
 
+// shortcut is the platform's shortcut modifier (Ctrl, ⌘ on macOS) with key,
+// and shift as well when shift is set.
+func shortcut(key fyne.KeyName, shift bool) fyne.Shortcut {
+	mod := fyne.KeyModifierShortcutDefault
+	if shift {
+		mod |= fyne.KeyModifierShift
+	}
+	return &desktop.CustomShortcut{KeyName: key, Modifier: mod}
+}
+
+// menu builds the main menu. Items that act on the open atlas are disabled
+// on the start view; items with a keyboard shortcut show it (the driver
+// runs the item when the keys are pressed).
 func (u *ui) menu() *fyne.MainMenu {
+	item := func(label string, keys fyne.Shortcut, action func()) *fyne.MenuItem {
+		it := fyne.NewMenuItem(label, action)
+		it.Shortcut = keys
+		return it
+	}
+	onAtlas := func(label string, keys fyne.Shortcut, action func(v *atlasView)) *fyne.MenuItem {
+		it := item(label, keys, func() {
+			if u.atlas != nil {
+				action(u.atlas)
+			}
+		})
+		it.Disabled = true
+		u.atlasItems = append(u.atlasItems, it)
+		return it
+	}
+	u.atlasItems = nil
 	file := fyne.NewMenu("File",
-		fyne.NewMenuItem("Open a file…", u.askOpenFile),
-		fyne.NewMenuItem("Open a folder…", u.askOpenFolder),
-		fyne.NewMenuItem("Open the example atlas", u.openExample),
+		item("Open a file…", shortcut(fyne.KeyO, false), u.askOpenFile),
+		item("Open a folder…", nil, u.askOpenFolder),
+		item("Open the example atlas", nil, u.openExample),
 		fyne.NewMenuItemSeparator(),
-		fyne.NewMenuItem("Save the session…", func() { u.withAtlas(func(v *atlasView) { v.askSaveSession() }) }),
-		fyne.NewMenuItem("Export the figure…", func() { u.withAtlas(func(v *atlasView) { v.askExportFigure() }) }),
-		fyne.NewMenuItem("Export the map as a table…", func() { u.withAtlas(func(v *atlasView) { v.askExportTable() }) }),
-		fyne.NewMenuItem("Export the selected cells' IDs…", func() { u.withAtlas(func(v *atlasView) { v.askExportSelection() }) }),
+		onAtlas("Save the session…", shortcut(fyne.KeyS, false), func(v *atlasView) { v.askSaveSession() }),
+		onAtlas("Export the figure…", shortcut(fyne.KeyE, false), func(v *atlasView) { v.export.askFigure() }),
+		onAtlas("Export the map as a table…", nil, func(v *atlasView) { v.export.askTable() }),
+		onAtlas("Export the selected cells' IDs…", nil, func(v *atlasView) { v.export.askSelection() }),
 		fyne.NewMenuItemSeparator(),
-		fyne.NewMenuItem("Close the atlas", u.closeAtlas),
+		onAtlas("Close the atlas", nil, func(*atlasView) { u.closeAtlas() }),
 	)
 	view := fyne.NewMenu("Map",
-		fyne.NewMenuItem("Fit the whole map", func() { u.withAtlas(func(v *atlasView) { v.mapView.Fit() }) }),
-		fyne.NewMenuItem("Move tool", func() { u.withAtlas(func(v *atlasView) { v.setTool(0) }) }),
-		fyne.NewMenuItem("Lasso: add to selection", func() { u.withAtlas(func(v *atlasView) { v.setTool(1) }) }),
-		fyne.NewMenuItem("Lasso: remove from selection", func() { u.withAtlas(func(v *atlasView) { v.setTool(2) }) }),
-		fyne.NewMenuItem("Undo the last selection change", func() { u.withAtlas(func(v *atlasView) { v.mapView.Undo() }) }),
+		onAtlas("Fit the whole map", shortcut(fyne.KeyF, false), func(v *atlasView) { v.mapP.mapView.Fit() }),
+		onAtlas("Move tool", shortcut(fyne.KeyM, false), func(v *atlasView) { v.mapP.setTool(lcanvas.Move) }),
+		onAtlas("Lasso: add to the selection", shortcut(fyne.KeyL, false), func(v *atlasView) { v.mapP.setTool(lcanvas.LassoAdd) }),
+		onAtlas("Lasso: remove from the selection", shortcut(fyne.KeyL, true), func(v *atlasView) { v.mapP.setTool(lcanvas.LassoSubtract) }),
+		onAtlas("Undo the last selection change", &fyne.ShortcutUndo{}, u.undo),
+		onAtlas("Make a group of the selection", shortcut(fyne.KeyG, false), func(v *atlasView) { v.groups.fromSelection() }),
 		fyne.NewMenuItemSeparator(),
-		fyne.NewMenuItem("Leiden clusters…", func() { u.withAtlas(func(v *atlasView) { v.askClusters() }) }),
-		fyne.NewMenuItem("Recompute the map from its history", func() { u.withAtlas(func(v *atlasView) { v.recompute() }) }),
+		onAtlas("Leiden clusters…", nil, func(v *atlasView) { v.paint.askClusters() }),
+		onAtlas("Recompute the map from its history", nil, func(v *atlasView) { v.recompute() }),
 	)
 	help := fyne.NewMenu("Help",
-		fyne.NewMenuItem("Reading the map", u.showReadingTheMap),
-		fyne.NewMenuItem("Keyboard", u.showKeys),
+		item("Reading the map", nil, u.showReadingTheMap),
+		item("Keyboard", nil, u.showKeys),
 	)
 	return fyne.NewMainMenu(file, view, help)
 }
 
-// withAtlas calls f with the open atlas view, if any.
-func (u *ui) withAtlas(f func(*atlasView)) {
-	if u.atlas != nil {
-		f(u.atlas)
+// atlasChanged enables the menu items that need an open atlas when one is
+// open, and disables them on the start view.
+func (u *ui) atlasChanged() {
+	for _, it := range u.atlasItems {
+		it.Disabled = u.atlas == nil
+	}
+	if m := u.win.MainMenu(); m != nil {
+		m.Refresh()
 	}
 }
 
-// keys lists the keyboard shortcuts for Help ▸ Keyboard and addShortcuts.
-var keys = []struct {
-	key  fyne.KeyName
-	what string
-}{
-	{fyne.KeyO, "open a file"},
-	{fyne.KeyS, "save the session"},
-	{fyne.KeyE, "export the figure"},
-	{fyne.KeyF, "fit the whole map"},
-	{fyne.KeyL, "lasso (again: switch between adding and removing)"},
-	{fyne.KeyM, "move tool"},
-	{fyne.KeyZ, "undo the last selection change"},
+// undo undoes the last selection change; in a text field Ctrl+Z undoes the
+// typing instead.
+func (u *ui) undo(v *atlasView) {
+	if f, ok := u.win.Canvas().Focused().(fyne.Shortcutable); ok {
+		f.TypedShortcut(&fyne.ShortcutUndo{})
+		return
+	}
+	v.mapP.mapView.Undo()
 }
 
-func (u *ui) addShortcuts() {
-	mod := fyne.KeyModifierShortcutDefault
-	add := func(k fyne.KeyName, f func()) {
-		u.win.Canvas().AddShortcut(&desktop.CustomShortcut{KeyName: k, Modifier: mod}, func(fyne.Shortcut) { f() })
+// shortcutText writes a keyboard shortcut for people: "Ctrl+Shift+L".
+func shortcutText(s fyne.Shortcut) string {
+	k, ok := s.(fyne.KeyboardShortcut)
+	if !ok {
+		return ""
 	}
-	add(fyne.KeyO, u.askOpenFile)
-	add(fyne.KeyS, func() { u.withAtlas(func(v *atlasView) { v.askSaveSession() }) })
-	add(fyne.KeyE, func() { u.withAtlas(func(v *atlasView) { v.askExportFigure() }) })
-	add(fyne.KeyF, func() { u.withAtlas(func(v *atlasView) { v.mapView.Fit() }) })
-	add(fyne.KeyL, func() { u.withAtlas(func(v *atlasView) { v.toggleLasso() }) })
-	add(fyne.KeyM, func() { u.withAtlas(func(v *atlasView) { v.setTool(0) }) })
-	add(fyne.KeyZ, func() { u.withAtlas(func(v *atlasView) { v.mapView.Undo() }) })
+	var b strings.Builder
+	mod := k.Mod()
+	if mod&fyne.KeyModifierSuper != 0 {
+		b.WriteString("⌘")
+	}
+	if mod&fyne.KeyModifierControl != 0 {
+		b.WriteString("Ctrl+")
+	}
+	if mod&fyne.KeyModifierAlt != 0 {
+		b.WriteString("Alt+")
+	}
+	if mod&fyne.KeyModifierShift != 0 {
+		b.WriteString("Shift+")
+	}
+	return b.String() + string(k.Key())
 }
 
 func (u *ui) showReadingTheMap() {
@@ -182,14 +233,25 @@ func (u *ui) showReadingTheMap() {
 	dialog.ShowCustom("Reading the map", "Close", scroll, u.win)
 }
 
+// showKeys lists the keyboard shortcuts.
 func (u *ui) showKeys() {
+	dialog.ShowCustom("Keyboard", "Close", widget.NewRichTextFromMarkdown(keysText(u.win.MainMenu())), u.win)
+}
+
+// keysText lists the menus' keyboard shortcuts and the map's and dial's
+// keys in Markdown.
+func keysText(menu *fyne.MainMenu) string {
 	var b strings.Builder
-	for _, k := range keys {
-		fmt.Fprintf(&b, "- **Ctrl+%s** (⌘ on macOS): %s\n", k.key, k.what)
+	for _, m := range menu.Items {
+		for _, it := range m.Items {
+			if it.Shortcut != nil {
+				fmt.Fprintf(&b, "- **%s**: %s\n", shortcutText(it.Shortcut), strings.TrimSuffix(it.Label, "…"))
+			}
+		}
 	}
 	b.WriteString("- **Wheel**: zoom about the pointer; **drag**: move the map or draw a lasso\n")
 	b.WriteString("- On the dial: **← →** turn it a notch, **Home / End** go to its ends\n")
-	dialog.ShowCustom("Keyboard", "Close", widget.NewRichTextFromMarkdown(b.String()), u.win)
+	return b.String()
 }
 
 // newWrapLabel returns a label that wraps its text, sized for a dialog.
@@ -203,6 +265,7 @@ func newWrapLabel(text string) fyne.CanvasObject {
 
 // showError shows err in a dialog; the window stays usable.
 func (u *ui) showError(title string, err error) {
+	u.errorsShown = append(u.errorsShown, title+": "+err.Error())
 	dialog.ShowCustom(title, "Close", newWrapLabel(err.Error()), u.win)
 }
 

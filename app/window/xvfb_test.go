@@ -66,6 +66,33 @@ func TestSelfTestInRealWindow(t *testing.T) {
 	if n, _ := MapColours(shot, shot.Bounds()); n < 5 {
 		t.Errorf("the window screenshot holds only %d distinct colours", n)
 	}
+	// It is the window, not the screen: no black bands right and below.
+	b := shot.Bounds()
+	if b.Dx() >= xvfbWidth || b.Dy() >= xvfbHeight {
+		t.Errorf("the screenshot is %d × %d, the screen's size; want the window's", b.Dx(), b.Dy())
+	}
+	if black := blackShare(shot, image.Rect(b.Max.X-4, b.Min.Y, b.Max.X, b.Max.Y)); black > 0.5 {
+		t.Errorf("%.0f%% of the screenshot's right edge is black", 100*black)
+	}
+	if black := blackShare(shot, image.Rect(b.Min.X, b.Max.Y-4, b.Max.X, b.Max.Y)); black > 0.5 {
+		t.Errorf("%.0f%% of the screenshot's bottom edge is black", 100*black)
+	}
+}
+
+// The size of the test's X screen, larger than the window.
+const xvfbWidth, xvfbHeight = 1400, 900
+
+// blackShare returns the share of the pixels of r in img that are black.
+func blackShare(img image.Image, r image.Rectangle) float64 {
+	n := 0
+	for y := r.Min.Y; y < r.Max.Y; y++ {
+		for x := r.Min.X; x < r.Max.X; x++ {
+			if cr, cg, cb, _ := img.At(x, y).RGBA(); cr|cg|cb == 0 {
+				n++
+			}
+		}
+	}
+	return float64(n) / float64(max(1, r.Dx()*r.Dy()))
 }
 
 // startXvfb starts an X server on a free display number and returns the
@@ -76,7 +103,7 @@ func startXvfb(t *testing.T, xvfb string) string {
 		if _, err := os.Stat(fmt.Sprintf("/tmp/.X11-unix/X%d", n)); err == nil {
 			continue
 		}
-		cmd := exec.Command(xvfb, fmt.Sprintf(":%d", n), "-screen", "0", "1400x900x24", "-nolisten", "tcp")
+		cmd := exec.Command(xvfb, fmt.Sprintf(":%d", n), "-screen", "0", fmt.Sprintf("%dx%dx24", xvfbWidth, xvfbHeight), "-nolisten", "tcp")
 		if err := cmd.Start(); err != nil {
 			t.Fatalf("starting Xvfb: %v", err)
 		}

@@ -1,0 +1,288 @@
+package window
+
+import (
+	"context"
+	"fmt"
+	"strconv"
+	"strings"
+	"sync/atomic"
+	"time"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/theme"
+	"fyne.io/fyne/v2/widget"
+
+	"lodestone/app/live"
+	lcanvas "lodestone/canvas"
+	"lodestone/compute/pipeline"
+)
+
+// Iteration counts of the runs the window starts.
+const (
+	freshIterations = 750 // a run from the initial layout, early exaggeration included
+	warmIterations  = 500 // a run after a turn of the dial
+)
+
+// statusEvery is how often the run's status is refreshed while nothing
+// else redraws it (the elapsed time of a run).
+const statusEvery = 250 * time.Millisecond
+
+// errorShower shows an error in a dialog; the window stays usable.
+type errorShower interface {
+	showError(title string, err error)
+}
+
+// runPanel is the attraction dial and the run's controls (perplexity,
+// iterations per turn, Stop/Continue, Restart). It owns the optimiser and
+// its engine, and publishes every new layout and the run's status in the
+// atlas state.
+//
+// A new control that changes how the map is optimised belongs here: it
+// joins the form in content, its value joins runSnapshot, and turn and
+// restart hand it to the engine.
+type runPanel struct {
+	st   *atlasState
+	jobs *viewJobs
+	errs errorShower
+
+	engine       *live.Engine
+	tsne         *live.TSNE
+	perp         float64 // the perplexity of the affinities in use
+	affinityBusy bool    // affinities for a new perplexity are being computed
+	framePending atomic.Bool
+
+	dial       *lcanvas.Dial
+	perplexity *widget.Entry
+	iterations *widget.Entry
+	stopBtn    *widget.Button
+	restartBtn *widget.Button
+	box        fyne.CanvasObject
+}
+
+// runSnapshot is what a computation that continues the map needs: the map
+// on screen, the history that led to it, the optimiser and the controls'
+// values.
+type runSnapshot struct {
+	layout     []float32
+	initial    []float32
+	history    []live.Step
+	opt        live.Optimizer
+	perplexity float64
+	attraction float64
+	iterations int // per turn
+}
+
+func newRunPanel(st *atlasState, jobs *viewJobs, errs errorShower) *runPanel {
+	r := &runPanel{st: st, jobs: jobs, errs: errs, perp: st.prep.Settings.Perplexity}
+	var opt live.Optimizer
+	if p := st.prep; p.P != nil {
+		r.tsne = &live.TSNE{P: p.P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}
+		opt = r.tsne
+	}
+	r.engine = live.New(opt, r.perp, st.prep.Init, r.frameReady)
+
+	r.dial = lcanvas.NewDial(1)
+	r.dial.OnChanged = func(x float64) {
+		if r.st.ready {
+			r.turn(x)
+		}
+	}
+	title := widget.NewLabelWithStyle("Attraction", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
+	r.perplexity = widget.NewEntry()
+	r.perplexity.SetText(strconv.FormatFloat(r.perp, 'g', -1, 64))
+	r.perplexity.OnSubmitted = func(string) { r.applyPerplexity() }
+	r.iterations = widget.NewEntry()
+	r.iterations.SetText(strconv.Itoa(warmIterations))
+	r.stopBtn = widget.NewButtonWithIcon("Stop", theme.MediaStopIcon(), r.stopOrContinue)
+	r.restartBtn = widget.NewButtonWithIcon("Restart", theme.MediaReplayIcon(), r.restart)
+	form := container.NewGridWithColumns(4,
+		widget.NewLabel("perplexity"), r.perplexity,
+		widget.NewLabel("iterations"), r.iterations)
+	buttons := container.NewGridWithColumns(2, r.stopBtn, r.restartBtn)
+	r.box = container.NewVBox(container.NewBorder(nil, nil, title, nil, container.NewCenter(r.dial)), form, buttons, widget.NewSeparator())
+	r.enable()
+	st.on(topicAtlas, r.enable)
+	st.on(topicRun, r.showRunning)
+	return r
+}
+
+// content returns the panel's widgets.
+func (r *runPanel) content() fyne.CanvasObject { return r.box }
+
+// startTicker keeps the run's status fresh (the elapsed time) while the
+// view is open.
+func (r *runPanel) startTicker() {
+	r.jobs.run(func(ctx context.Context) {
+		t := time.NewTicker(statusEvery)
+		defer t.Stop()
+		for {
+			select {
+			case <-ctx.Done():
+				return
+			case <-t.C:
+				r.jobs.do(r.showFrame)
+			}
+		}
+	})
+}
+
+// close stops the run in flight.
+func (r *runPanel) close() { r.engine.Stop() }
+
+// enable turns on what needs the prepared atlas.
+func (r *runPanel) enable() {
+	for _, w := range []fyne.Disableable{r.stopBtn, r.restartBtn, r.perplexity} {
+		if r.st.ready {
+			w.Enable()
+		} else {
+			w.Disable()
+		}
+	}
+}
+
+// frameReady is called by the engine from its goroutine; it schedules one
+// redraw at a time on the UI goroutine.
+func (r *runPanel) frameReady() {
+	if r.framePending.CompareAndSwap(false, true) {
+		fyne.Do(func() {
+			r.framePending.Store(false)
+			if !r.jobs.closed() {
+				r.showFrame()
+			}
+		})
+	}
+}
+
+// showFrame publishes the newest layout and the run's status.
+func (r *runPanel) showFrame() {
+	layout, st := r.engine.Latest()
+	if len(layout) == 0 {
+		layout = r.st.layout
+	}
+	r.st.setLayout(layout, st)
+}
+
+// showRunning shows Stop while a run goes, Continue otherwise.
+func (r *runPanel) showRunning() {
+	if r.st.run.Running {
+		r.stopBtn.SetText("Stop")
+		r.stopBtn.SetIcon(theme.MediaStopIcon())
+	} else {
+		r.stopBtn.SetText("Continue")
+		r.stopBtn.SetIcon(theme.MediaPlayIcon())
+	}
+}
+
+// turn reruns the optimiser from the layout on screen at attraction x.
+func (r *runPanel) turn(x float64) {
+	r.engine.Turn(x, r.iterationsPerTurn())
+	r.showFrame()
+}
+
+// turnTo moves the dial to x and turns, as a user's drag of the needle does.
+func (r *runPanel) turnTo(x float64) {
+	r.dial.SetValue(x)
+	r.dial.OnChanged(x)
+}
+
+// restart starts a fresh run from the initial layout.
+func (r *runPanel) restart() {
+	if !r.st.ready {
+		return
+	}
+	r.engine.Restart(r.dial.Value, freshIterations)
+	r.showFrame()
+}
+
+func (r *runPanel) stopOrContinue() {
+	if !r.st.ready {
+		return
+	}
+	if _, st := r.engine.Latest(); st.Running {
+		r.engine.Stop()
+		r.showFrame()
+		return
+	}
+	r.turn(r.dial.Value)
+}
+
+// iterationsPerTurn reads the iterations of a turn, putting the default
+// back when the entry holds no positive number.
+func (r *runPanel) iterationsPerTurn() int {
+	n, err := strconv.Atoi(strings.TrimSpace(r.iterations.Text))
+	if err != nil || n < 1 {
+		n = warmIterations
+		r.iterations.SetText(strconv.Itoa(n))
+	}
+	return min(n, 100000)
+}
+
+// snapshot returns what a computation that continues the map needs.
+func (r *runPanel) snapshot() runSnapshot {
+	layout, _ := r.engine.Latest()
+	s := runSnapshot{layout: layout, initial: r.engine.Initial(), history: r.engine.History(),
+		perplexity: r.perp, attraction: r.dial.Value, iterations: r.iterationsPerTurn()}
+	if r.tsne != nil {
+		s.opt = r.tsne
+	}
+	return s
+}
+
+// show stops any run and shows layout, reached by history, with the dial
+// at attraction.
+func (r *runPanel) show(layout []float32, history []live.Step, attraction float64) {
+	r.engine.SetLayout(layout, history)
+	r.dial.SetValue(attraction)
+	if n := len(history); n > 0 {
+		r.setPerplexity(history[n-1].Setting)
+	}
+	r.showFrame()
+}
+
+// attach drives opt, the optimiser of the prepared atlas, from now on.
+func (r *runPanel) attach(opt *live.TSNE, perplexity float64) {
+	r.tsne = opt
+	r.setPerplexity(perplexity)
+	r.engine.SetOptimizer(opt, perplexity)
+	r.showFrame()
+}
+
+func (r *runPanel) setPerplexity(p float64) {
+	r.perp = p
+	r.perplexity.SetText(strconv.FormatFloat(p, 'g', 4, 64))
+}
+
+// applyPerplexity recomputes the affinities for a new perplexity in the
+// background (finding more neighbours first when the graph has too few),
+// then reruns from the layout on screen.
+func (r *runPanel) applyPerplexity() {
+	if !r.st.ready || r.affinityBusy {
+		return
+	}
+	perp, err := strconv.ParseFloat(strings.TrimSpace(r.perplexity.Text), 64)
+	if err != nil || perp < 2 || perp > 50 {
+		r.errs.showError("Perplexity", fmt.Errorf("give a number from 2 to 50 (now %q)", r.perplexity.Text))
+		return
+	}
+	r.affinityBusy = true
+	r.engine.Stop()
+	r.st.tell("affinities for perplexity " + r.perplexity.Text + "…")
+	p := r.st.prep
+	r.jobs.run(func(ctx context.Context) {
+		g, P, used, err := pipeline.Reaffine(ctx, p, perp)
+		r.jobs.do(func() {
+			r.affinityBusy = false
+			if err != nil {
+				r.errs.showError("Could not change the perplexity", err)
+				return
+			}
+			// p.Settings keeps the perplexity of the preparation, so that a
+			// session can redo it; the history records the new one.
+			p.Graph, p.P = g, P
+			r.attach(&live.TSNE{P: P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}, used)
+			r.st.tell(fmt.Sprintf("affinities for perplexity %g", used))
+			r.turn(r.dial.Value)
+		})
+	})
+}

@@ -1,0 +1,63 @@
+package window
+
+import (
+	"context"
+	"io"
+	"path/filepath"
+	"strings"
+
+	"lodestone/internal/atomicfile"
+)
+
+// saver asks the user where to save (the chooser blocks, so it is asked in
+// a job of the view) and writes files atomically in the background,
+// telling the outcome in the status line or an error dialog.
+type saver struct {
+	chooser Chooser
+	jobs    *viewJobs
+	st      *atlasState
+	errs    errorShower
+}
+
+// ask asks for a file to write, suggesting a name whose extension is the
+// kind of file, and calls then with the path on the UI goroutine (with the
+// extension added when the user gave none). Nothing happens when the user
+// cancels.
+func (s *saver) ask(title, suggested string, then func(path string)) {
+	ext := strings.TrimPrefix(filepath.Ext(suggested), ".")
+	s.jobs.run(func(context.Context) {
+		path, err := s.chooser.SaveFile(title, suggested, strings.ToUpper(ext)+" file", ext)
+		s.jobs.do(func() {
+			switch {
+			case err == errChoiceCancelled:
+			case err != nil:
+				s.errs.showError("Could not open the file dialog", err)
+			default:
+				if !strings.EqualFold(filepath.Ext(path), "."+ext) {
+					path += "." + ext
+				}
+				then(path)
+			}
+		})
+	})
+}
+
+// write writes a file atomically in the background and tells the outcome.
+func (s *saver) write(path string, write func(io.Writer) error) {
+	s.st.tell("saving " + filepath.Base(path) + "…")
+	s.jobs.run(func(context.Context) {
+		err := atomicfile.Write(path, write)
+		s.jobs.do(func() {
+			if err != nil {
+				s.errs.showError("Could not save "+filepath.Base(path), err)
+				return
+			}
+			s.st.tell("saved " + path)
+		})
+	})
+}
+
+// save asks for a file and writes it.
+func (s *saver) save(title, suggested string, write func(io.Writer) error) {
+	s.ask(title, suggested, func(path string) { s.write(path, write) })
+}
