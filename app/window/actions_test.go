@@ -657,25 +657,28 @@ func TestEveryButtonIsTested(t *testing.T) {
 		for _, b := range viewButtons {
 			tested[b.get(v)] = true
 		}
-		headers := map[*widget.Button]bool{} // the table's headers: TestEveryButton/Rank_the_genes sorts
-		walk(v.markers.table, func(o fyne.CanvasObject) {
-			if b, ok := o.(*widget.Button); ok {
-				headers[b] = true
-			}
-		})
-		v.mapP.showKey(false) // the folded strip's button is in the tree too
-		walk(v.content(), func(o fyne.CanvasObject) {
+		// The table's headers (TestEveryButton/Rank_the_genes sorts by one)
+		// and the gene box's list of suggestions (TestKeyBesideTheMapWhateverTab
+		// types a gene) are parts of widgets tested as a whole.
+		headers := map[*widget.Button]bool{}
+		for _, w := range []fyne.CanvasObject{v.markers.table, v.paint.geneBox} {
+			walk(w, func(o fyne.CanvasObject) {
+				if b, ok := o.(*widget.Button); ok {
+					headers[b] = true
+				}
+			})
+		}
+		check := func(o fyne.CanvasObject) {
 			// The tabs' overflow menu, when they do not fit, is the toolkit's.
 			if b, ok := o.(*widget.Button); ok && !tested[b] && !headers[b] && !strings.Contains(iconName(b), "more-horizontal") {
 				t.Errorf("button %q (icon %s) of the atlas view has no test in viewButtons", b.Text, iconName(b))
 			}
-		})
-		v.mapP.showKey(true)
-		walk(v.mapP.sideClosed, func(o fyne.CanvasObject) {
-			if b, ok := o.(*widget.Button); ok && !tested[b] {
-				t.Errorf("button %q of the folded key has no test", b.Text)
-			}
-		})
+		}
+		walk(v.content(), check)
+		for _, tab := range v.tabs.Items { // the tabs not in front too
+			walk(tab.Content, check)
+		}
+		walk(v.mapP.sideClosed, check) // the folded key's strip
 		w := v.plots.open[0]
 		plotTested := map[string]bool{"Save PNG…": true, "Save SVG…": true, "Close": true} // TestExpressionPlotOfADayShowsAndSaves
 		walk(w.win.Content(), func(o fyne.CanvasObject) {
@@ -744,4 +747,67 @@ func iconName(b *widget.Button) string {
 		return ""
 	}
 	return b.Icon.Name()
+}
+
+// TestTheOtherControls drives the view's controls that are not buttons:
+// the paint's choice, the key's rows, the tools, dot and ink, and the
+// perplexity.
+func TestTheOtherControls(t *testing.T) {
+	u := newTestUI(t, chooserAnswering())
+	v := openFixture(t, u)
+	onUI(func() {
+		p := v.paint
+		for _, c := range []string{sampledata.ColumnState, plainChoice, groupsChoice, sampledata.ColumnMaturation} {
+			p.choice.SetSelected(c)
+			want := c
+			if c == plainChoice {
+				want = "none"
+			} else if c == groupsChoice {
+				want = "groups"
+			}
+			if v.st.paint.Name != want || overlayText(p.key) == "" {
+				t.Errorf("chose %q: paint %q", c, v.st.paint.Name)
+			}
+		}
+		if !v.st.paint.Continuous {
+			t.Error("maturation does not paint on the ramp")
+		}
+		// Key rows: a tap hides a day, a double tap shows it alone.
+		p.choice.SetSelected(sampledata.ColumnDay)
+		p.key.Tap(1)
+		if !v.st.paint.Entries[1].Hidden || v.st.paint.Entries[0].Hidden {
+			t.Error("a tap on day 4 did not hide it alone")
+		}
+		p.isolateEntry(2)
+		for i, e := range v.st.paint.Entries {
+			if e.Hidden != (i != 2) {
+				t.Errorf("after a double tap on day 6, entry %d hidden %v", i, e.Hidden)
+			}
+		}
+		// Tools, dot and ink.
+		v.mapP.tools.SetSelected(toolNames[lcanvas.LassoSubtract])
+		if v.mapP.mapView.Tool() != lcanvas.LassoSubtract {
+			t.Error("the tool strip did not choose the lasso")
+		}
+		v.mapP.dot.SetValue(5)
+		v.mapP.ink.SetValue(0.4)
+		if r, o := v.mapP.mapView.PointStyle(); r != 5 || o != 0.4 {
+			t.Errorf("point style %v, %v after dot 5, ink 0.4", r, o)
+		}
+		// A perplexity out of range is refused.
+		v.run.perplexity.SetText("500")
+		v.run.perplexity.OnSubmitted("500")
+	})
+	dialogSays(t, u, "Perplexity", "from 2 to 50")
+	onUI(func() {
+		v.run.perplexity.SetText("12")
+		v.run.perplexity.OnSubmitted("12")
+	})
+	waitForRun(t, v, 2)
+	onUI(func() {
+		h := v.run.engine.History()
+		if len(h) != 2 || h[1].Setting != 12 || v.run.perplexity.Text != "12" {
+			t.Errorf("history after perplexity 12: %+v", h)
+		}
+	})
 }

@@ -106,6 +106,7 @@ func (u *ui) closeView() {
 func newUI(a fyne.App, ch Chooser, opts Options) *ui {
 	u := &ui{app: a, chooser: ch, opts: opts}
 	u.win = a.NewWindow("Lodestone")
+	u.win.SetMaster() // closing it quits, plot windows and all
 	u.win.Resize(fyne.NewSize(1280, 800))
 	u.win.SetMainMenu(u.menu())
 	u.win.SetOnDropped(u.dropped)
