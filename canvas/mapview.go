@@ -79,7 +79,7 @@ type Map struct {
 	drawColours []uint16 // colours with the selection dimming applied
 	drawPalette []color.NRGBA
 
-	renderer *mapRenderer // the renderer, for what it drew (Snapshot, LastDrawTime)
+	renderer *mapRenderer // the renderer, for what it drew (Snapshot)
 }
 
 var (
@@ -259,14 +259,6 @@ func (m *Map) Snapshot() *image.RGBA {
 	c := image.NewRGBA(img.Rect)
 	copy(c.Pix, img.Pix)
 	return c
-}
-
-// LastDrawTime returns how long drawing the last frame took.
-func (m *Map) LastDrawTime() time.Duration {
-	if m.renderer == nil {
-		return 0
-	}
-	return m.renderer.lastDraw
 }
 
 // logicalSize returns the widget's size in whole logical pixels.
@@ -460,17 +452,6 @@ func (m *Map) Scrolled(e *fyne.ScrollEvent) {
 	m.Refresh()
 }
 
-// ZoomBy magnifies the view by factor about its centre and pins it.
-func (m *Map) ZoomBy(factor float64) {
-	if !m.hasView {
-		return
-	}
-	m.stopGlide()
-	m.pinned = true
-	m.view = m.view.ZoomAt(float64(m.view.Width)/2, float64(m.view.Height)/2, factor)
-	m.Refresh()
-}
-
 // MouseIn starts hover tracking.
 func (m *Map) MouseIn(e *desktop.MouseEvent) { m.MouseMoved(e) }
 
@@ -539,7 +520,7 @@ func (m *Map) CreateRenderer() fyne.WidgetRenderer {
 }
 
 // mapRenderer draws a Map. It reads the widget's state and writes only its
-// own: the images it draws into and how long the last frame took.
+// own: the images it draws into.
 type mapRenderer struct {
 	m               *Map
 	points, overlay *fynecanvas.Raster
@@ -547,9 +528,8 @@ type mapRenderer struct {
 	tipText         *fynecanvas.Text
 	overlayImg      *image.NRGBA
 
-	rend     raster.Renderer
-	img      *image.RGBA
-	lastDraw time.Duration
+	rend raster.Renderer
+	img  *image.RGBA
 }
 
 func (r *mapRenderer) Layout(s fyne.Size) {
@@ -653,7 +633,6 @@ func (r *mapRenderer) drawPoints(w, h int) image.Image {
 		fill(r.img, m.style.Background)
 		return r.img
 	}
-	start := time.Now()
 	s := r.deviceScale(w)
 	st := m.style
 	st.PixelScale = s
@@ -663,7 +642,6 @@ func (r *mapRenderer) drawPoints(w, h int) image.Image {
 	if err := r.rend.Draw(r.img, m.layout, m.drawColours, m.drawPalette, m.order, v, st, 0); err != nil {
 		fyne.LogError("drawing the map", err)
 	}
-	r.lastDraw = time.Since(start)
 	return r.img
 }
 

@@ -262,7 +262,7 @@ func TestResizeRefitsAFollowingView(t *testing.T) {
 	if err != nil || big != want || small.Width != 300 {
 		t.Fatalf("refit view %+v after %+v; want %+v", big, small, want)
 	}
-	m.ZoomBy(3)
+	m.Scrolled(&fyne.ScrollEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(100, 100)}, Scrolled: fyne.NewDelta(0, 300)})
 	pinned := m.View()
 	m.Resize(fyne.NewSize(500, 500))
 	v := m.View()

@@ -81,6 +81,8 @@ test)
 	go test -count=1 -timeout 30m ./...
 	# The engine ↔ window bridge and everything else that crosses goroutines.
 	go test -count=1 -race -short ./compute/parallel/... ./app/live/... ./app/session/... ./canvas/raster/... ./canvas/spatial/...
+	# The atlas view's background jobs, closed while each runs.
+	go test -count=1 -race -short -run 'TestClosingTheViewEndsEveryJob|TestFidelityIsMarkedWhileTheMapMoves' ./app/window
 	run_fuzz_briefly
 	if [ -f packaging/build.sh ]; then sh packaging/build.sh --check; fi
 	echo "dev.sh: all tests passed"

@@ -18,6 +18,7 @@ import (
 	"fyne.io/fyne/v2/widget"
 
 	"lodestone/app/cli"
+	"lodestone/app/live"
 	"lodestone/app/paint"
 	"lodestone/app/session"
 	lcanvas "lodestone/canvas"
@@ -294,7 +295,7 @@ var menuActions = map[string]struct {
 		})
 	}},
 	"Fit the whole map": {check: func(t *testing.T, u *ui, v *atlasView, _ *fakeChooser) {
-		onUI(func() { v.mapP.mapView.ZoomBy(4) })
+		onUI(func() { zoomIn(v) })
 		choose(t, u, "Fit the whole map")
 		onUI(func() {
 			if v.mapP.mapView.Pinned() {
@@ -430,7 +431,7 @@ var viewButtons = []struct {
 	check  action
 }{
 	{"Fit", func(v *atlasView) *widget.Button { return v.mapP.fit }, func(_ *testing.T, _ *ui, v *atlasView, _ *fakeChooser) {
-		onUI(func() { v.mapP.mapView.ZoomBy(3) })
+		onUI(func() { zoomIn(v) })
 	}, func(t *testing.T, _ *ui, v *atlasView, _ *fakeChooser) {
 		onUI(func() {
 			if v.mapP.mapView.Pinned() {
@@ -481,7 +482,7 @@ var viewButtons = []struct {
 		waitForRun(t, v, 2)
 		onUI(func() {
 			h := v.run.engine.History()
-			if len(h) != 1 || h[0].Kind != "fresh" || h[0].Done != freshIterations {
+			if len(h) != 1 || h[0].Kind != "fresh" || h[0].Done != live.FreshIterations {
 				t.Errorf("history after Restart: %+v", h)
 			}
 		})
@@ -810,4 +811,11 @@ func TestTheOtherControls(t *testing.T) {
 			t.Errorf("history after perplexity 12: %+v", h)
 		}
 	})
+}
+
+// zoomIn turns the wheel over the middle of the map, as a user zooms.
+func zoomIn(v *atlasView) {
+	m := v.mapP.mapView
+	m.Scrolled(&fyne.ScrollEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(m.Size().Width/2, m.Size().Height/2)},
+		Scrolled: fyne.NewDelta(0, 400)})
 }

@@ -18,12 +18,6 @@ import (
 	"lodestone/compute/pipeline"
 )
 
-// Iteration counts of the runs the window starts.
-const (
-	freshIterations = 750 // a run from the initial layout, early exaggeration included
-	warmIterations  = 500 // a run after a turn of the dial
-)
-
 // statusEvery is how often the run's status is refreshed while nothing
 // else redraws it (the elapsed time of a run).
 const statusEvery = 250 * time.Millisecond
@@ -47,7 +41,7 @@ type runPanel struct {
 	errs errorShower
 
 	engine       *live.Engine
-	tsne         *live.TSNE
+	optimizer    *live.TSNE
 	perp         float64 // the perplexity of the affinities in use
 	affinityBusy bool    // affinities for a new perplexity are being computed
 	framePending atomic.Bool
@@ -77,8 +71,8 @@ func newRunPanel(st *atlasState, jobs *viewJobs, errs errorShower) *runPanel {
 	r := &runPanel{st: st, jobs: jobs, errs: errs, perp: st.prep.Settings.Perplexity}
 	var opt live.Optimizer
 	if p := st.prep; p.P != nil {
-		r.tsne = &live.TSNE{P: p.P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}
-		opt = r.tsne
+		r.optimizer = &live.TSNE{P: p.P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}
+		opt = r.optimizer
 	}
 	r.engine = live.New(opt, r.perp, st.prep.Init, r.frameReady)
 
@@ -93,7 +87,7 @@ func newRunPanel(st *atlasState, jobs *viewJobs, errs errorShower) *runPanel {
 	r.perplexity.SetText(strconv.FormatFloat(r.perp, 'g', -1, 64))
 	r.perplexity.OnSubmitted = func(string) { r.applyPerplexity() }
 	r.iterations = widget.NewEntry()
-	r.iterations.SetText(strconv.Itoa(warmIterations))
+	r.iterations.SetText(strconv.Itoa(live.WarmIterations))
 	r.stopBtn = widget.NewButtonWithIcon("Stop", theme.MediaStopIcon(), r.stopOrContinue)
 	r.restartBtn = widget.NewButtonWithIcon("Restart", theme.MediaReplayIcon(), r.restart)
 	form := container.NewGridWithColumns(4,
@@ -191,7 +185,7 @@ func (r *runPanel) restart() {
 	if !r.st.ready {
 		return
 	}
-	r.engine.Restart(r.dial.Value, freshIterations)
+	r.engine.Restart(r.dial.Value, live.FreshIterations)
 	r.showFrame()
 }
 
@@ -212,7 +206,7 @@ func (r *runPanel) stopOrContinue() {
 func (r *runPanel) iterationsPerTurn() int {
 	n, err := strconv.Atoi(strings.TrimSpace(r.iterations.Text))
 	if err != nil || n < 1 {
-		n = warmIterations
+		n = live.WarmIterations
 		r.iterations.SetText(strconv.Itoa(n))
 	}
 	return min(n, 100000)
@@ -223,8 +217,8 @@ func (r *runPanel) snapshot() runSnapshot {
 	layout, _ := r.engine.Latest()
 	s := runSnapshot{layout: layout, initial: r.engine.Initial(), history: r.engine.History(),
 		perplexity: r.perp, attraction: r.dial.Value, iterations: r.iterationsPerTurn()}
-	if r.tsne != nil {
-		s.opt = r.tsne
+	if r.optimizer != nil {
+		s.opt = r.optimizer
 	}
 	return s
 }
@@ -242,7 +236,7 @@ func (r *runPanel) show(layout []float32, history []live.Step, attraction float6
 
 // attach drives opt, the optimiser of the prepared atlas, from now on.
 func (r *runPanel) attach(opt *live.TSNE, perplexity float64) {
-	r.tsne = opt
+	r.optimizer = opt
 	r.setPerplexity(perplexity)
 	r.engine.SetOptimizer(opt, perplexity)
 	r.showFrame()

@@ -7,7 +7,6 @@ import (
 	"image/color"
 	"image/png"
 	"io"
-	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -352,33 +351,4 @@ func dominant(img image.Image) [3]int {
 		}
 	}
 	return best
-}
-
-// MapColours counts the distinct colours that cover at least 0.05% of the
-// rectangle r of img (so that blends at the edges of points do not count),
-// and the share of r that differs from its most common colour (the
-// background).
-func MapColours(img image.Image, r image.Rectangle) (colours int, inked float64) {
-	counts := map[uint32]int{}
-	for y := r.Min.Y; y < r.Max.Y; y++ {
-		for x := r.Min.X; x < r.Max.X; x++ {
-			cr, cg, cb, _ := img.At(x, y).RGBA()
-			counts[(cr>>8)<<16|(cg>>8)<<8|cb>>8]++
-		}
-	}
-	total := r.Dx() * r.Dy()
-	if total == 0 {
-		return 0, 0
-	}
-	bgCount := 0
-	for _, c := range counts {
-		bgCount = max(bgCount, c)
-	}
-	floor := int(math.Max(1, 0.0005*float64(total)))
-	for _, c := range counts {
-		if c >= floor && c != bgCount {
-			colours++
-		}
-	}
-	return colours, float64(total-bgCount) / float64(total)
 }

@@ -11,6 +11,7 @@ import (
 	"fyne.io/fyne/v2"
 
 	"lodestone/app/cli"
+	"lodestone/app/live"
 	"lodestone/app/session"
 )
 
@@ -68,8 +69,8 @@ func TestOpenFolderTurnSaveAndReopen(t *testing.T) {
 		if n := v.st.cells(); n < 900 {
 			t.Errorf("%d cells on the map of 1,000", n)
 		}
-		if it := v.st.run.Iteration; it != freshIterations {
-			t.Errorf("the first run ended after %d iterations, want %d", it, freshIterations)
+		if it := v.st.run.Iteration; it != live.FreshIterations {
+			t.Errorf("the first run ended after %d iterations, want %d", it, live.FreshIterations)
 		}
 		v.run.dial.TypedKey(&fyne.KeyEvent{Name: fyne.KeyRight})
 	})

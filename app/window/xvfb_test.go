@@ -6,6 +6,7 @@ import (
 	"image"
 	"image/color"
 	"image/png"
+	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -57,13 +58,13 @@ func TestSelfTestInRealWindow(t *testing.T) {
 				t.Errorf("%s: day %d's colour covers %.3f%% of the map, want ≥ 0.1%%", name, i+1, 100*s)
 			}
 		}
-		if _, inked := MapColours(img, img.Bounds()); inked < 0.01 {
+		if _, inked := mapColours(img, img.Bounds()); inked < 0.01 {
 			t.Errorf("%s: only %.2f%% of the map is inked", name, 100*inked)
 		}
 	}
 	// The window screenshot exists and is not a blank frame.
 	shot := readPNG(t, filepath.Join(shots, SelfTestTurned))
-	if n, _ := MapColours(shot, shot.Bounds()); n < 5 {
+	if n, _ := mapColours(shot, shot.Bounds()); n < 5 {
 		t.Errorf("the window screenshot holds only %d distinct colours", n)
 	}
 	// It is the window, not the screen: no black bands right and below.
@@ -164,4 +165,33 @@ func nearestShares(img image.Image, palette []color.NRGBA) []float64 {
 func dist2(r1, g1, b1, r2, g2, b2 uint32) int {
 	d := func(a, b uint32) int { return int(a) - int(b) }
 	return d(r1, r2)*d(r1, r2) + d(g1, g2)*d(g1, g2) + d(b1, b2)*d(b1, b2)
+}
+
+// mapColours counts the distinct colours that cover at least 0.05% of the
+// rectangle r of img (so that blends at the edges of points do not count),
+// and the share of r that differs from its most common colour (the
+// background).
+func mapColours(img image.Image, r image.Rectangle) (colours int, inked float64) {
+	counts := map[uint32]int{}
+	for y := r.Min.Y; y < r.Max.Y; y++ {
+		for x := r.Min.X; x < r.Max.X; x++ {
+			cr, cg, cb, _ := img.At(x, y).RGBA()
+			counts[(cr>>8)<<16|(cg>>8)<<8|cb>>8]++
+		}
+	}
+	total := r.Dx() * r.Dy()
+	if total == 0 {
+		return 0, 0
+	}
+	bgCount := 0
+	for _, c := range counts {
+		bgCount = max(bgCount, c)
+	}
+	floor := int(math.Max(1, 0.0005*float64(total)))
+	for _, c := range counts {
+		if c >= floor && c != bgCount {
+			colours++
+		}
+	}
+	return colours, float64(total-bgCount) / float64(total)
 }
