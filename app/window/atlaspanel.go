@@ -51,6 +51,9 @@ func atlasSummary(name string, d *atlas.Dataset, p *pipeline.Prepared) string {
 	if len(d.Sources) > 0 {
 		fmt.Fprintf(&b, "- read from %s\n", strings.Join(d.Sources, ", "))
 	}
+	for _, n := range d.Notes { // which files gave the cells and the genes, and how
+		fmt.Fprintf(&b, "- %s\n", n)
+	}
 	if j := d.Join; j != nil {
 		fmt.Fprintf(&b, "- annotations matched %d cells; %d cells had no row, %d rows named no cell", j.Matched, j.Unmatched, j.Extra)
 		if j.DuplicatedCount > 0 {

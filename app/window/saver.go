@@ -42,14 +42,20 @@ func (s *saver) ask(title, suggested string, then func(path string)) {
 	})
 }
 
-// write writes a file atomically in the background and tells the outcome.
+// write writes a file atomically in the background and tells the outcome
+// (see atomicfile.Save: a symbolic link has its target replaced, a device
+// or a pipe is written to directly, and the status line says so).
 func (s *saver) write(path string, write func(io.Writer) error) {
 	s.st.tell("saving " + filepath.Base(path) + "…")
 	s.jobs.run(func(context.Context) {
-		err := atomicfile.Write(path, write)
+		o, err := atomicfile.Save(path, write)
 		s.jobs.do(func() {
 			if err != nil {
 				s.errs.showError("Could not save "+filepath.Base(path), err)
+				return
+			}
+			if note := o.String(); note != "" {
+				s.st.tell("saved: " + note) // a link followed, a device or pipe written through
 				return
 			}
 			s.st.tell("saved " + path)
