@@ -6,6 +6,7 @@ import (
 	"math"
 	"strconv"
 
+	"lodestone/compute/embed"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/pipeline"
 )
@@ -35,6 +36,7 @@ var bounds = map[string]bound{
 	"genes":      {lo: 1, hi: 1e6},
 	"perplexity": {lo: 1, hi: neighbors.MaxK / 3},
 	"iterations": {lo: 1, hi: 100000},
+	"tail":       {lo: embed.MinTail, hi: embed.MaxTail},
 	"k":          {lo: 1, hi: neighbors.MaxK},
 	"sample":     {lo: 3, hi: 1e8},
 	"min-genes":  {lo: 0, hi: 1e6},

@@ -200,3 +200,10 @@ func (f *flags) parse(args []string) error {
 	}
 	return nil
 }
+
+// isSet reports whether flag name was given on the command line.
+func (f *flags) isSet(name string) bool {
+	set := false
+	f.Visit(func(fl *flag.Flag) { set = set || fl.Name == name })
+	return set
+}

@@ -77,6 +77,41 @@ func TestExampleThenEmbedWritesLayout(t *testing.T) {
 	}
 }
 
+// TestEmbedTail checks --tail: 1 gives t-SNE's map byte for byte, 0.5
+// another, and a tail outside the range is refused with status 2.
+func TestEmbedTail(t *testing.T) {
+	dir := writeExample(t)
+	common := []string{"embed", "--in", dir, "--iterations", "100", "--pcs", "10", "--genes", "200", "--min-genes", "40", "--quiet"}
+	layouts := map[string][]byte{}
+	for _, tail := range []string{"", "1", "0.5"} {
+		out := filepath.Join(t.TempDir(), "layout.csv")
+		args := append(append([]string(nil), common...), "--out", out)
+		if tail != "" {
+			args = append(args, "--tail", tail)
+		}
+		if code, _, errs := run(t, args...); code != ExitOK {
+			t.Fatalf("embed --tail %q: status %d: %s", tail, code, errs)
+		}
+		b, err := os.ReadFile(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		layouts[tail] = b
+	}
+	if !bytes.Equal(layouts[""], layouts["1"]) {
+		t.Error("--tail 1 differs from the default")
+	}
+	if bytes.Equal(layouts[""], layouts["0.5"]) {
+		t.Error("--tail 0.5 gives the default map")
+	}
+	for _, bad := range []string{"0.01", "100", "x"} {
+		out := filepath.Join(t.TempDir(), "layout.csv")
+		if code, _, errs := run(t, append(append([]string(nil), common...), "--out", out, "--tail", bad)...); code != ExitUsage || !strings.Contains(errs, "tail") {
+			t.Errorf("--tail %s: status %d, %q; want %d naming the flag", bad, code, errs, ExitUsage)
+		}
+	}
+}
+
 func TestBadFlagsAndInputsExitTwo(t *testing.T) {
 	missing := filepath.Join(t.TempDir(), "nothing-here.mtx")
 	cases := [][]string{
@@ -143,6 +178,22 @@ func TestScoreAndCluster(t *testing.T) {
 	// well above chance (1/9).
 	if v, _ := strconv.ParseFloat(strings.Fields(lines[2])[1], 64); v < 0.5 {
 		t.Errorf("label accuracy %v is low for a t-SNE map of the example's states", v)
+	}
+
+	// --tail adds the map's KL divergence for that kernel: positive, and
+	// another value for another tail.
+	kls := map[string]float64{}
+	for _, tail := range []string{"1", "0.5"} {
+		code, out, errs := run(t, append([]string{"score", "--in", dir, "--layout", layout, "--sample", "500", "--tail", tail}, smallFlags...)...)
+		lines := strings.Split(strings.TrimSpace(out), "\n")
+		f := strings.Fields(lines[len(lines)-1])
+		if code != ExitOK || len(lines) != 4 || f[0] != "kl_divergence" {
+			t.Fatalf("score --tail %s: status %d, printed %q (%s)", tail, code, out, errs)
+		}
+		kls[tail], _ = strconv.ParseFloat(f[1], 64)
+	}
+	if !(kls["1"] > 0) || kls["1"] == kls["0.5"] {
+		t.Errorf("KL divergences %v", kls)
 	}
 
 	clusters := filepath.Join(t.TempDir(), "clusters.csv")

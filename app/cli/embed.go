@@ -6,6 +6,7 @@ import (
 	"math"
 	"os"
 	"os/signal"
+	"strconv"
 
 	"lodestone/app/live"
 	"lodestone/app/restore"
@@ -32,6 +33,7 @@ func runEmbed(args []string, stdout, stderr io.Writer) error {
 	fs.outputPath(&out, "out", "CSV file to write, with header id,x,y")
 	attraction := attractionFlag(1)
 	fs.Var(&attraction, "attraction", "the attraction dial: 0.5 (separate groups) … 100 (continuous paths), or inf (spectral layout)")
+	tail := tailFlag(fs)
 	iterations := fs.Int("iterations", embed.DefaultIterations, "optimiser iterations, early exaggeration included")
 	initName := fs.String("init", "pca", "initial layout: pca, spectral, or a layout CSV (id,x,y) to continue from")
 	quiet := fs.Bool("quiet", false, "print no progress")
@@ -74,15 +76,19 @@ func runEmbed(args []string, stdout, stderr io.Writer) error {
 	}
 	a := float64(attraction)
 	opt := &live.TSNE{P: p.P, Seed: pf.seed, Threads: pf.threads}
-	step := live.Step{Kind: kind, Attraction: a, Iterations: *iterations, Done: *iterations, Setting: p.Settings.Perplexity}
+	step := live.Step{Kind: kind, Attraction: a, Iterations: *iterations, Done: *iterations, Setting: p.Settings.Perplexity, Tail: *tail}
 	var layout []float32
 	if math.IsInf(a, 1) {
 		b.report("spectral layout", 0, 1)
 		layout, err = opt.Spectral(ctx, init)
-		step = live.Step{Kind: live.Spectral, Attraction: a, Iterations: live.SpectralGlide, Done: live.SpectralGlide, Setting: p.Settings.Perplexity}
+		step = live.Step{Kind: live.Spectral, Attraction: a, Iterations: live.SpectralGlide, Done: live.SpectralGlide, Setting: p.Settings.Perplexity, Tail: *tail}
 	} else {
 		label := "t-SNE ρ=" + formatAttraction(a)
-		layout, err = opt.Run(ctx, init, a, *iterations, kind == live.Fresh, func(f live.Frame) {
+		if *tail != 1 {
+			label += " α=" + strconv.FormatFloat(*tail, 'g', -1, 64)
+		}
+		o := live.RunOptions{Attraction: a, Tail: *tail, Iterations: *iterations, Early: kind == live.Fresh}
+		layout, err = opt.Run(ctx, init, o, func(f live.Frame) {
 			b.report(label, int64(f.Iteration), int64(f.Iterations))
 		})
 	}
@@ -101,10 +107,15 @@ func runEmbed(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 		s := restore.Capture(restore.Map{Prepared: p, Origin: origin, Initial: init, Layout: layout, Attraction: a,
-			History: []live.Step{step}})
+			Tail: *tail, History: []live.Step{step}})
 		if err := writeSession(b, sessionPath, s); err != nil {
 			return err
 		}
 	}
 	return nil
+}
+
+// tailFlag registers --tail, the kernel's tail α of the runs (embed.Params.Tail).
+func tailFlag(fs *flags) *float64 {
+	return fs.Float64("tail", 1, "the kernel's tail α: 1 is t-SNE; smaller (to 0.1) splits groups into finer ones, larger (to 20) smooths them together")
 }

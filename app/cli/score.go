@@ -5,13 +5,14 @@ import (
 	"io"
 
 	"lodestone/compute/atlas"
+	"lodestone/compute/embed"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/pipeline"
 	"lodestone/compute/quality"
 )
 
 func init() {
-	register("score", "print the fidelity scores of a map (kNN preservation, trustworthiness, label accuracy, distance correlation)", runScore)
+	register("score", "print the fidelity scores of a map (kNN preservation, trustworthiness, label accuracy, distance correlation; with --tail its KL divergence)", runScore)
 }
 
 func runScore(args []string, stdout, stderr io.Writer) error {
@@ -24,6 +25,7 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 	fs.inputPath(&layoutPath, "layout", "the map to score: CSV with header id,x,y")
 	label := fs.String("label", "", "a categorical annotation column: also score how well the map's neighbours predict it")
 	fo := fidelityFlags(fs)
+	tail := fs.Float64("tail", 1, "also print the map's KL divergence for the kernel of this tail α (1: t-SNE), which needs the affinities (the neighbour search runs)")
 	quiet := fs.Bool("quiet", true, "print no progress")
 	if err := fs.parse(args); err != nil {
 		return err
@@ -67,6 +69,19 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stdout, "label_accuracy %.6f\n", scores.Labels)
 	}
 	fmt.Fprintf(stdout, "distance_correlation %.6f\n", scores.DCor)
+	if fs.isSet("tail") {
+		b := newBar(stderr, *quiet)
+		err := pipeline.Graph(ctx, p, stageReporter(b))
+		b.finish()
+		if err != nil {
+			return err
+		}
+		kl, err := embed.Divergence(ctx, p.P, layout, *tail, pf.threads)
+		if err != nil {
+			return err
+		}
+		fmt.Fprintf(stdout, "kl_divergence %.6f\n", kl)
+	}
 	return nil
 }
 

@@ -47,7 +47,7 @@ func setupDial70k(b *testing.B) (*TSNE, []float32) {
 			return
 		}
 		dial70k.opt = &TSNE{P: P, Seed: 1}
-		dial70k.layout, dial70k.err = dial70k.opt.Run(ctx, init, 1, embed.DefaultIterations, true, nil)
+		dial70k.layout, dial70k.err = dial70k.opt.Run(ctx, init, RunOptions{Attraction: 1, Iterations: embed.DefaultIterations, Early: true}, nil)
 	})
 	if dial70k.err != nil {
 		b.Fatal(dial70k.err)

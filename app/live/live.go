@@ -28,14 +28,25 @@ type Frame struct {
 	Settled    bool      // the layout has stopped moving
 }
 
+// RunOptions are the settings of one run of the optimiser.
+type RunOptions struct {
+	Attraction float64 // the attraction dial (finite)
+	// Tail is the kernel's tail α (embed.Params.Tail): 1 is t-SNE, and 0
+	// means 1.
+	Tail       float64
+	Iterations int  // iterations to run
+	Early      bool // begin with the early-exaggeration phase (a fresh run)
+}
+
 // Optimizer is what an Engine drives: the t-SNE optimiser with its affinities
 // and the spectral layout of the same graph.
 type Optimizer interface {
-	// Run optimises from init (not modified) with the given attraction for
-	// iterations iterations, with an early-exaggeration phase first when early
-	// is true, calling publish with frames from the calling goroutine. It
-	// returns the final layout, or the last one and ctx.Err() when cancelled.
-	Run(ctx context.Context, init []float32, attraction float64, iterations int, early bool, publish func(Frame)) ([]float32, error)
+	// Run optimises from init (not modified) with the options' attraction
+	// and tail for their iterations, with an early-exaggeration phase first
+	// when they ask for it, calling publish with frames from the calling
+	// goroutine. It returns the final layout, or the last one and ctx.Err()
+	// when cancelled.
+	Run(ctx context.Context, init []float32, o RunOptions, publish func(Frame)) ([]float32, error)
 	// Spectral returns the spectral (Laplacian-eigenmap) layout, scaled and
 	// turned to match like as closely as a rotation, reflection and uniform
 	// scale allow.
@@ -46,6 +57,7 @@ type Optimizer interface {
 type Status struct {
 	Running    bool
 	Attraction float64
+	Tail       float64 // the kernel's tail of the run (1: t-SNE)
 	Iteration  int
 	Iterations int
 	KL         float64
@@ -83,6 +95,19 @@ type Step struct {
 	// Compact reports that the step started from the layout compacted to
 	// unit size (see Compact): a warm step that raised the attraction.
 	Compact bool `json:"compact"`
+	// Tail is the kernel's tail α in force (RunOptions.Tail); 0, as in
+	// histories from before the tail could be set, means t-SNE's 1. A
+	// spectral step records it without depending on it.
+	Tail float64 `json:"tail,omitempty"`
+}
+
+// TailOf returns the tail of the last step of history (1 when there is none
+// or it records none): the tail of the map the history leads to.
+func TailOf(history []Step) float64 {
+	if n := len(history); n > 0 && history[n-1].Tail != 0 {
+		return history[n-1].Tail
+	}
+	return 1
 }
 
 // Iteration counts of the runs the window starts; the headless commands
@@ -150,6 +175,7 @@ type Engine struct {
 	history []Step
 
 	mu     sync.Mutex
+	tail   float64 // of the runs to come (SetTail)
 	layout []float32
 	status Status
 	gen    uint64
@@ -164,8 +190,8 @@ type Engine struct {
 func New(opt Optimizer, setting float64, initial []float32, onFrame func()) *Engine {
 	done := make(chan struct{})
 	close(done)
-	return &Engine{opt: opt, setting: setting, initial: initial, layout: initial, onFrame: onFrame, done: done,
-		status: Status{KL: math.NaN()}}
+	return &Engine{opt: opt, setting: setting, tail: 1, initial: initial, layout: initial, onFrame: onFrame, done: done,
+		status: Status{KL: math.NaN(), Tail: 1}}
 }
 
 // Latest returns the newest layout and the status. The layout must not be
@@ -184,12 +210,15 @@ func (e *Engine) Latest() ([]float32, Status) {
 func (e *Engine) Initial() []float32 { return e.initial }
 
 // SetLayout stops any run and shows layout, reached by the given history
-// (for example both read from a session).
+// (for example both read from a session); the runs that follow use the
+// history's tail (TailOf) until SetTail changes it.
 func (e *Engine) SetLayout(layout []float32, history []Step) {
 	e.mu.Lock()
 	e.stopLocked()
 	e.layout = layout
 	e.history = append([]Step(nil), history...)
+	e.tail = TailOf(history)
+	e.status.Tail = e.tail
 	e.status.Iteration = 0
 	if n := len(history); n > 0 {
 		e.status.Iteration = history[n-1].Done
@@ -220,9 +249,28 @@ func (e *Engine) SetOptimizer(opt Optimizer, setting float64) {
 	e.mu.Unlock()
 }
 
+// SetTail sets the kernel's tail α of the runs started from now on (see
+// embed.Params.Tail; 0 means 1); it does not start one: a turn at the dial's
+// value does (Turn). The run in flight keeps its tail.
+func (e *Engine) SetTail(tail float64) {
+	if tail == 0 {
+		tail = 1
+	}
+	e.mu.Lock()
+	e.tail = tail
+	e.mu.Unlock()
+}
+
+// Tail returns the tail the next run will use.
+func (e *Engine) Tail() float64 {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	return e.tail
+}
+
 // Turn starts a warm run at the given attraction from the layout on screen:
-// iterations iterations without early exaggeration. An attraction of +Inf
-// moves to the spectral layout instead.
+// iterations iterations without early exaggeration, with the tail set by
+// SetTail. An attraction of +Inf moves to the spectral layout instead.
 func (e *Engine) Turn(attraction float64, iterations int) {
 	e.start(attraction, iterations, false)
 }
@@ -271,7 +319,8 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 	if n := len(e.history); n > 0 {
 		e.history[n-1].Done = e.status.Iteration
 	}
-	step := Step{Kind: Warm, Attraction: attraction, Iterations: iterations, Setting: e.setting}
+	tail := e.tail
+	step := Step{Kind: Warm, Attraction: attraction, Iterations: iterations, Setting: e.setting, Tail: tail}
 	switch {
 	case math.IsInf(attraction, 1):
 		step.Kind, step.Iterations = Spectral, SpectralGlide
@@ -290,7 +339,7 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 	opt := e.opt
 	done := make(chan struct{})
 	e.done = done
-	e.status = Status{Running: true, Attraction: attraction, Iterations: iterations, KL: math.NaN(),
+	e.status = Status{Running: true, Attraction: attraction, Tail: tail, Iterations: iterations, KL: math.NaN(),
 		Started: time.Now(), Runs: e.status.Runs + 1}
 	e.mu.Unlock()
 
@@ -305,7 +354,8 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 		if math.IsInf(attraction, 1) {
 			err = e.toSpectral(ctx, opt, gen, from)
 		} else {
-			_, err = opt.Run(ctx, from, attraction, iterations, fresh, func(f Frame) { e.publish(gen, f) })
+			o := RunOptions{Attraction: attraction, Tail: tail, Iterations: iterations, Early: fresh}
+			_, err = opt.Run(ctx, from, o, func(f Frame) { e.publish(gen, f) })
 		}
 		e.finish(gen, err)
 	}()

@@ -19,7 +19,11 @@ type drift struct {
 	overlap atomic.Bool
 }
 
-func (d *drift) Run(ctx context.Context, init []float32, attraction float64, iterations int, early bool, publish func(Frame)) ([]float32, error) {
+func (d *drift) Run(ctx context.Context, init []float32, o RunOptions, publish func(Frame)) ([]float32, error) {
+	attraction, iterations := o.Attraction, o.Iterations
+	if o.Tail != 0 {
+		attraction *= o.Tail // the tail moves the drift too, so tests see it
+	}
 	if publish == nil {
 		publish = func(Frame) {}
 	}

@@ -43,7 +43,7 @@ func Replay(ctx context.Context, initial []float32, steps []Step, optimizerFor f
 			if math.IsInf(s.Attraction, 0) || math.IsNaN(s.Attraction) {
 				return nil, fmt.Errorf("step %d: attraction %v for a %s run", i+1, s.Attraction, s.Kind)
 			}
-			layout, err = opt.Run(ctx, from, s.Attraction, s.Done, s.Kind == Fresh, nil)
+			layout, err = opt.Run(ctx, from, RunOptions{Attraction: s.Attraction, Tail: s.Tail, Iterations: s.Done, Early: s.Kind == Fresh}, nil)
 			if err != nil {
 				return nil, fmt.Errorf("step %d: %w", i+1, err)
 			}

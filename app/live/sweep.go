@@ -5,29 +5,64 @@ import (
 	"math"
 )
 
-// SweepMap is one map of a sweep: its attraction, its layout, and the
-// history that leads to it from the initial layout.
+// SweepMap is one map of a sweep: its attraction and tail, its layout, and
+// the history that leads to it from the initial layout.
 type SweepMap struct {
 	Attraction float64
+	Tail       float64 // the kernel's tail (1: t-SNE)
 	Layout     []float32
 	History    []Step
 }
 
-// Sweep computes a map at each attraction in values, each run warm from the
-// previous map (the first from base, the map that history leads to), the
-// way the dial moves the map: iterations iterations per map, starting from
-// the compacted layout when the attraction rises, and the spectral layout
-// for +Inf. setting is recorded in each step. before, when not nil, is called
-// with each map's index before it is computed; each is called with every
-// map as soon as it is done and may stop the sweep by returning an error.
-// Sweep returns the first error of a run or of each (ctx.Err() when
-// cancelled).
+// SweepPoint is the setting of both controls for one map of a sweep.
+type SweepPoint struct {
+	Attraction float64 // the dial; +Inf for the spectral layout
+	Tail       float64 // the kernel's tail; 0 means 1
+}
+
+// Sweep computes a map at each attraction in values, with the tail of the
+// map that history leads to (TailOf); see SweepPoints.
 func Sweep(ctx context.Context, opt Optimizer, base []float32, history []Step, values []float64, iterations int,
 	setting float64, before func(k int), each func(SweepMap) error) error {
-	prev, steps := base, history
+	tail := TailOf(history)
+	points := make([]SweepPoint, len(values))
 	for k, a := range values {
+		points[k] = SweepPoint{Attraction: a, Tail: tail}
+	}
+	return SweepPoints(ctx, opt, base, history, points, iterations, setting, before, each)
+}
+
+// SweepTails computes a map at each tail in tails, at the given attraction;
+// see SweepPoints. At +Inf every map is the spectral layout, which does not
+// depend on the tail.
+func SweepTails(ctx context.Context, opt Optimizer, base []float32, history []Step, attraction float64, tails []float64, iterations int,
+	setting float64, before func(k int), each func(SweepMap) error) error {
+	points := make([]SweepPoint, len(tails))
+	for k, t := range tails {
+		points[k] = SweepPoint{Attraction: attraction, Tail: t}
+	}
+	return SweepPoints(ctx, opt, base, history, points, iterations, setting, before, each)
+}
+
+// SweepPoints computes a map at each setting of points, each run warm from
+// the previous map (the first from base, the map that history leads to),
+// the way the controls move the map: iterations iterations per map,
+// starting from the compacted layout when the attraction rises, and the
+// spectral layout for +Inf. setting is recorded in each step. before, when
+// not nil, is called with each map's index before it is computed; each is
+// called with every map as soon as it is done and may stop the sweep by
+// returning an error. SweepPoints returns the first error of a run or of
+// each (ctx.Err() when cancelled).
+func SweepPoints(ctx context.Context, opt Optimizer, base []float32, history []Step, points []SweepPoint, iterations int,
+	setting float64, before func(k int), each func(SweepMap) error) error {
+	prev, steps := base, history
+	for k, pt := range points {
 		if before != nil {
 			before(k)
+		}
+		a, tail := pt.Attraction, pt.Tail
+		if tail == 0 {
+			tail = 1
 		}
 		var (
 			layout []float32
@@ -36,21 +71,21 @@ func Sweep(ctx context.Context, opt Optimizer, base []float32, history []Step, v
 		)
 		if math.IsInf(a, 1) {
 			layout, err = opt.Spectral(ctx, prev)
-			step = Step{Kind: Spectral, Attraction: a, Iterations: SpectralGlide, Done: SpectralGlide, Setting: setting}
+			step = Step{Kind: Spectral, Attraction: a, Iterations: SpectralGlide, Done: SpectralGlide, Setting: setting, Tail: tail}
 		} else {
-			step = Step{Kind: Warm, Attraction: a, Iterations: iterations, Done: iterations, Setting: setting}
+			step = Step{Kind: Warm, Attraction: a, Iterations: iterations, Done: iterations, Setting: setting, Tail: tail}
 			from := prev
 			if raises(steps, a) {
 				step.Compact = true
 				from = Compact(prev)
 			}
-			layout, err = opt.Run(ctx, from, a, iterations, false, nil)
+			layout, err = opt.Run(ctx, from, RunOptions{Attraction: a, Tail: tail, Iterations: iterations}, nil)
 		}
 		if err != nil {
 			return err
 		}
 		steps = append(append([]Step(nil), steps...), step)
-		if err := each(SweepMap{Attraction: a, Layout: layout, History: steps}); err != nil {
+		if err := each(SweepMap{Attraction: a, Tail: tail, Layout: layout, History: steps}); err != nil {
 			return err
 		}
 		prev = layout

@@ -14,7 +14,7 @@ import (
 func TestSweepMapsReplay(t *testing.T) {
 	opt, init := realOptimizer(t)
 	ctx := context.Background()
-	base, err := opt.Run(ctx, init, 1, 300, true, nil)
+	base, err := opt.Run(ctx, init, RunOptions{Attraction: 1, Iterations: 300, Early: true}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

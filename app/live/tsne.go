@@ -21,14 +21,15 @@ type TSNE struct {
 }
 
 // Run optimises with embed.Run; see Optimizer. publish may be nil.
-func (t *TSNE) Run(ctx context.Context, init []float32, attraction float64, iterations int, early bool, publish func(Frame)) ([]float32, error) {
+func (t *TSNE) Run(ctx context.Context, init []float32, o RunOptions, publish func(Frame)) ([]float32, error) {
 	p := embed.DefaultParams()
-	p.Attraction = attraction
-	p.Iterations = iterations
-	if !early {
+	p.Attraction = o.Attraction
+	p.Tail = o.Tail
+	p.Iterations = o.Iterations
+	if !o.Early {
 		p.EarlyIterations = 0
-	} else if p.EarlyIterations > iterations {
-		p.EarlyIterations = iterations
+	} else if p.EarlyIterations > o.Iterations {
+		p.EarlyIterations = o.Iterations
 	}
 	p.Seed = t.Seed
 	p.Threads = t.Threads

@@ -52,9 +52,11 @@ type Map struct {
 	// Initial is the layout the history starts from and fresh runs start
 	// from: Prepared.Init, or the layout a run was continued from.
 	Initial []float32
-	// Layout is the map; Attraction the dial's value.
+	// Layout is the map; Attraction the dial's value and Tail the tail
+	// control's (0 means 1).
 	Layout     []float32
 	Attraction float64
+	Tail       float64
 	// History holds the runs that lead from Initial to Layout.
 	History []live.Step
 }
@@ -72,6 +74,7 @@ func Capture(m Map) *session.Session {
 		Layout:     m.Layout,
 		Initial:    m.Initial,
 		Attraction: session.Attraction(m.Attraction),
+		Tail:       m.Tail,
 		History:    History(m.History),
 		Paint:      session.Paint{Source: "plain"},
 	}

@@ -107,6 +107,19 @@ func TestRecomputeStartsFromTheStoredInitialLayout(t *testing.T) {
 	recomputeEqualsStored(t, path)
 }
 
+// TestRecomputeWithATail embeds with a tail other than t-SNE's (embed
+// --tail 0.5 --session S): the session stores the tail with the run, and
+// recomputing it from the inputs gives the stored layout bit for bit.
+func TestRecomputeWithATail(t *testing.T) {
+	dir := smallAtlas(t)
+	path := filepath.Join(t.TempDir(), "tail"+session.Extension)
+	run(t, append([]string{"embed", "--in", dir, "--session", path, "--iterations", "200", "--tail", "0.5"}, prepFlags...)...)
+	s := recomputeEqualsStored(t, path)
+	if s.Tail != 0.5 || len(s.History) != 1 || s.History[0].Tail != 0.5 {
+		t.Fatalf("session tail %v, history %+v; want 0.5 in both", s.Tail, s.History)
+	}
+}
+
 // TestCaptureRoundTrip captures a map made of non-default values, writes and
 // reads the session, and gets every value back through the conversions.
 func TestCaptureRoundTrip(t *testing.T) {

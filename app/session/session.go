@@ -36,6 +36,8 @@ import (
 	"fmt"
 	"math"
 	"strings"
+
+	"lodestone/compute/embed"
 )
 
 // ProgramVersion is the version of Lodestone written into sessions;
@@ -120,6 +122,9 @@ type Step struct {
 	Done       int        `json:"done"`
 	Setting    float64    `json:"setting"`
 	Compact    bool       `json:"compact,omitempty"`
+	// Tail is the kernel's tail α of the run (live.Step.Tail); absent (0)
+	// in sessions from before the tail could be set, meaning t-SNE's 1.
+	Tail float64 `json:"tail,omitempty"`
 }
 
 // Attraction is a dial value that marshals +Inf as the string "inf".
@@ -209,12 +214,15 @@ type Session struct {
 	Initial []float32 `json:"-"`
 
 	Attraction Attraction `json:"attraction"`
-	History    []Step     `json:"history"`
-	Groups     []Group    `json:"groups"`
-	Paint      Paint      `json:"paint"`
-	View       View       `json:"view"`
-	PointSize  float64    `json:"point_size"`
-	Opacity    float64    `json:"opacity"`
+	// Tail is the value of the tail control (the kernel's α); absent (0)
+	// means 1, t-SNE.
+	Tail      float64 `json:"tail,omitempty"`
+	History   []Step  `json:"history"`
+	Groups    []Group `json:"groups"`
+	Paint     Paint   `json:"paint"`
+	View      View    `json:"view"`
+	PointSize float64 `json:"point_size"`
+	Opacity   float64 `json:"opacity"`
 }
 
 // Cells returns the number of cells on the map.
@@ -280,6 +288,12 @@ func (s *Session) Validate() error {
 		if st.Done < 0 || st.Iterations < 0 {
 			return fmt.Errorf("%w: history step %d has negative counts", ErrCorrupt, i+1)
 		}
+		if !validTail(st.Tail) {
+			return fmt.Errorf("%w: history step %d has tail %v (want %g … %g)", ErrCorrupt, i+1, st.Tail, float64(embed.MinTail), float64(embed.MaxTail))
+		}
+	}
+	if !validTail(s.Tail) {
+		return fmt.Errorf("%w: tail %v (want %g … %g)", ErrCorrupt, s.Tail, float64(embed.MinTail), float64(embed.MaxTail))
 	}
 	if r := s.Reading; r != nil {
 		for _, h := range []string{r.CellsHeader, r.GenesHeader} {
@@ -295,6 +309,12 @@ func (s *Session) Validate() error {
 		return fmt.Errorf("%w: attraction is not a number", ErrCorrupt)
 	}
 	return nil
+}
+
+// validTail reports whether a stored tail is absent (0) or in the range
+// the optimiser accepts.
+func validTail(t float64) bool {
+	return t == 0 || t >= embed.MinTail && t <= embed.MaxTail
 }
 
 // finitePoints reports a layout with points whose coordinates are not

@@ -1,6 +1,7 @@
 package embed
 
 import (
+	"context"
 	"math"
 	"sync"
 	"sync/atomic"
@@ -226,6 +227,47 @@ func KL(p *sparse.CSR, layout []float32, tail float64, threads int) (float64, er
 	z := ExactRepulsion(rep, y, tail, threads)
 	logs, plogp := make([]float64, threads), make([]float64, threads)
 	attract(rep, y, p, tail, logs, plogp, threads, func() bool { return false })
+	a.setEntropy(plogp)
+	return a.kl(logs, z, tail), nil
+}
+
+// Divergence returns KL(P‖Q) of the layout for the kernel of tail α as the
+// optimiser estimates it (Snapshot.KL): exactly, as KL, below 1,000 points;
+// above, with Z from the interpolated repulsion, whose relative error of
+// about 1e-4 (repulsion_test.go) becomes an absolute error of about 1e-4 in
+// KL, in O(N) time. Inputs and errors are those of KL; it returns ctx.Err()
+// when ctx is cancelled.
+func Divergence(ctx context.Context, p *sparse.CSR, layout []float32, tail float64, threads int) (float64, error) {
+	if p != nil && p.Rows < exactBelow {
+		return KL(p, layout, tail, threads)
+	}
+	if err := checkTail(tail); err != nil {
+		return 0, err
+	}
+	a, err := checkAffinity(p, len(layout)/2, threads)
+	if err != nil {
+		return 0, err
+	}
+	if len(layout) != 2*p.Rows {
+		return 0, &LayoutError{What: "layout", Point: -1, Err: ErrShape}
+	}
+	y, err := toFloat64(layout, "layout")
+	if err != nil {
+		return 0, err
+	}
+	threads = parallel.Threads(threads)
+	stop := func() bool { return ctx.Err() != nil }
+	b := [4]float64{math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)}
+	for i := 0; i < len(y); i += 2 {
+		b[0], b[1] = min(b[0], y[i]), max(b[1], y[i])
+		b[2], b[3] = min(b[2], y[i+1]), max(b[3], y[i+1])
+	}
+	rep := make([]float64, len(y))
+	z, ok := newFFTRepulsion(threads, tail).compute(rep, y, b, stop)
+	logs, plogp := make([]float64, threads), make([]float64, threads)
+	if !ok || !attract(rep, y, p, tail, logs, plogp, threads, stop) {
+		return 0, ctx.Err()
+	}
 	a.setEntropy(plogp)
 	return a.kl(logs, z, tail), nil
 }
