@@ -140,10 +140,9 @@ type worker struct {
 }
 
 // Generate builds the example atlas for opt: Counts (cells × genes, integer
-// counts stored as float32, zeros not stored), CellIDs, GeneIDs, GeneSymbols
-// and the annotation columns day, lineage, state and batch (categorical) and
-// maturation (continuous, in [0, 1]). It returns the generator's Truth beside
-// it.
+// counts, zeros not stored), CellIDs, GeneIDs, GeneSymbols and the annotation
+// columns day, lineage, state and batch (categorical) and maturation
+// (continuous, in [0, 1]). It returns the generator's Truth beside it.
 //
 // The result depends only on opt.Cells, opt.Genes and opt.Seed: it is
 // bit-identical for every number of threads. The first k cells of an atlas of
@@ -152,6 +151,50 @@ type worker struct {
 // Generate returns an *OptionError wrapping ErrOption when opt is out of
 // range, and ctx.Err() (wrapped) when ctx ends first.
 func Generate(ctx context.Context, opt Options) (*atlas.Dataset, *Truth, error) {
+	var b *sparse.CountsBuilder
+	d, t, err := Stream(ctx, opt, func(r Rows) error {
+		if b == nil {
+			b = sparse.NewCountsBuilder(opt.Cells, opt.Genes, int64(1.05*r.Detected*float64(opt.Cells)))
+		}
+		for i := 0; i+1 < len(r.RowPtr); i++ {
+			for k := r.RowPtr[i]; k < r.RowPtr[i+1]; k++ {
+				b.Add(int(r.Cols[k]), r.Vals[k])
+			}
+			b.EndRow()
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, nil, err
+	}
+	d.Counts = b.Counts()
+	return d, t, nil
+}
+
+// Rows is a batch of consecutive cells of a generated atlas as Stream hands
+// them out: cell First+i has the genes Cols[RowPtr[i]:RowPtr[i+1]]
+// (ascending) with the counts Vals[RowPtr[i]:RowPtr[i+1]].
+type Rows struct {
+	First  int
+	RowPtr []int64 // from 0, one more than the cells of the batch
+	Cols   []int32
+	Vals   []float32
+	// Detected is the expected number of genes a cell of median library
+	// size stores, for sizing what the batches fill.
+	Detected float64
+}
+
+// streamBatch is the number of cells Stream generates between two calls of
+// its emit function.
+const streamBatch = 64 * chunkCells
+
+// Stream generates the atlas of opt as Generate does, but hands its counts to
+// emit batch by batch, in the order of the cells, instead of keeping them:
+// memory holds one batch (8,192 cells) at a time, so an atlas of any size
+// can be written out. The batches are valid only during the call. It
+// returns the dataset without Counts, and the Truth. An error from emit
+// stops the generation and is returned.
+func Stream(ctx context.Context, opt Options, emit func(Rows) error) (*atlas.Dataset, *Truth, error) {
 	if err := opt.check(); err != nil {
 		return nil, nil, err
 	}
@@ -164,53 +207,66 @@ func Generate(ctx context.Context, opt Options) (*atlas.Dataset, *Truth, error) 
 	}
 	threads := parallel.Threads(opt.Threads)
 	workers := make([]worker, threads)
-	chunks := (n + chunkCells - 1) / chunkCells
+	chunks := streamBatch / chunkCells
 	chunkWorker := make([]int32, chunks)
 	chunkStart := make([]int64, chunks)
-	rowLen := make([]int64, n)
-	// Room for a worker's share of the rows, with some to spare, so that the
+	detected := m.expectedDetected()
+	// Room for a worker's share of a batch, with some to spare, so that the
 	// buffers rarely grow.
-	capacity := int(1.2*m.expectedDetected()) * (n/threads + 2*chunkCells)
+	capacity := int(1.2*detected) * (min(n, streamBatch)/threads + 2*chunkCells)
 	counter := progress.NewCounter(opt.Progress, int64(n), progressEveryCells)
-	err := parallel.ForChunks(ctx, n, chunkCells, threads, func(lo, hi, w int) {
-		wk := &workers[w]
-		if wk.mean[0] == nil {
-			wk.mean[0] = slices.Clone(m.abundance[0])
-			wk.mean[1] = slices.Clone(m.abundance[1])
-			wk.cols = make([]int32, 0, capacity)
-			wk.vals = make([]float32, 0, capacity)
+	out := Rows{RowPtr: make([]int64, streamBatch+1), Detected: detected}
+	for first := 0; first < n; first += streamBatch {
+		cells := min(n-first, streamBatch)
+		for w := range workers {
+			workers[w].cols = workers[w].cols[:0]
+			workers[w].vals = workers[w].vals[:0]
 		}
-		c := lo / chunkCells
-		chunkWorker[c] = int32(w)
-		chunkStart[c] = int64(len(wk.cols))
-		for i := lo; i < hi; i++ {
-			before := len(wk.cols)
-			m.cell(wk, i, opt.Seed, &lab)
-			rowLen[i] = int64(len(wk.cols) - before)
+		rowLen := out.RowPtr[1 : cells+1]
+		err := parallel.ForChunks(ctx, cells, chunkCells, threads, func(lo, hi, w int) {
+			wk := &workers[w]
+			if wk.mean[0] == nil {
+				wk.mean[0] = slices.Clone(m.abundance[0])
+				wk.mean[1] = slices.Clone(m.abundance[1])
+				wk.cols = make([]int32, 0, capacity)
+				wk.vals = make([]float32, 0, capacity)
+			}
+			c := lo / chunkCells
+			chunkWorker[c] = int32(w)
+			chunkStart[c] = int64(len(wk.cols))
+			for i := lo; i < hi; i++ {
+				before := len(wk.cols)
+				m.cell(wk, first+i, opt.Seed, &lab)
+				rowLen[i] = int64(len(wk.cols) - before)
+			}
+			counter.Add(int64(hi - lo))
+		})
+		if err != nil {
+			return nil, nil, fmt.Errorf("sampledata: generating cells: %w", err)
 		}
-		counter.Add(int64(hi - lo))
-	})
-	if err != nil {
-		return nil, nil, fmt.Errorf("sampledata: generating cells: %w", err)
-	}
-
-	counts := &sparse.CSR{Rows: n, Cols: opt.Genes, RowPtr: make([]int64, n+1)}
-	for i, l := range rowLen {
-		counts.RowPtr[i+1] = counts.RowPtr[i] + l
-	}
-	nnz := counts.RowPtr[n]
-	counts.ColIdx = make([]int32, nnz)
-	counts.Val = make([]float32, nnz)
-	parallel.For(chunks, threads, func(lo, hi, _ int) {
-		for c := lo; c < hi; c++ {
+		out.First = first
+		out.RowPtr[0] = 0
+		for i := range cells {
+			out.RowPtr[i+1] += out.RowPtr[i]
+		}
+		nnz := out.RowPtr[cells]
+		out.Cols = slices.Grow(out.Cols[:0], int(nnz))[:nnz]
+		out.Vals = slices.Grow(out.Vals[:0], int(nnz))[:nnz]
+		for c := 0; c*chunkCells < cells; c++ {
 			wk := &workers[chunkWorker[c]]
-			dst := counts.RowPtr[c*chunkCells]
-			end := counts.RowPtr[min((c+1)*chunkCells, n)]
+			dst := out.RowPtr[c*chunkCells]
+			end := out.RowPtr[min((c+1)*chunkCells, cells)]
 			src := chunkStart[c]
-			copy(counts.ColIdx[dst:end], wk.cols[src:src+end-dst])
-			copy(counts.Val[dst:end], wk.vals[src:src+end-dst])
+			copy(out.Cols[dst:end], wk.cols[src:src+end-dst])
+			copy(out.Vals[dst:end], wk.vals[src:src+end-dst])
 		}
-	})
+		batch := out
+		batch.RowPtr = out.RowPtr[:cells+1]
+		if err := emit(batch); err != nil {
+			return nil, nil, err
+		}
+		clear(out.RowPtr)
+	}
 	counter.Finish()
 
 	d := &atlas.Dataset{
@@ -218,7 +274,6 @@ func Generate(ctx context.Context, opt Options) (*atlas.Dataset, *Truth, error) 
 		CellIDs:     make([]string, n),
 		GeneIDs:     make([]string, opt.Genes),
 		GeneSymbols: m.symbols,
-		Counts:      counts,
 		Annotations: []atlas.Column{
 			{Name: ColumnDay, Kind: atlas.Categorical, Levels: slices.Clone(days[:]), Codes: lab.day},
 			{Name: ColumnLineage, Kind: atlas.Categorical, Levels: slices.Clone(lineages[:]), Codes: lab.lineage},

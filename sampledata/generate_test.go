@@ -13,6 +13,7 @@ import (
 	"testing"
 
 	"lodestone/compute/atlas"
+	"lodestone/compute/sparse"
 )
 
 // The medium atlas has the default genes and enough cells for every state to
@@ -45,7 +46,7 @@ func cellSums(d *atlas.Dataset, genes []int) (total, part []float64, detected []
 	n := d.Cells()
 	total, part, detected = make([]float64, n), make([]float64, n), make([]int, n)
 	for i := range n {
-		cols, vals := d.Counts.Row(i)
+		cols, vals := csr(d).Row(i)
 		for k, g := range cols {
 			total[i] += float64(vals[k])
 			if in[g] {
@@ -120,7 +121,7 @@ func TestPrefixOfCells(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !reflect.DeepEqual(small.Counts, large.Counts.SelectRows(seq(300))) {
+	if !reflect.DeepEqual(small.Counts, large.Counts.SelectRowsCols(seq(300), seq(300))) {
 		t.Error("the first 300 cells of a 900-cell atlas differ from the 300-cell atlas")
 	}
 	other, _, err := Generate(context.Background(), Options{Cells: 300, Genes: 300, Seed: 6})
@@ -208,12 +209,15 @@ func uniq(s []string) map[string]bool {
 
 func TestCountsAreCounts(t *testing.T) {
 	d, _ := medium(t)
-	for k, v := range d.Counts.Val {
+	if d.Counts.IsReal() {
+		t.Fatal("counts held as real values")
+	}
+	for k, v := range csr(d).Val {
 		if !(v >= 1) || v != float32(math.Trunc(float64(v))) {
 			t.Fatalf("stored value %d is %v, want a positive whole number", k, v)
 		}
 	}
-	if nnz := d.Counts.NNZ(); nnz == 0 || nnz == d.Cells()*d.Features() {
+	if nnz := d.Counts.NNZ(); nnz == 0 || nnz == int64(d.Cells()*d.Features()) {
 		t.Fatalf("%d stored entries", nnz)
 	}
 }
@@ -385,7 +389,7 @@ func TestProgrammes(t *testing.T) {
 	}
 	all := make([]float64, g)
 	for i := range n {
-		cols, vals := d.Counts.Row(i)
+		cols, vals := csr(d).Row(i)
 		s := state.Codes[i]
 		for k, c := range cols {
 			x := float64(vals[k]) / total[i]
@@ -424,7 +428,7 @@ func TestLineageProgrammesRise(t *testing.T) {
 			if int(lineage.Codes[i]) != l+1 {
 				continue
 			}
-			cols, vals := d.Counts.Row(i)
+			cols, vals := csr(d).Row(i)
 			var x float64
 			for k, c := range cols {
 				if in[int(c)] {
@@ -500,7 +504,7 @@ func TestBatchEffect(t *testing.T) {
 	batch := d.Column(ColumnBatch)
 	sum := [2][]float64{make([]float64, d.Features()), make([]float64, d.Features())}
 	for i := range d.Cells() {
-		cols, vals := d.Counts.Row(i)
+		cols, vals := csr(d).Row(i)
 		for k, c := range cols {
 			sum[batch.Codes[i]][c] += float64(vals[k]) / total[i]
 		}
@@ -628,4 +632,17 @@ func TestDefaultAtlas(t *testing.T) {
 			t.Errorf("low-quality cell %d has %d detected genes", i, detected[i])
 		}
 	}
+}
+
+// csrOf caches the CSR form of the datasets' counts.
+var csrOf sync.Map
+
+// csr returns d's counts as a CSR matrix with float32 values.
+func csr(d *atlas.Dataset) *sparse.CSR {
+	if m, ok := csrOf.Load(d); ok {
+		return m.(*sparse.CSR)
+	}
+	m := d.Counts.ToCSR()
+	csrOf.Store(d, m)
+	return m
 }

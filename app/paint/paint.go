@@ -137,15 +137,14 @@ func ValueRange(values []float64) (lo, hi float64) {
 }
 
 // GeneValues returns column g of the cells × genes matrix x as float64, zero
-// where nothing is stored.
-func GeneValues(x *sparse.CSR, g int) []float64 {
-	out := make([]float64, x.Rows)
-	for i := 0; i < x.Rows; i++ {
-		cols, vals := x.Row(i)
-		k := sort.Search(len(cols), func(k int) bool { return int(cols[k]) >= g })
-		if k < len(cols) && int(cols[k]) == g {
-			out[i] = float64(vals[k])
-		}
+// where nothing is stored. Each cell's row is searched for the gene on all
+// processors (sparse.View.Column): the matrix needs no index by gene and
+// no transposed copy.
+func GeneValues(x *sparse.View, g int) []float64 {
+	col := x.Column(g, nil, 0)
+	out := make([]float64, len(col))
+	for i, v := range col {
+		out[i] = float64(v)
 	}
 	return out
 }

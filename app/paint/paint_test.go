@@ -4,6 +4,7 @@ import (
 	"context"
 	"image/color"
 	"math"
+	"slices"
 	"testing"
 
 	"lodestone/canvas/colour"
@@ -66,10 +67,33 @@ func TestGenePaintEndsAtThe99thPercentile(t *testing.T) {
 }
 
 func TestGeneValuesReadsAColumn(t *testing.T) {
-	x := &sparse.CSR{Rows: 3, Cols: 3, RowPtr: []int64{0, 2, 2, 3}, ColIdx: []int32{0, 2, 2}, Val: []float32{1, 2, 3}}
-	got := GeneValues(x, 2)
-	if got[0] != 2 || got[1] != 0 || got[2] != 3 {
+	// Counts 1, 2 / nothing / 3, 4 in columns (0, 2) / – / (1, 2) of a
+	// 3 × 3 matrix, read as stored, then the view of rows 2, 0 and columns
+	// 1, 2 log-normalised with factors 0.5 and 2.
+	b := sparse.NewCountsBuilder(3, 3, 4)
+	b.Add(0, 1)
+	b.Add(2, 2)
+	b.EndRow()
+	b.EndRow()
+	b.Add(1, 3)
+	b.Add(2, 4)
+	x, err := sparse.NewView(b.Counts(), nil, nil, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := GeneValues(x, 2); !slices.Equal(got, []float64{2, 0, 4}) {
 		t.Fatalf("column 2 = %v", got)
+	}
+	sub, err := sparse.NewView(b.Counts(), []int{2, 0}, []int{1, 2}, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if sub, err = sub.WithScale([]float64{0.5, 2}); err != nil {
+		t.Fatal(err)
+	}
+	want := []float64{float64(float32(math.Log1p(4 * 0.5))), float64(float32(math.Log1p(2 * 2)))}
+	if got := GeneValues(sub, 1); !slices.Equal(got, want) {
+		t.Fatalf("normalised column 1 = %v, want %v", got, want)
 	}
 }
 

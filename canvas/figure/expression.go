@@ -44,7 +44,48 @@ const expressionCheckRows = 1024
 // ErrLength when geneNames or groupCodes has the wrong length, and ErrValue
 // for a negative or non-finite value of a chosen gene (Index is the cell);
 // and ctx.Err() when ctx is cancelled.
-func Expression(ctx context.Context, X *sparse.CSR, genes []int, geneNames []string, groupCodes []int32, groupNames []string) (*ExpressionTable, error) {
+//
+// X is a *sparse.CSR, or any other Matrix (such as a *sparse.View of
+// log-normalised counts), of which only the chosen genes are read.
+func Expression(ctx context.Context, X Matrix, genes []int, geneNames []string, groupCodes []int32, groupNames []string) (*ExpressionTable, error) {
+	if m, ok := X.(*sparse.CSR); ok {
+		return expression(ctx, m, genes, geneNames, groupCodes, groupNames)
+	}
+	if v, ok := X.(*sparse.View); X == nil || ok && v == nil {
+		return nil, inputError("X", -1, ErrMatrix)
+	}
+	_, cols := X.Dims()
+	distinct := make([]int, 0, len(genes))
+	for j, g := range genes {
+		if g < 0 || g >= cols {
+			return nil, inputError("genes", j, ErrIndex)
+		}
+		distinct = append(distinct, g)
+	}
+	slices.Sort(distinct)
+	distinct = slices.Compact(distinct)
+	sub, err := X.Columns(distinct, 0)
+	if err != nil {
+		return nil, inputError("X", -1, ErrMatrix)
+	}
+	at := make([]int, len(genes))
+	for j, g := range genes {
+		at[j], _ = slices.BinarySearch(distinct, g)
+	}
+	return expression(ctx, sub, at, geneNames, groupCodes, groupNames)
+}
+
+// Matrix is a cells × genes matrix from which Expression takes the columns
+// it needs. *sparse.CSR and *sparse.View are matrices.
+type Matrix interface {
+	Dims() (rows, cols int)
+	// Columns returns the given columns (ascending, distinct) as a CSR
+	// matrix with a row per cell and the columns renumbered from 0.
+	Columns(cols []int, threads int) (*sparse.CSR, error)
+}
+
+// expression is Expression for a CSR matrix.
+func expression(ctx context.Context, X *sparse.CSR, genes []int, geneNames []string, groupCodes []int32, groupNames []string) (*ExpressionTable, error) {
 	if X == nil || X.Rows < 0 || X.Cols < 0 || len(X.RowPtr) != X.Rows+1 || X.RowPtr[0] != 0 ||
 		X.RowPtr[X.Rows] != int64(len(X.ColIdx)) || len(X.Val) != len(X.ColIdx) {
 		return nil, inputError("X", -1, ErrMatrix)

@@ -131,15 +131,15 @@ func (c *Column) Label(i int) string {
 // Counts for a sparse counts matrix (cells × genes), Table for a dense numeric
 // table (cells × features).
 type Dataset struct {
-	Name        string      // a short name for display, e.g. the file's base name
-	Sources     []string    // the files it was read from
-	CellIDs     []string    // one per row
-	GeneIDs     []string    // one per column: gene identifiers or feature names
-	GeneSymbols []string    // one per column; equal to GeneIDs when the input has no symbols
-	Counts      *sparse.CSR // cells × genes
-	Table       *Dense      // cells × features
-	Annotations []Column    // per-cell annotation columns
-	Join        *JoinReport // how the annotation table matched the cells; nil when none was read
+	Name        string         // a short name for display, e.g. the file's base name
+	Sources     []string       // the files it was read from
+	CellIDs     []string       // one per row
+	GeneIDs     []string       // one per column: gene identifiers or feature names
+	GeneSymbols []string       // one per column; equal to GeneIDs when the input has no symbols
+	Counts      *sparse.Counts // cells × genes, compact (see sparse.Counts)
+	Table       *Dense         // cells × features
+	Annotations []Column       // per-cell annotation columns
+	Join        *JoinReport    // how the annotation table matched the cells; nil when none was read
 	// Notes says, one sentence each, what the reader chose: which file gave
 	// the cells and which the genes, how the matrix was oriented, which
 	// first lines were taken for headers.

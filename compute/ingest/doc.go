@@ -26,10 +26,13 @@
 //
 // # Memory and speed
 //
-// Counts are stored as cells × genes in compressed sparse rows with
-// float32 values. ReadMatrixMarket preallocates from the size line and
-// fills the final arrays directly, so a load needs about 1.5 times the
-// matrix's final size; it orients the matrix (genes × cells files are
+// Counts are stored as cells × genes in a compact sparse.Counts: 16-bit
+// column indices (32-bit beyond 65,536 genes), one byte per count below 255
+// and a side list for larger ones, float32 values only when the file holds
+// values that are not counts. ReadMatrixMarket preallocates from the size
+// line and fills the final arrays directly, so a file grouped by row needs
+// nothing beyond its final size, and one that is not needs 4 bytes more per
+// entry while it is read; it orients the matrix (genes × cells files are
 // common) while reading, with no transposed copy. Entry lines are parsed by
 // hand from a large buffer without allocating; benchmarks are in
 // bench_test.go.

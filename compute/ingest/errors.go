@@ -18,7 +18,7 @@ var (
 	ErrNotNumber      = errors.New("not a number")                           // in a numeric field
 	ErrNotFinite      = errors.New("not a finite number")                    // NaN, ±Inf, beyond float32
 	ErrMagnitude      = errors.New("number too large")                       // a table value beyond ±atlas.MaxMagnitude
-	ErrNegative       = errors.New("negative value")                         // in an expression table
+	ErrNegative       = errors.New("negative value")                         // in an expression table or a counts matrix
 	ErrHeader         = errors.New("bad header")                             // Matrix Market banner, table header
 	ErrSizeLine       = errors.New("bad size line")                          // Matrix Market "rows cols entries"
 	ErrUnsupported    = errors.New("not supported")                          // array, pattern, complex, symmetric …

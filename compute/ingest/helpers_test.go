@@ -39,11 +39,13 @@ func writeFiles(t testing.TB, files map[string]string) string {
 }
 
 // dense expands m into a row-major float64 matrix.
-func dense(m *sparse.CSR) [][]float64 {
+func dense(m *sparse.Counts) [][]float64 {
 	out := make([][]float64, m.Rows)
+	var cols []int32
+	var vals []float32
 	for i := range out {
 		out[i] = make([]float64, m.Cols)
-		cols, vals := m.Row(i)
+		cols, vals = m.Row(i, cols, vals)
 		for k, c := range cols {
 			out[i][c] = float64(vals[k])
 		}

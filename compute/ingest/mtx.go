@@ -8,7 +8,6 @@ import (
 	"math"
 	"slices"
 
-	"lodestone/compute/parallel"
 	"lodestone/compute/progress"
 	"lodestone/compute/sparse"
 )
@@ -49,10 +48,10 @@ const (
 	maxDeflateRatio = 1032
 )
 
-// ReadMatrixMarket reads a matrix in the Matrix Market exchange format
-// (Boisvert, Pozo & Remington 1996, NISTIR 5935) from r, plain or gzip
-// compressed, and returns it in compressed sparse row form. name is used in
-// error messages.
+// ReadMatrixMarket reads a counts matrix in the Matrix Market exchange
+// format (Boisvert, Pozo & Remington 1996, NISTIR 5935) from r, plain or
+// gzip compressed, into a compact sparse.Counts. name is used in error
+// messages.
 //
 // Only the coordinate format with integer or real values and general
 // symmetry is accepted:
@@ -63,17 +62,26 @@ const (
 //	i j value        (entries lines, 1-based indices, any order)
 //
 // Keywords are matched without regard to case. Blank lines and lines
-// starting with % may appear anywhere after the header. Values become
-// float32 (integers above 2^24 and reals are rounded to the nearest
-// float32); NaN, infinities and values beyond the float32 range are errors.
-// Explicit zeros are checked like any entry and then dropped. Two entries at
-// the same position are an error naming both lines.
+// starting with % may appear anywhere after the header. The entry count
+// may exceed 2^31 − 1; row and column counts may not.
 //
-// Memory: the result's ColIdx and Val are filled in place as entries
-// arrive, with one more 4-byte array of row numbers, so loading needs about
-// 1.5 times the final size. Entries that arrive grouped by row are not
-// moved; otherwise they are moved to their rows in place by a radix sort.
-// Rows are then sorted by column on all cores.
+// Values are counts: a negative value is an error naming its line and field
+// (ErrNegative); NaN, infinities and values beyond the float32 range are
+// errors too. Integers (in either field) are held as counts, exact up to
+// 2^24 and rounded to float32 above (see sparse.Counts); a real field whose
+// values are not all integers is held as float32. Explicit zeros are checked
+// like any entry and then dropped. Two entries at the same position are an
+// error naming both lines.
+//
+// Memory: the result's arrays are filled in place as entries arrive: 3 bytes
+// per entry for counts with fewer than 65,536 columns (5 with more), 6 (8)
+// for real values. Duplicates are found as entries stream in while they
+// arrive grouped by row, so a file that repeats one entry fails at its
+// second line. Entries that are not grouped by row (a genes × cells file
+// sorted by gene, say) need 4 more bytes per entry while reading; they are
+// moved to their rows in place by a radix sort, and checked for duplicates
+// whenever their number doubles, so memory stays within about twice the
+// distinct entries. Rows are then sorted by column on all cores.
 //
 // To name both lines of a duplicate entry in a file whose entries are not
 // grouped by row, the input is read a second time; this needs r to be an
@@ -82,7 +90,7 @@ const (
 //
 // r is read to its end or to the first error. The context is checked about
 // every megabyte.
-func ReadMatrixMarket(ctx context.Context, r io.Reader, name string, opt MatrixOptions) (*sparse.CSR, error) {
+func ReadMatrixMarket(ctx context.Context, r io.Reader, name string, opt MatrixOptions) (*sparse.Counts, error) {
 	size := opt.Size
 	if size <= 0 {
 		size = sizeOf(r)
@@ -109,21 +117,25 @@ func ReadMatrixMarket(ctx context.Context, r io.Reader, name string, opt MatrixO
 			return nil, err
 		}
 	}
-	p := &mtxParser{s: s, name: name, h: h, transpose: transpose}
+	p := newParser(ctx, s, name, h, transpose)
 	p.allocate(size, gz)
-	if err := p.readEntries(); err != nil {
-		return nil, err
+	err = p.readEntries()
+	counts := (*sparse.Counts)(nil)
+	if err == nil {
+		counts, err = p.assemble()
 	}
-	m, dup, err := p.assemble(ctx)
-	if dup != nil && dup.lines[1] == 0 {
-		if rs, ok := r.(io.ReadSeeker); ok {
-			findLines(ctx, rs, name, dup)
+	if dup := p.dup; dup != nil {
+		if dup.lines[1] == 0 {
+			if rs, ok := r.(io.ReadSeeker); ok {
+				findLines(ctx, rs, name, dup)
+			}
 		}
-	}
-	if dup != nil {
 		return nil, dup.error(name)
 	}
-	return m, err
+	if err != nil {
+		return nil, err
+	}
+	return counts, nil
 }
 
 // ReadMatrixHeader reads the header and size line of a Matrix Market file
@@ -209,14 +221,15 @@ func readMatrixHeader(s *lineScanner, name string) (MatrixHeader, error) {
 	h.SizeLine = s.line
 	f = bytes.Fields(s.text)
 	what := [3]string{"row count", "column count", "entry count"}
+	limit := [3]uint64{math.MaxInt32, math.MaxInt32, math.MaxInt64}
 	var v [3]uint64
 	for k := range v {
 		if k >= len(f) {
 			return h, errorf(name, s.line, k+1, ErrSizeLine, "missing %s (want rows, columns, entries)", what[k])
 		}
 		var ok bool
-		if v[k], ok = parseUint(f[k], math.MaxInt32); !ok {
-			return h, errorf(name, s.line, k+1, ErrSizeLine, "%s %s is not an integer in 0…%d", what[k], quote(f[k]), math.MaxInt32)
+		if v[k], ok = parseUint(f[k], limit[k]); !ok {
+			return h, errorf(name, s.line, k+1, ErrSizeLine, "%s %s is not an integer in 0…%d", what[k], quote(f[k]), limit[k])
 		}
 	}
 	if len(f) > 3 {
@@ -231,83 +244,228 @@ func readMatrixHeader(s *lineScanner, name string) (MatrixHeader, error) {
 
 // mtxParser holds the state of reading the entries of one file.
 type mtxParser struct {
+	ctx       context.Context
 	s         *lineScanner
 	name      string
 	h         MatrixHeader
 	transpose bool
 	outRows   int
 	outCols   int
+	wide      bool // column indices need 32 bits
 
-	rowOf []uint32 // output row of each entry; later its destination
-	col   []int32
-	val   []float32
-	n     int // entries read
+	// The entries stored so far, in the final arrays: col16 or col32, and
+	// small (counts, with large ones listed in large) or real.
+	col16 []uint16
+	col32 []int32
+	small []uint8
+	real  []float32
+	large []largeEntry
+	n     int64 // entries stored
+	read  int64 // entry lines read, zeros included
+
+	perRow []int64 // perRow[r+1] counts the entries of output row r
+
+	// While entries arrive grouped by row, each column remembers the last
+	// row that held it (plus one) and which entry that was, so that a
+	// duplicate is found at once.
+	ordered bool
+	lastRow int
+	seenRow []uint32
+	seenAt  []int64
+
+	rowOf   []uint32 // output row of each entry, once they are not grouped
+	checkAt int64    // then: the entry count at which to look for duplicates
 
 	// gaps lists, for each blank or comment line after the size line, the
 	// number of entries read before it, so that an entry's line can be
 	// recovered from its position in the file.
-	gaps []int
+	gaps []int64
+
+	dup *duplicate // the first duplicate found
+}
+
+// largeEntry is a count of sparse.LargeMark or more, at output (row, col),
+// stored at position k (kept up to date when entries move).
+type largeEntry struct {
+	row uint32
+	col int32
+	k   int64
+	v   float32
+}
+
+// firstCheck is the number of entries at which duplicates are first looked
+// for in a file whose entries are not grouped by row.
+const firstCheck = 1 << 20
+
+func newParser(ctx context.Context, s *lineScanner, name string, h MatrixHeader, transpose bool) *mtxParser {
+	p := &mtxParser{ctx: ctx, s: s, name: name, h: h, transpose: transpose, ordered: true, lastRow: -1}
+	p.outRows, p.outCols = h.Rows, h.Cols
+	if transpose {
+		p.outRows, p.outCols = h.Cols, h.Rows
+	}
+	p.wide = p.outCols > sparse.MaxCols16
+	p.perRow = make([]int64, p.outRows+1)
+	p.seenRow = make([]uint32, p.outCols)
+	p.seenAt = make([]int64, p.outCols)
+	return p
 }
 
 // allocate sizes the entry arrays: exactly the announced count, unless the
 // input cannot hold that many (then as many as it can hold) or its size is
-// unknown (then a first share that grows).
+// unknown (then a first share that grows). Memory the arrays do not use is
+// never touched, so a generous size costs address space, not memory.
 func (p *mtxParser) allocate(size int64, gz bool) {
-	p.outRows, p.outCols = p.h.Rows, p.h.Cols
-	if p.transpose {
-		p.outRows, p.outCols = p.h.Cols, p.h.Rows
-	}
 	c := p.h.Entries
 	if size > 0 {
 		room := (size + 1) / minEntryBytes
 		if gz {
-			room = size * maxDeflateRatio / minEntryBytes
+			room = size / minEntryBytes * maxDeflateRatio
 		}
 		c = min(c, room+1)
 	} else {
 		c = min(c, 1<<16)
 	}
-	p.rowOf = make([]uint32, c)
-	p.col = make([]int32, c)
-	p.val = make([]float32, c)
+	p.resize(c)
 }
 
-// grow enlarges the entry arrays when the input's size was not known.
-func (p *mtxParser) grow() {
-	c := min(p.h.Entries, 2*int64(len(p.col))+1)
-	rowOf := make([]uint32, c)
-	copy(rowOf, p.rowOf)
-	p.rowOf = rowOf
-	col := make([]int32, c)
-	copy(col, p.col)
-	p.col = col
-	val := make([]float32, c)
-	copy(val, p.val)
-	p.val = val
+// capacity returns the number of entries the arrays hold.
+func (p *mtxParser) capacity() int64 {
+	if p.wide {
+		return int64(len(p.col32))
+	}
+	return int64(len(p.col16))
 }
 
-// field returns the next space- or tab-separated token of line at or after
-// position i, and the position just past it; tok is empty at the end.
-func field(line []byte, i int) (tok []byte, next int) {
-	for i < len(line) && (line[i] == ' ' || line[i] == '\t') {
-		i++
+// resize sets the capacity of the entry arrays to c ≥ p.n, keeping the
+// entries stored.
+func (p *mtxParser) resize(c int64) {
+	n := p.n
+	if p.wide {
+		p.col32 = resized(p.col32, n, c)
+	} else {
+		p.col16 = resized(p.col16, n, c)
 	}
-	j := i
-	for j < len(line) && line[j] != ' ' && line[j] != '\t' {
-		j++
+	if p.real != nil {
+		p.real = resized(p.real, n, c)
+	} else {
+		p.small = resized(p.small, n, c)
 	}
-	return line[i:j], j
+	if p.rowOf != nil {
+		p.rowOf = resized(p.rowOf, n, c)
+	}
+}
+
+// resized returns a slice of length c holding x[:n].
+func resized[T any](x []T, n, c int64) []T {
+	if int64(len(x)) == c {
+		return x
+	}
+	y := make([]T, c)
+	copy(y, x[:n])
+	return y
+}
+
+// grow doubles the capacity of the entry arrays, up to the announced count.
+func (p *mtxParser) grow() { p.resize(min(p.h.Entries, 2*p.capacity()+1)) }
+
+// entryLine returns the line of the entry read k-th (from 0).
+func (p *mtxParser) entryLine(k int64) int {
+	g, _ := slices.BinarySearch(p.gaps, k+1) // gaps at or before entry k
+	return p.h.SizeLine + 1 + int(k) + g
+}
+
+// store adds the entry read as line line at output (r, c) with the value
+// v, finite and above zero. It returns false when the entry repeats one
+// already read; p.dup then says which.
+func (p *mtxParser) store(r, c int, v float32, line int) bool {
+	if p.ordered {
+		if r != p.lastRow {
+			if r < p.lastRow {
+				p.unorder()
+			} else {
+				p.lastRow = r
+			}
+		}
+		if p.ordered {
+			if p.seenRow[c] == uint32(r)+1 {
+				p.dup = &duplicate{row: r, col: c, lines: [2]int{p.entryLine(p.seenAt[c]), line}}
+				p.dup.file(p.transpose)
+				return false
+			}
+			p.seenRow[c], p.seenAt[c] = uint32(r)+1, p.read
+		}
+	}
+	if p.n == p.capacity() {
+		p.grow()
+	}
+	k := p.n
+	if p.rowOf != nil {
+		p.rowOf[k] = uint32(r)
+	}
+	p.perRow[r+1]++
+	if p.wide {
+		p.col32[k] = int32(c)
+	} else {
+		p.col16[k] = uint16(c)
+	}
+	switch {
+	case p.real != nil:
+		p.real[k] = v
+	case v < sparse.LargeMark && v == float32(int(v)):
+		p.small[k] = uint8(v)
+	case sparse.IsCount(v):
+		p.small[k] = sparse.LargeMark
+		p.large = append(p.large, largeEntry{row: uint32(r), col: int32(c), k: k, v: v})
+	default:
+		p.toReal()
+		p.real[k] = v
+	}
+	p.n++
+	if p.rowOf != nil && p.n >= p.checkAt {
+		p.checkAt *= 2
+		p.checkDuplicates()
+		return p.dup == nil
+	}
+	return true
+}
+
+// toReal moves the values stored so far from counts to float32.
+func (p *mtxParser) toReal() {
+	real := make([]float32, len(p.small))
+	for k, s := range p.small[:p.n] {
+		real[k] = float32(s)
+	}
+	for _, e := range p.large {
+		real[e.k] = e.v
+	}
+	p.real, p.small, p.large = real, nil, nil
+}
+
+// unorder notes that the entries are not grouped by row: from now on each
+// entry's row is kept beside it.
+func (p *mtxParser) unorder() {
+	p.ordered = false
+	p.seenRow, p.seenAt = nil, nil
+	p.rowOf = make([]uint32, p.capacity())
+	k := 0
+	for r := 0; r < p.outRows && int64(k) < p.n; r++ {
+		for range p.perRow[r+1] {
+			p.rowOf[k] = uint32(r)
+			k++
+		}
+	}
+	p.checkAt = max(2*p.n, firstCheck)
 }
 
 // readEntries parses the entry lines into p's arrays.
 func (p *mtxParser) readEntries() error {
 	s, h := p.s, p.h
-	for {
+	for p.dup == nil {
 		// Parse what is buffered as far as it goes; the line it stops
 		// at (a comment, a blank line, an error, a line the buffer
 		// holds only part of) takes the general path below.
 		s.r += p.fastBlock(s.buf[s.r:s.w])
-		if !s.next() {
+		if p.dup != nil || !s.next() {
 			break
 		}
 		i, j, v, blank, err := p.slowEntry(s.text)
@@ -315,28 +473,28 @@ func (p *mtxParser) readEntries() error {
 			return err
 		}
 		if blank {
-			p.gaps = append(p.gaps, p.n)
+			p.gaps = append(p.gaps, p.read)
 			continue
 		}
-		if int64(p.n) == h.Entries {
+		if p.read == h.Entries {
 			return errorf(p.name, s.line, 0, ErrEntryCount, "more entries than the %d announced on line %d", h.Entries, h.SizeLine)
-		}
-		if p.n == len(p.col) {
-			p.grow()
 		}
 		if p.transpose {
 			i, j = j, i
 		}
-		p.rowOf[p.n] = uint32(i - 1)
-		p.col[p.n] = int32(j - 1)
-		p.val[p.n] = v
-		p.n++
+		if v != 0 && !p.store(int(i-1), int(j-1), v, s.line) {
+			break
+		}
+		p.read++
+	}
+	if p.dup != nil {
+		return nil
 	}
 	if err := s.failure(p.name); err != nil {
 		return err
 	}
-	if int64(p.n) < h.Entries {
-		return errorf(p.name, s.line+1, 0, ErrEntryCount, "file ends after %d of the %d entries announced on line %d", p.n, h.Entries, h.SizeLine)
+	if p.read < h.Entries {
+		return errorf(p.name, s.line+1, 0, ErrEntryCount, "file ends after %d of the %d entries announced on line %d", p.read, h.Entries, h.SizeLine)
 	}
 	return nil
 }
@@ -344,18 +502,17 @@ func (p *mtxParser) readEntries() error {
 // fastBlock parses, from the start of buf, the entry lines of the common
 // form: three fields separated by spaces or tabs, with spaces or tabs also
 // allowed before the first and after the last, ending in "\n" or "\r\n";
-// indices in range; for the integer field an optionally negative integer
-// of at most 18 digits, for the real field a value fastFloat reads. It
-// stops at any other line, at the end of buf, when the entry arrays are
-// full, or when the size line's count is reached, and returns the bytes
-// used, which end at a line's end. It allocates nothing.
+// indices in range; for the integer field a non-negative integer of at
+// most 18 digits, for the real field a non-negative value fastFloat reads.
+// It stops at any other line, at the end of buf, at a duplicate, or when
+// the size line's count is reached, and returns the bytes used, which end
+// at a line's end. It allocates nothing but the arrays' growth.
 func (p *mtxParser) fastBlock(buf []byte) int {
 	rows, cols := uint64(p.h.Rows), uint64(p.h.Cols)
-	limit := min(int64(len(p.col)), p.h.Entries)
 	integer, transpose := p.h.Integer, p.transpose
 	n := len(buf)
 	k := 0
-	for int64(p.n) < limit {
+	for p.read < p.h.Entries {
 		start := k
 		for k < n && (buf[k] == ' ' || buf[k] == '\t') {
 			k++
@@ -390,32 +547,24 @@ func (p *mtxParser) fastBlock(buf []byte) int {
 		vs := k
 		var v float32
 		if integer {
-			neg := k < n && buf[k] == '-'
-			if neg {
-				k++
-			}
-			ds := k
 			var x uint64
-			for ; k < n && k-ds < 18; k++ {
+			for ; k < n && k-vs < 18; k++ {
 				d := buf[k] - '0'
 				if d > 9 {
 					break
 				}
 				x = x*10 + uint64(d)
 			}
-			if k == ds {
-				return start
+			if k == vs {
+				return start // a sign, or no digit: the general path
 			}
 			v = float32(x)
-			if neg {
-				v = -v
-			}
 		} else {
 			for k < n && buf[k] != '\n' && buf[k] != ' ' && buf[k] != '\t' && buf[k] != '\r' {
 				k++
 			}
 			x, ok := fastFloat(buf[vs:k])
-			if !ok {
+			if !ok || x < 0 {
 				return start
 			}
 			if v, ok = toFloat32(x); !ok {
@@ -437,10 +586,10 @@ func (p *mtxParser) fastBlock(buf []byte) int {
 		if transpose {
 			i, j = j, i
 		}
-		p.rowOf[p.n] = uint32(i - 1)
-		p.col[p.n] = int32(j - 1)
-		p.val[p.n] = v
-		p.n++
+		if v != 0 && !p.store(int(i-1), int(j-1), v, p.s.line+1) {
+			return start
+		}
+		p.read++
 		p.s.line++
 	}
 	return k
@@ -449,6 +598,19 @@ func (p *mtxParser) fastBlock(buf []byte) int {
 // isBlank reports whether buf[k] is a space or a tab.
 func isBlank(buf []byte, k int) bool {
 	return k < len(buf) && (buf[k] == ' ' || buf[k] == '\t')
+}
+
+// field returns the next space- or tab-separated token of line at or after
+// position i, and the position just past it; tok is empty at the end.
+func field(line []byte, i int) (tok []byte, next int) {
+	for i < len(line) && (line[i] == ' ' || line[i] == '\t') {
+		i++
+	}
+	j := i
+	for j < len(line) && line[j] != ' ' && line[j] != '\t' {
+		j++
+	}
+	return line[i:j], j
 }
 
 // slowEntry parses any entry line, or reports blank for a blank or comment
@@ -479,11 +641,14 @@ func (p *mtxParser) slowEntry(line []byte) (i, j uint64, v float32, blank bool, 
 		return 0, 0, 0, false, p.indexError(tj, 2, "column", uint64(h.Cols))
 	}
 	if h.Integer {
-		x, ok := parseInt(tv)
+		n, ok := parseInt(tv)
 		if !ok {
 			return 0, 0, 0, false, errorf(p.name, s.line, 3, ErrNotNumber, "value %s is not an integer", quote(tv))
 		}
-		return i, j, float32(x), false, nil
+		if n < 0 {
+			return 0, 0, 0, false, p.negativeError(tv)
+		}
+		return i, j, float32(n), false, nil
 	}
 	x, ok := parseFloat(tv)
 	if !ok {
@@ -492,7 +657,15 @@ func (p *mtxParser) slowEntry(line []byte) (i, j uint64, v float32, blank bool, 
 	if v, ok = toFloat32(x); !ok {
 		return 0, 0, 0, false, errorf(p.name, s.line, 3, ErrNotFinite, "value %s is not a finite float32", quote(tv))
 	}
+	if x < 0 {
+		return 0, 0, 0, false, p.negativeError(tv)
+	}
 	return i, j, v, false, nil
+}
+
+// negativeError reports a negative value.
+func (p *mtxParser) negativeError(tok []byte) error {
+	return errorf(p.name, p.s.line, 3, ErrNegative, "%s (counts are never below zero)", quote(tok))
 }
 
 // indexError reports a row or column index that is not an integer in
@@ -502,297 +675,4 @@ func (p *mtxParser) indexError(tok []byte, col int, what string, max uint64) err
 		return errorf(p.name, p.s.line, col, ErrIndexRange, "%s index %s outside 1…%d", what, tok, max)
 	}
 	return errorf(p.name, p.s.line, col, ErrNotNumber, "%s index %s is not a positive integer", what, quote(tok))
-}
-
-// assemble turns the entries read into a CSR matrix: it groups them by row,
-// checks for duplicates, sorts each row by column and drops zeros.
-func (p *mtxParser) assemble(ctx context.Context) (*sparse.CSR, *duplicate, error) {
-	n := p.n
-	rowOf, col, val := p.rowOf[:n], p.col[:n], p.val[:n]
-	rowPtr := make([]int64, p.outRows+1)
-	ordered := true
-	var prev uint32
-	for _, r := range rowOf {
-		rowPtr[r+1]++
-		ordered = ordered && r >= prev
-		prev = r
-	}
-	for r := 0; r < p.outRows; r++ {
-		rowPtr[r+1] += rowPtr[r]
-	}
-	if !ordered {
-		if err := groupByRow(ctx, rowOf, col, val, rowPtr); err != nil {
-			return nil, nil, err
-		}
-	}
-	p.rowOf = nil
-	m := &sparse.CSR{Rows: p.outRows, Cols: p.outCols, RowPtr: rowPtr, ColIdx: col, Val: val}
-	d, err := sortRows(ctx, m)
-	if err != nil {
-		return nil, nil, err
-	}
-	if d != nil {
-		i, j := d.row+1, int(d.col)+1
-		if p.transpose {
-			i, j = j, i
-		}
-		d.i, d.j = i, j
-		if ordered {
-			// Entries were not moved: positions count entries in file order.
-			d.lines = [2]int{p.entryLine(d.first), p.entryLine(d.second)}
-		}
-		return nil, d, nil
-	}
-	dropZeros(m)
-	if c, nnz := cap(p.col), m.NNZ(); c-nnz > nnz/4 {
-		m.ColIdx = append([]int32(nil), m.ColIdx...)
-		m.Val = append([]float32(nil), m.Val...)
-	}
-	return m, nil, nil
-}
-
-// A duplicate is a position given twice.
-type duplicate struct {
-	row           int   // in the result
-	col           int32 // in the result
-	first, second int64 // positions in the row-grouped arrays
-	i, j          int   // 1-based row and column in the file
-	lines         [2]int
-}
-
-// error names the duplicate's lines, when known.
-func (d *duplicate) error(name string) error {
-	if d.lines[1] == 0 {
-		return errorf(name, 0, 0, ErrDuplicateEntry, "row %d, column %d is given twice (the input cannot be read again to find the lines)", d.i, d.j)
-	}
-	return errorf(name, d.lines[1], 0, ErrDuplicateEntry, "row %d, column %d already given on line %d", d.i, d.j, d.lines[0])
-}
-
-// findLines reads the input again to find the lines of the first two
-// entries at d's position.
-func findLines(ctx context.Context, r io.ReadSeeker, name string, d *duplicate) {
-	if _, err := r.Seek(0, io.SeekStart); err != nil {
-		return
-	}
-	src, closeSrc, _, err := decompress(r)
-	if err != nil {
-		return
-	}
-	defer closeSrc()
-	s := newLineScanner(ctx, src)
-	if _, err := readMatrixHeader(s, name); err != nil {
-		return
-	}
-	found := 0
-	for found < 2 && s.next() {
-		ti, q := field(s.text, 0)
-		tj, _ := field(s.text, q)
-		i, ok1 := parseUint(ti, math.MaxInt32)
-		j, ok2 := parseUint(tj, math.MaxInt32)
-		if ok1 && ok2 && int(i) == d.i && int(j) == d.j {
-			d.lines[found] = s.line
-			found++
-		}
-	}
-	if found < 2 {
-		d.lines = [2]int{}
-	}
-}
-
-// flagBuckets bounds the buckets of one pass of groupByRow. Each bucket
-// is a place where the pass writes; with few of them the places stay in
-// the cache and the page tables' cache (measured: 64 buckets make a pass
-// over 10^7 entries 3–5 times faster than 1,024).
-const flagBuckets = 64
-
-// groupByRow moves the entries to their rows' ranges of rowPtr in place:
-// a most-significant-digit radix sort on the row, each pass an American
-// flag sort (McIlroy, Bostic & McIlroy, "Engineering radix sort",
-// Computing Systems 6, 1993). The order within a row is not kept.
-func groupByRow(ctx context.Context, rowOf []uint32, col []int32, val []float32, rowPtr []int64) error {
-	rows := len(rowPtr) - 1
-	shift := bucketShift(rows)
-	if err := flagPass(ctx, rowOf, col, val, rowPtr, 0, rows, shift); err != nil {
-		return err
-	}
-	if shift == 0 {
-		return nil
-	}
-	// The buckets of the first pass are independent: finish them on all
-	// cores.
-	nb := (rows-1)>>shift + 1
-	errs := make([]error, len(parallel.Blocks(nb, parallel.Threads(0))))
-	parallel.For(nb, 0, func(lo, hi, b int) {
-		for k := lo; k < hi && errs[b] == nil; k++ {
-			r0 := k << shift
-			errs[b] = groupRange(ctx, rowOf, col, val, rowPtr, r0, min(rows, r0+1<<shift))
-		}
-	})
-	for _, err := range errs {
-		if err != nil {
-			return err
-		}
-	}
-	return nil
-}
-
-// bucketShift returns the smallest shift that splits n rows into at most
-// flagBuckets buckets of 1<<shift rows.
-func bucketShift(n int) uint {
-	shift := uint(0)
-	for n > 0 && (n-1)>>shift >= flagBuckets {
-		shift++
-	}
-	return shift
-}
-
-// groupRange groups by row the entries of rows [r0, r1), which lie in
-// rowPtr[r0]…rowPtr[r1].
-func groupRange(ctx context.Context, rowOf []uint32, col []int32, val []float32, rowPtr []int64, r0, r1 int) error {
-	if r1-r0 <= 1 {
-		return nil
-	}
-	shift := bucketShift(r1 - r0)
-	if err := flagPass(ctx, rowOf, col, val, rowPtr, r0, r1, shift); err != nil {
-		return err
-	}
-	if shift == 0 {
-		return nil
-	}
-	for b := r0; b < r1; b += 1 << shift {
-		if err := groupRange(ctx, rowOf, col, val, rowPtr, b, min(r1, b+1<<shift)); err != nil {
-			return err
-		}
-	}
-	return nil
-}
-
-// flagPass moves the entries of rows [r0, r1) into buckets of 1<<shift
-// consecutive rows, in place.
-func flagPass(ctx context.Context, rowOf []uint32, col []int32, val []float32, rowPtr []int64, r0, r1 int, shift uint) error {
-	nb := (r1-r0-1)>>shift + 1
-	var next, end [flagBuckets]int64
-	for b := 0; b < nb; b++ {
-		next[b] = rowPtr[r0+b<<shift]
-		end[b] = rowPtr[min(r1, r0+(b+1)<<shift)]
-	}
-	base := uint32(r0)
-	moves := 0
-	for b := 0; b < nb; b++ {
-		for next[b] < end[b] {
-			k := next[b]
-			r, c, v := rowOf[k], col[k], val[k]
-			for d := int((r - base) >> shift); d != b; d = int((r - base) >> shift) {
-				t := next[d]
-				next[d]++
-				r, rowOf[t] = rowOf[t], r
-				c, col[t] = col[t], c
-				v, val[t] = val[t], v
-				if moves++; moves&(1<<20-1) == 0 {
-					if err := ctx.Err(); err != nil {
-						return err
-					}
-				}
-			}
-			rowOf[k], col[k], val[k] = r, c, v
-			next[b]++
-		}
-	}
-	return nil
-}
-
-// sortRows sorts each row of m by column, on all cores. It returns the
-// first row (lowest number) holding a column twice, or nil.
-func sortRows(ctx context.Context, m *sparse.CSR) (*duplicate, error) {
-	blocks := len(parallel.Blocks(m.Rows, parallel.Threads(0)))
-	found := make([]*duplicate, blocks)
-	errs := make([]error, blocks)
-	parallel.For(m.Rows, 0, func(lo, hi, b int) {
-		var seen []int32 // per column: the last row that held it
-		var at []int64   // per column: where in that row
-		var packed []uint64
-		for r := lo; r < hi; r++ {
-			if (r-lo)&4095 == 0 {
-				if errs[b] = ctx.Err(); errs[b] != nil {
-					return
-				}
-			}
-			start, end := m.RowPtr[r], m.RowPtr[r+1]
-			cols, vals := m.ColIdx[start:end], m.Val[start:end]
-			if increasing(cols) {
-				continue
-			}
-			if seen == nil {
-				seen = make([]int32, m.Cols)
-				for c := range seen {
-					seen[c] = -1
-				}
-				at = make([]int64, m.Cols)
-			}
-			for k, c := range cols {
-				if seen[c] == int32(r) {
-					found[b] = &duplicate{row: r, col: c, first: at[c], second: start + int64(k)}
-					return
-				}
-				seen[c], at[c] = int32(r), start+int64(k)
-			}
-			// Sort (column, value) pairs packed in one word each.
-			packed = packed[:0]
-			for k, c := range cols {
-				packed = append(packed, uint64(c)<<32|uint64(math.Float32bits(vals[k])))
-			}
-			slices.Sort(packed)
-			for k, x := range packed {
-				cols[k], vals[k] = int32(x>>32), math.Float32frombits(uint32(x))
-			}
-		}
-	})
-	for b := range found {
-		if errs[b] != nil {
-			return nil, errs[b]
-		}
-		if found[b] != nil {
-			return found[b], nil
-		}
-	}
-	return nil, nil
-}
-
-// increasing reports whether cols is strictly increasing.
-func increasing(cols []int32) bool {
-	for k := 1; k < len(cols); k++ {
-		if cols[k] <= cols[k-1] {
-			return false
-		}
-	}
-	return true
-}
-
-// dropZeros removes stored zeros from m in place.
-func dropZeros(m *sparse.CSR) {
-	w := int64(0)
-	start := int64(0)
-	for r := 0; r < m.Rows; r++ {
-		end := m.RowPtr[r+1]
-		for k := start; k < end; k++ {
-			if m.Val[k] != 0 {
-				m.ColIdx[w], m.Val[w] = m.ColIdx[k], m.Val[k]
-				w++
-			}
-		}
-		start = end
-		m.RowPtr[r+1] = w
-	}
-	m.ColIdx, m.Val = m.ColIdx[:w], m.Val[:w]
-}
-
-// entryLine returns the line of the entry read k-th (from 0).
-func (p *mtxParser) entryLine(k int64) int {
-	line := p.h.SizeLine + 1 + int(k)
-	for _, g := range p.gaps {
-		if int64(g) <= k {
-			line++
-		}
-	}
-	return line
 }

@@ -3,6 +3,7 @@ package ingest
 import (
 	"bufio"
 	"encoding/binary"
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -35,11 +36,15 @@ func TestMatrixMarketReadsScipyOutput(t *testing.T) {
 	// Reference: scipy.io.mmwrite writes random sparse matrices (integer
 	// and real, entries in random, row and column order); each must read
 	// back equal, entry by entry, to what scipy.io.mmread reads from the
-	// same file, rounded to float32. The published example of NISTIR 5935
-	// is checked the same way.
+	// same file, rounded to float32; a matrix with a negative value must be
+	// refused. The published example of NISTIR 5935 is checked the same
+	// way, with and without its negative value.
 	needScipy(t)
 	dir := t.TempDir()
 	if err := os.WriteFile(filepath.Join(dir, "nist.mtx"), []byte(nistExample), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "nist_counts.mtx"), []byte(nistCounts), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	out := runMMCheck(t, "write", dir)
@@ -48,7 +53,7 @@ func TestMatrixMarketReadsScipyOutput(t *testing.T) {
 	}
 	t.Logf("mmcheck.py write: %s", strings.TrimSpace(out))
 	names, _ := filepath.Glob(filepath.Join(dir, "*.mtx"))
-	if len(names) < 7 {
+	if len(names) < 9 {
 		t.Fatalf("%d matrices written", len(names))
 	}
 	for _, path := range names {
@@ -66,6 +71,10 @@ func TestMatrixMarketReadsScipyOutput(t *testing.T) {
 		if len(raw) != 8*rows*cols {
 			t.Fatalf("%s: %d bytes for %d×%d", name, len(raw), rows, cols)
 		}
+		negative := false
+		for k := 0; k < len(raw); k += 8 {
+			negative = negative || math.Float64frombits(binary.LittleEndian.Uint64(raw[k:])) < 0
+		}
 		for _, tr := range []bool{false, true} {
 			f, err := os.Open(path)
 			if err != nil {
@@ -73,13 +82,20 @@ func TestMatrixMarketReadsScipyOutput(t *testing.T) {
 			}
 			m, err := ReadMatrixMarket(bg, f, path, MatrixOptions{Transpose: func(MatrixHeader) (bool, error) { return tr, nil }})
 			f.Close()
+			if negative {
+				// Counts are never negative: such a matrix is refused.
+				if !errors.Is(err, ErrNegative) {
+					t.Errorf("%s: error %v, want %v", filepath.Base(path), err, ErrNegative)
+				}
+				continue
+			}
 			if err != nil {
 				t.Fatal(err)
 			}
 			if err := m.Validate(); err != nil {
 				t.Fatal(err)
 			}
-			nnz := 0
+			var nnz int64
 			for i := 0; i < rows; i++ {
 				for j := 0; j < cols; j++ {
 					want := float32(math.Float64frombits(binary.LittleEndian.Uint64(raw[8*(i*cols+j):])))
@@ -145,7 +161,7 @@ func TestMatrixMarketWrittenForScipy(t *testing.T) {
 			t.Fatal(err)
 		}
 		w := bufio.NewWriter(f)
-		if err := WriteMatrixMarket(w, m); err != nil {
+		if err := WriteMatrixMarket(w, sparse.FromCSR(m)); err != nil {
 			t.Fatal(err)
 		}
 		if err := w.Flush(); err != nil {

@@ -36,7 +36,7 @@ func BenchmarkRank100k(b *testing.B) {
 	b.ReportMetric(float64(x.NNZ()), "nnz")
 	b.ResetTimer()
 	for b.Loop() {
-		if _, err := Rank(context.Background(), x, in, nil, Options{}); err != nil {
+		if _, err := Rank(context.Background(), viewOf(x), in, nil, Options{}); err != nil {
 			b.Fatal(err)
 		}
 	}
@@ -46,7 +46,7 @@ func BenchmarkRank100k(b *testing.B) {
 // Expression, as when several groups are compared in turn.
 func BenchmarkExpressionRank100k(b *testing.B) {
 	x, in := benchData()
-	e, err := NewExpression(context.Background(), x)
+	e, err := NewExpression(context.Background(), viewOf(x))
 	if err != nil {
 		b.Fatal(err)
 	}

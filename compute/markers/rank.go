@@ -62,34 +62,60 @@ type Result struct {
 	MeanIn, MeanOut         float64
 }
 
-// Expression is a cells × genes matrix of log-normalised expression held gene
-// by gene, ready to compare any number of groups of cells.
+// Expression is a cells × genes matrix of log-normalised expression, ready
+// to compare any number of groups of cells. It reads the values from a view
+// (sparse.View) gene range by gene range as each comparison needs them, so
+// it holds no copy of the matrix: only the number of entries of each gene
+// and, for a log-normalised view of counts, each cell's normalised values of
+// the counts 1 … smallCounts (64 bytes a cell).
 type Expression struct {
 	cells, genes int
-	byGene       *sparse.CSR // genes × cells
+	x            *sparse.View
+	geneNNZ      []int64   // stored entries of each gene
+	small        []float32 // cell c, count k: small[c·smallCounts+k−1]; nil unless x normalises counts
 }
 
+// smallCounts is the number of small counts whose normalised value
+// Expression keeps for each cell.
+const smallCounts = 16
+
 // NewExpression checks x (cells × genes, log-normalised, non-negative) and
-// returns it in gene-major form; x is not modified or kept. It returns an
-// *InputError wrapping ErrMatrix when x is malformed, or ErrValue at the
-// first negative, NaN or infinite value (in cell order), and ctx.Err() when
-// ctx is cancelled. The check runs on all processors; the transposition
-// (sparse.CSR.Transpose, about 0.1 s per 10⁷ non-zeros) on one.
-func NewExpression(ctx context.Context, x *sparse.CSR) (*Expression, error) {
+// prepares it for comparisons; x is not modified and is kept. It returns an
+// *InputError wrapping ErrMatrix when x is nil, or ErrValue at the first
+// negative, NaN or infinite value (in cell order), and ctx.Err() when ctx is
+// cancelled. Values computed from counts are checked through their factors;
+// values held as they are, one by one. It runs on all processors.
+func NewExpression(ctx context.Context, x *sparse.View) (*Expression, error) {
 	if x == nil {
 		return nil, &InputError{What: "expression", Cell: -1, Gene: -1, Err: ErrMatrix}
 	}
-	if err := x.Validate(); err != nil {
-		return nil, &InputError{What: "expression", Cell: -1, Gene: -1, Err: fmt.Errorf("%w: %v", ErrMatrix, err)}
+	cells, genes := x.Dims()
+	src, _, _ := x.Source()
+	scale := x.Scale()
+	for c, s := range scale {
+		if !(s >= 0) || math.IsInf(s, 1) {
+			return nil, &InputError{What: "expression", Cell: c, Gene: -1,
+				Err: fmt.Errorf("%w: normalisation factor %v", ErrValue, s)}
+		}
 	}
+	threads := parallel.Threads(0)
 	const chunk = 4096
-	faults := make([]error, (x.Rows+chunk-1)/chunk)
-	err := parallel.ForChunks(ctx, x.Rows, chunk, 0, func(lo, hi, _ int) {
+	nb := (cells + chunk - 1) / chunk
+	faults := make([]error, nb)
+	partial := make([][]int64, threads)
+	err := parallel.ForChunks(ctx, cells, chunk, threads, func(lo, hi, w int) {
+		if partial[w] == nil {
+			partial[w] = make([]int64, genes)
+		}
+		nnz := partial[w]
+		var cols []int32
+		var vals []float32
 		for c := lo; c < hi; c++ {
-			genes, vals := x.Row(c)
-			for p, v := range vals {
-				if !(v >= 0) || math.IsInf(float64(v), 1) {
-					faults[lo/chunk] = &InputError{What: "expression", Cell: c, Gene: int(genes[p]),
+			cols, vals = x.Row(c, cols, vals)
+			for p, g := range cols {
+				nnz[g]++
+				if v := vals[p]; src.IsReal() && (!(v >= 0) || math.IsInf(float64(v), 1)) {
+					faults[lo/chunk] = &InputError{What: "expression", Cell: c, Gene: int(g),
 						Err: fmt.Errorf("%w: %v", ErrValue, v)}
 					return
 				}
@@ -104,11 +130,23 @@ func NewExpression(ctx context.Context, x *sparse.CSR) (*Expression, error) {
 			return nil, err
 		}
 	}
-	byGene := x.Transpose()
-	if err := ctx.Err(); err != nil {
-		return nil, err
+	e := &Expression{cells: cells, genes: genes, x: x, geneNNZ: make([]int64, genes)}
+	for _, nnz := range partial {
+		for g, n := range nnz {
+			e.geneNNZ[g] += n
+		}
 	}
-	return &Expression{cells: x.Rows, genes: x.Cols, byGene: byGene}, nil
+	if scale != nil && !src.IsReal() {
+		e.small = make([]float32, cells*smallCounts)
+		parallel.For(cells, threads, func(lo, hi, _ int) {
+			for c := lo; c < hi; c++ {
+				for k := 1; k <= smallCounts; k++ {
+					e.small[c*smallCounts+k-1] = sparse.LogNorm(float32(k), scale[c])
+				}
+			}
+		})
+	}
+	return e, ctx.Err()
 }
 
 // Cells returns the number of cells.
@@ -121,7 +159,7 @@ func (e *Expression) Genes() int { return e.genes }
 // between the cells marked in inGroup and those marked in reference, or all
 // other cells when reference is nil. It is NewExpression followed by
 // Expression.Rank; to compare several groups, make the Expression once.
-func Rank(ctx context.Context, x *sparse.CSR, inGroup, reference []bool, opt Options) ([]Result, error) {
+func Rank(ctx context.Context, x *sparse.View, inGroup, reference []bool, opt Options) ([]Result, error) {
 	e, err := NewExpression(ctx, x)
 	if err != nil {
 		return nil, err
@@ -159,28 +197,18 @@ func (e *Expression) Rank(ctx context.Context, inGroup, reference []bool, opt Op
 		return nil, err
 	}
 	threads := parallel.Threads(opt.Threads)
-	widest := 0
-	for g := 0; g < e.genes; g++ {
-		widest = max(widest, int(e.byGene.RowPtr[g+1]-e.byGene.RowPtr[g]))
-	}
-	keys := make([][]uint64, threads)
-	for w := range keys {
-		keys[w] = make([]uint64, 0, widest)
-	}
 	t := test{n1: n1, n2: n2, continuity: !opt.NoContinuityCorrection, eps: eps}
 	res := make([]Result, e.genes)
 	counter := progress.NewCounter(opt.Progress, int64(e.genes), max(1, int64(e.genes)/100))
-	const chunk = 8
-	err = parallel.ForChunks(ctx, e.genes, chunk, threads, func(lo, hi, w int) {
-		for g := lo; g < hi; g++ {
-			cells, vals := e.byGene.Row(g)
-			keys[w] = t.gene(&res[g], cells, vals, side, keys[w])
-			res[g].Gene = g
-		}
-		counter.Add(int64(hi - lo))
+	segments := e.segments(threads)
+	errs := make([]error, len(segments))
+	parallel.For(len(segments), len(segments), func(w, _, _ int) {
+		errs[w] = e.rankSegment(ctx, segments[w], side, &t, res, counter)
 	})
-	if err != nil {
-		return nil, err
+	for _, err := range errs {
+		if err != nil {
+			return nil, err
+		}
 	}
 	p := make([]float64, len(res))
 	for g := range res {
@@ -263,25 +291,16 @@ type test struct {
 	eps        float64
 }
 
-// gene fills r with the comparison of one gene whose non-zero entries are at
-// cells with values vals, using keys as scratch space, and returns keys for
-// reuse. A key holds a value's bits (order-preserving for non-negative
-// float32) above one bit that is 1 for the reference.
-func (t *test) gene(r *Result, cells []int32, vals []float32, side []uint8, keys []uint64) []uint64 {
-	keys = keys[:0]
+// gene fills r with the comparison of one gene from the keys of its
+// non-zero values in the group and the reference, using buf (as long as
+// keys) as scratch space. A key holds a value's bits (order-preserving for
+// non-negative float32) above one bit that is 1 for the reference.
+func (t *test) gene(r *Result, keys, buf []uint32) {
+	keys = radixSort(keys, buf)
 	nzIn := 0
-	for p, c := range cells {
-		s, v := side[c], vals[p]
-		if s == outside || v == 0 {
-			continue
-		}
-		if s == group {
-			nzIn++
-		}
-		keys = append(keys, uint64(math.Float32bits(v))<<1|uint64(s-1))
+	for _, k := range keys {
+		nzIn += int(1 - k&1)
 	}
-	slices.Sort(keys)
-
 	n1, n2 := float64(t.n1), float64(t.n2)
 	n := t.n1 + t.n2
 	zeros := n - len(keys)
@@ -300,7 +319,7 @@ func (t *test) gene(r *Result, cells []int32, vals []float32, side []uint8, keys
 		// The block holds ranks zeros+i+1 … zeros+j.
 		r1 += float64(in) * (float64(zeros+i+1) + float64(zeros+j)) / 2
 		ties += cube(j-i) - int64(j-i)
-		v := float64(math.Float32frombits(uint32(keys[i] >> 1)))
+		v := float64(math.Float32frombits(keys[i] >> 1))
 		e := math.Expm1(v)
 		sum[group] += float64(in) * v
 		sum[reference] += float64(j-i-in) * v
@@ -332,7 +351,6 @@ func (t *test) gene(r *Result, cells []int32, vals []float32, side []uint8, keys
 		MeanIn:        sum[group] / n1,
 		MeanOut:       sum[reference] / n2,
 	}
-	return keys
 }
 
 func cube(x int) int64 { return int64(x) * int64(x) * int64(x) }

@@ -147,9 +147,10 @@ type Prepared struct {
 	GeneIDs, GeneSymbols []string
 	// Expression holds the expression shown when the map is painted by a
 	// gene and used for marker genes: log-normalised counts of the kept
-	// cells and genes, or the values of a wide numeric table. It is nil for
-	// a narrow table (features used as they are).
-	Expression *sparse.CSR
+	// cells and genes (a view of the dataset's counts, each value computed
+	// as it is read), or the values of a wide numeric table. It is nil for a
+	// narrow table (features used as they are).
+	Expression *sparse.View
 	Features   *atlas.Dense     // the space neighbours are found in
 	Graph      *neighbors.Graph // GraphK neighbours of every cell
 	P          *sparse.CSR      // symmetric affinities summing to 1
@@ -223,7 +224,10 @@ func Features(ctx context.Context, d *atlas.Dataset, s Settings, report func(sta
 			out.GeneSymbols[j] = d.GeneSymbols[g]
 		}
 	case d.Table != nil && d.Table.Cols > prep.MaxFeatureColumns:
-		out.Expression = denseRowsToCSR(d.Table, res.Cells)
+		out.Expression, err = sparse.NewView(denseRowsToCounts(d.Table, res.Cells), nil, nil, s.Threads)
+		if err != nil {
+			return nil, err
+		}
 		out.GeneIDs, out.GeneSymbols = d.GeneIDs, d.GeneSymbols
 	}
 	return out, nil
@@ -321,20 +325,17 @@ func subsetColumns(cols []atlas.Column, rows []int) []atlas.Column {
 	return out
 }
 
-// denseRowsToCSR returns the given rows of m as a sparse matrix of their
+// denseRowsToCounts returns the given rows of m as a sparse matrix of their
 // non-zero values.
-func denseRowsToCSR(m *atlas.Dense, rows []int) *sparse.CSR {
-	out := &sparse.CSR{Rows: len(rows), Cols: m.Cols, RowPtr: make([]int64, len(rows)+1)}
-	for i, r := range rows {
+func denseRowsToCounts(m *atlas.Dense, rows []int) *sparse.Counts {
+	b := sparse.NewCountsBuilder(len(rows), m.Cols, 0)
+	for _, r := range rows {
 		for j, v := range m.Row(r) {
-			if v != 0 {
-				out.ColIdx = append(out.ColIdx, int32(j))
-				out.Val = append(out.Val, v)
-			}
+			b.Add(j, v)
 		}
-		out.RowPtr[i+1] = int64(len(out.ColIdx))
+		b.EndRow()
 	}
-	return out
+	return b.Counts()
 }
 
 // Reaffine returns the neighbour graph and affinities for a new perplexity:

@@ -51,8 +51,8 @@ func TestPrepareChainsTheStages(t *testing.T) {
 			t.Fatalf("annotation %q has %d values for %d cells", c.Name, c.Len(), n)
 		}
 	}
-	if p.Expression.Rows != n || p.Expression.Cols != len(p.GeneIDs) || len(p.GeneSymbols) != len(p.GeneIDs) {
-		t.Fatalf("expression %d×%d for %d cells and %d genes", p.Expression.Rows, p.Expression.Cols, n, len(p.GeneIDs))
+	if rows, cols := p.Expression.Dims(); rows != n || cols != len(p.GeneIDs) || len(p.GeneSymbols) != len(p.GeneIDs) {
+		t.Fatalf("expression %d×%d for %d cells and %d genes", rows, cols, n, len(p.GeneIDs))
 	}
 	if p.Graph.N != n || p.Graph.K != 90 {
 		t.Fatalf("graph %d×%d, want %d×90", p.Graph.N, p.Graph.K, n)
@@ -118,7 +118,7 @@ func TestPrepareSpectralInitAndSmallGraph(t *testing.T) {
 func TestPrepareRejectsTooFewCells(t *testing.T) {
 	d := smallAtlas(t, 1500)
 	keep := []int{0}
-	d.Counts = d.Counts.SelectRows(keep)
+	d.Counts = d.Counts.SelectRowsCols(keep, nil)
 	d.CellIDs = d.CellIDs[:1]
 	for i := range d.Annotations {
 		c := &d.Annotations[i]

@@ -90,7 +90,7 @@ func BenchmarkSelectGenes(b *testing.B) {
 
 func BenchmarkMulTAccumulators(b *testing.B) {
 	x := benchX(b)
-	a, err := newCentred(context.Background(), x, nil, false, 0)
+	a, err := newCentred(context.Background(), csrSource{x}, nil, false, 0)
 	if err != nil {
 		b.Fatal(err)
 	}
@@ -136,7 +136,7 @@ func BenchmarkMulTTransposed(b *testing.B) {
 // variable genes, 50 principal components.
 func BenchmarkPrepare(b *testing.B) {
 	counts := synth.Counts(20_000, 5_000, 300, 2)
-	d := &atlas.Dataset{Counts: counts}
+	d := &atlas.Dataset{Counts: sparse.FromCSR(counts)}
 	opt := DefaultOptions()
 	opt.PCA.Seed = 1
 	for b.Loop() {

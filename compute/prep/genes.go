@@ -76,26 +76,34 @@ type GeneSelection struct {
 // threads < 1 means one goroutine per processor; prog, when not nil, receives
 // the progress.
 func SelectGenes(ctx context.Context, norm *sparse.CSR, n, threads int, prog progress.Func) (*GeneSelection, error) {
-	return selectGenes(ctx, norm, n, MeanBins, threads, prog)
+	const stage = "genes"
+	if err := checkCSR(stage, norm); err != nil {
+		return nil, err
+	}
+	return selectGenes(ctx, csrSource{norm}, n, MeanBins, threads, prog)
+}
+
+// SelectGenesView is SelectGenes for a view of counts log-normalised by
+// NormalizeView: each value is computed as it is read, and the selection
+// equals that of SelectGenes on the same values held in a CSR matrix.
+func SelectGenesView(ctx context.Context, norm *sparse.View, n, threads int, prog progress.Func) (*GeneSelection, error) {
+	return selectGenes(ctx, viewSource{norm}, n, MeanBins, threads, prog)
 }
 
 // selectGenes is SelectGenes with the number of mean bins as a parameter.
-func selectGenes(ctx context.Context, norm *sparse.CSR, n, bins, threads int, prog progress.Func) (*GeneSelection, error) {
+func selectGenes(ctx context.Context, norm source, n, bins, threads int, prog progress.Func) (*GeneSelection, error) {
 	const stage = "genes"
 	if n < 1 {
 		return nil, errOption(stage, "asked for %d genes", n)
 	}
-	if err := checkCSR(stage, norm); err != nil {
-		return nil, err
-	}
-	if norm.Rows < 2 {
-		return nil, errAt(stage, -1, -1, ErrTooFewCells, "%d cells; a variance needs at least 2", norm.Rows)
+	rows, g := norm.dims()
+	if rows < 2 {
+		return nil, errAt(stage, -1, -1, ErrTooFewCells, "%d cells; a variance needs at least 2", rows)
 	}
 	st, err := linearMoments(ctx, norm, parallel.Threads(threads), prog)
 	if err != nil {
 		return nil, err
 	}
-	g := norm.Cols
 	sel := &GeneSelection{
 		Mean:       st.mean,
 		Dispersion: make([]float64, g),
@@ -186,11 +194,12 @@ type moments struct {
 // linearMoments returns the mean, the variance (denominator N−1) and the
 // constancy of exp(y)−1 for each column of norm, in two passes (means, then
 // squared deviations) with per-block accumulators summed in block order.
-func linearMoments(ctx context.Context, norm *sparse.CSR, threads int, prog progress.Func) (*moments, error) {
+func linearMoments(ctx context.Context, norm source, threads int, prog progress.Func) (*moments, error) {
 	const stage = "genes"
-	n, g := norm.Rows, norm.Cols
-	sp := sparseSplit(norm.RowPtr, threads)
+	n, g := norm.dims()
+	sp := sparseSplit(norm.ptr(), threads)
 	nb := sp.blocks()
+	lin := newLinearRows(norm, nb)
 	type acc struct {
 		sum, sq  []float64
 		lo, hi   []float64
@@ -216,12 +225,11 @@ func linearMoments(ctx context.Context, norm *sparse.CSR, threads int, prog prog
 			a.prepared = true
 		}
 		for i := lo; i < hi; i++ {
-			cols, vals := norm.Row(i)
-			for k, v := range vals {
+			cols, xs := lin.row(i, b)
+			for k, x := range xs {
 				j := cols[k]
-				x := math.Expm1(float64(v))
-				if e := checkCount(stage, i, int(j), x); e != nil {
-					a.bad = e
+				if !(x >= 0 && x <= math.MaxFloat64) {
+					a.bad = checkCount(stage, i, int(j), x)
 					return
 				}
 				a.sum[j] += x
@@ -273,10 +281,10 @@ func linearMoments(ctx context.Context, norm *sparse.CSR, threads int, prog prog
 			a.sq = make([]float64, g)
 		}
 		for i := lo; i < hi; i++ {
-			cols, vals := norm.Row(i)
-			for k, v := range vals {
+			cols, xs := lin.row(i, b)
+			for k, x := range xs {
 				j := cols[k]
-				d := math.Expm1(float64(v)) - st.mean[j]
+				d := x - st.mean[j]
 				a.sq[j] += d * d
 			}
 		}

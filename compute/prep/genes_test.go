@@ -54,7 +54,7 @@ func TestSelectGenesHandExample(t *testing.T) {
 		{1, 0, 1, 2, 2, 4, 2},
 		{1, 4, 2, 2, 4, 4, 3},
 	})
-	sel, err := selectGenes(context.Background(), norm, 3, 2, 0, nil)
+	sel, err := selectGenes(context.Background(), csrSource{norm}, 3, 2, 0, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -85,7 +85,7 @@ func TestSelectGenesTiedMeansShareBin(t *testing.T) {
 		{1, 2, 2, 3},
 		{2, 4, 4, 5},
 	})
-	sel, err := selectGenes(context.Background(), norm, 4, 2, 0, nil)
+	sel, err := selectGenes(context.Background(), csrSource{norm}, 4, 2, 0, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -81,3 +81,61 @@ func Normalize(ctx context.Context, counts *sparse.CSR, target float64, threads 
 	counter.Finish()
 	return out, nil
 }
+
+// NormalizeView returns v (a view of counts, cells × genes) log-normalised
+// as Normalize does, without computing a single value: the result reads
+//
+//	y_ij = sparse.LogNorm(x_ij, target / Σ_j x_ij)
+//
+// as it is read, with the row sum taken over the stored entries of row i of
+// v, in column order, in float64, exactly as Normalize takes it. A row
+// without counts stays zero. The result shares v's indices.
+//
+// Values must be finite and non-negative and target a finite number above
+// zero; otherwise NormalizeView returns an *Error naming the first bad entry
+// in row order. threads < 1 means one goroutine per processor. prog, when
+// not nil, receives the progress in rows.
+func NormalizeView(ctx context.Context, v *sparse.View, target float64, threads int, prog progress.Func) (*sparse.View, error) {
+	const stage = "normalize"
+	if !(target > 0) || math.IsInf(target, 1) {
+		return nil, errOption(stage, "target = %v is not a finite number above zero", target)
+	}
+	if v.Normalized() {
+		return nil, errOption(stage, "the view is normalised already")
+	}
+	n, _ := v.Dims()
+	scale := make([]float64, n)
+	sp := sparseSplit(v.RowPtr(), parallel.Threads(threads))
+	bad := make([]*Error, sp.blocks())
+	bufs := newRowBuffers(sp.blocks())
+	src := viewSource{v}
+	counter := progress.NewCounter(prog, int64(n), int64(n/100))
+	err := sp.run(ctx, func(lo, hi, b int) {
+		if bad[b] != nil {
+			return
+		}
+		for i := lo; i < hi; i++ {
+			cols, vals := bufs.row(src, i, b)
+			var total float64
+			for k, x := range vals {
+				if e := checkCount(stage, i, int(cols[k]), float64(x)); e != nil {
+					bad[b] = e
+					return
+				}
+				total += float64(x)
+			}
+			if total > 0 {
+				scale[i] = target / total
+			}
+		}
+		counter.Add(int64(hi - lo))
+	})
+	if err != nil {
+		return nil, err
+	}
+	if err := firstError(bad); err != nil {
+		return nil, err
+	}
+	counter.Finish()
+	return v.WithScale(scale)
+}

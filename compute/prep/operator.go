@@ -9,7 +9,6 @@ import (
 	"gonum.org/v1/gonum/floats"
 
 	"lodestone/compute/atlas"
-	"lodestone/compute/sparse"
 )
 
 // Clip is the bound on standardised values: after per-column
@@ -35,7 +34,7 @@ const Clip = 10
 // clipped to −Clip like any other value below the bound.
 type centred struct {
 	n, g        int
-	sp          *sparse.CSR
+	sp          source // the sparse X, read row by row; nil for a dense X
 	dense       *atlas.Dense
 	standardize bool
 	mu, sd      []float64 // mean and standard deviation (denominator N−1) of each column of X
@@ -45,6 +44,7 @@ type centred struct {
 	totalVar    float64   // Σ_j of the variance (denominator N−1) of column j of A
 	split       split     // rows into blocks and chunks
 	threads     int
+	bufs        *rowBuffers // per block: a row of a sparse X being read
 
 	// Workspace of the products, reused between calls.
 	acc     [][]float64 // per block: G × l accumulator of Aᵀ·src
@@ -55,15 +55,16 @@ type centred struct {
 
 // newCentred checks X and computes the column statistics of A. Exactly one
 // of sp and dense is not nil.
-func newCentred(ctx context.Context, sp *sparse.CSR, dense *atlas.Dense, standardize bool, threads int) (*centred, error) {
+func newCentred(ctx context.Context, sp source, dense *atlas.Dense, standardize bool, threads int) (*centred, error) {
 	a := &centred{sp: sp, dense: dense, standardize: standardize, threads: threads}
 	if sp != nil {
-		a.n, a.g = sp.Rows, sp.Cols
-		a.split = sparseSplit(sp.RowPtr, threads)
+		a.n, a.g = sp.dims()
+		a.split = sparseSplit(sp.ptr(), threads)
 	} else {
 		a.n, a.g = dense.Rows, dense.Cols
 		a.split = evenSplit(a.n, threads, a.denseRows())
 	}
+	a.bufs = newRowBuffers(a.split.blocks())
 	n := float64(a.n)
 
 	// Means of X, counts of stored entries, and a check of every value.
@@ -161,7 +162,7 @@ func (a *centred) columnSums(ctx context.Context, h func(j int, x float32) float
 			var cols []int32
 			var vals []float32
 			if a.sp != nil {
-				cols, vals = a.sp.Row(i)
+				cols, vals = a.bufs.row(a.sp, i, b)
 			} else {
 				vals = a.dense.Row(i)
 			}
@@ -258,7 +259,7 @@ func (a *centred) mul(ctx context.Context, dst, src []float64, l int) error {
 			for t := range y {
 				y[t] = -r[t]
 			}
-			cols, vals := a.sp.Row(i)
+			cols, vals := a.bufs.row(a.sp, i, b)
 			if a.standardize {
 				for k, j := range cols {
 					jj := int(j)
@@ -313,7 +314,7 @@ func (a *centred) mulT(ctx context.Context, dst, src []float64, l int) error {
 		}
 		for i := lo; i < hi; i++ {
 			x := src[i*l : (i+1)*l]
-			cols, vals := a.sp.Row(i)
+			cols, vals := a.bufs.row(a.sp, i, b)
 			if a.standardize {
 				for k, j := range cols {
 					jj := int(j)

@@ -144,7 +144,14 @@ func RunPCA(ctx context.Context, X *sparse.CSR, opt PCAOptions) (*PCA, error) {
 	if err := checkCSR("pca", X); err != nil {
 		return nil, err
 	}
-	return runPCA(ctx, X, nil, opt)
+	return runPCA(ctx, csrSource{X}, nil, opt)
+}
+
+// RunPCAView is RunPCA for a view of counts (log-normalised or not), whose
+// values are computed each time a pass reads them; the result equals that
+// of RunPCA on the same values held in a CSR matrix.
+func RunPCAView(ctx context.Context, X *sparse.View, opt PCAOptions) (*PCA, error) {
+	return runPCA(ctx, viewSource{X}, nil, opt)
 }
 
 // DensePCA is RunPCA for a dense table (rows × features), such as a table
@@ -161,7 +168,7 @@ func DensePCA(ctx context.Context, X *atlas.Dense, opt PCAOptions) (*PCA, error)
 }
 
 // runPCA is RunPCA and DensePCA; exactly one of sp and dense is not nil.
-func runPCA(ctx context.Context, sp *sparse.CSR, dense *atlas.Dense, opt PCAOptions) (*PCA, error) {
+func runPCA(ctx context.Context, sp source, dense *atlas.Dense, opt PCAOptions) (*PCA, error) {
 	const stage = "pca"
 	opt, err := opt.withDefaults()
 	if err != nil {
@@ -169,7 +176,7 @@ func runPCA(ctx context.Context, sp *sparse.CSR, dense *atlas.Dense, opt PCAOpti
 	}
 	n, g := 0, 0
 	if sp != nil {
-		n, g = sp.Rows, sp.Cols
+		n, g = sp.dims()
 	} else {
 		n, g = dense.Rows, dense.Cols
 	}

@@ -56,8 +56,9 @@ type Result struct {
 	// narrow enough to be used as it is (then Features aliases it).
 	Features *atlas.Dense
 	// Normalized holds the log-normalised expression of the kept cells in
-	// all kept genes (nil for a table that is not counts).
-	Normalized *sparse.CSR
+	// all kept genes (nil for a table that is not counts): a view of the
+	// counts that computes each value as it is read.
+	Normalized *sparse.View
 	// KeptGenes holds, for each column of Normalized, its gene's index in
 	// the input.
 	KeptGenes []int
@@ -139,7 +140,7 @@ func Prepare(ctx context.Context, d *atlas.Dataset, opt Options) (*Result, error
 	if counts {
 		c := *d
 		c.Table = nil
-		c.Counts = denseToCSR(t)
+		c.Counts = denseToCounts(t)
 		res, err := prepareCounts(ctx, &c, opt, threads, report)
 		if res != nil {
 			res.Notes = append([]string{fmt.Sprintf("the %d-column table holds only non-negative integers and is treated as counts", t.Cols)}, res.Notes...)
@@ -170,19 +171,35 @@ func prepareCounts(ctx context.Context, d *atlas.Dataset, opt Options, threads i
 	if len(keepCells) < minCells {
 		return nil, errAt(stage, -1, -1, ErrTooFewCells, "at least %d cells are needed; quality control %s", minCells, qc.Summary())
 	}
-	sub, err := subMatrix(ctx, d.Counts, keepCells, keepGenes, threads)
+	// The kept cells and genes, then their log-normalised values, are views
+	// of the counts: no stage holds a second copy of the matrix.
+	sub, err := sparse.NewView(d.Counts, keepCells, keepGenes, threads)
+	if err != nil {
+		return nil, errAt(stage, -1, -1, ErrMalformed, "%v", err)
+	}
+	norm, err := NormalizeView(ctx, sub, opt.Target, threads, report("normalize"))
 	if err != nil {
 		return nil, err
 	}
-	norm, err := Normalize(ctx, sub, opt.Target, threads, report("normalize"))
+	sel, err := SelectGenesView(ctx, norm, opt.Genes, threads, report("genes"))
 	if err != nil {
 		return nil, err
 	}
-	sel, err := SelectGenes(ctx, norm, opt.Genes, threads, report("genes"))
-	if err != nil {
-		return nil, err
+	// PCA reads the selected genes many times: it gets a compact copy of
+	// their counts, read through the same factors.
+	selected := make([]int, len(sel.Genes))
+	for k, j := range sel.Genes {
+		selected[k] = keepGenes[j]
 	}
-	p, err := RunPCA(ctx, norm.SelectCols(sel.Genes), opt.PCA)
+	pcaCounts := d.Counts.SelectRowsCols(keepCells, selected)
+	pcaView, err := sparse.NewView(pcaCounts, nil, nil, threads)
+	if err == nil {
+		pcaView, err = pcaView.WithScale(norm.Scale())
+	}
+	if err != nil {
+		return nil, errAt(stage, -1, -1, ErrMalformed, "%v", err)
+	}
+	p, err := RunPCAView(ctx, pcaView, opt.PCA)
 	if err != nil {
 		return nil, err
 	}
@@ -241,69 +258,14 @@ func scanTable(ctx context.Context, t *atlas.Dense, threads int, prog progress.F
 	return true, nil
 }
 
-// denseToCSR returns the non-zero entries of t as a sparse matrix.
-func denseToCSR(t *atlas.Dense) *sparse.CSR {
-	m := &sparse.CSR{Rows: t.Rows, Cols: t.Cols, RowPtr: make([]int64, t.Rows+1)}
+// denseToCounts returns the non-zero entries of t as a sparse matrix.
+func denseToCounts(t *atlas.Dense) *sparse.Counts {
+	b := sparse.NewCountsBuilder(t.Rows, t.Cols, 0)
 	for i := range t.Rows {
 		for j, v := range t.Row(i) {
-			if v != 0 {
-				m.ColIdx = append(m.ColIdx, int32(j))
-				m.Val = append(m.Val, v)
-			}
+			b.Add(j, v)
 		}
-		m.RowPtr[i+1] = int64(len(m.ColIdx))
+		b.EndRow()
 	}
-	return m
-}
-
-// subMatrix returns the rows and columns of m given in rows and cols (both
-// ascending), columns renumbered 0 … len(cols)−1, in one pass per row.
-func subMatrix(ctx context.Context, m *sparse.CSR, rows, cols []int, threads int) (*sparse.CSR, error) {
-	newCol := make([]int32, m.Cols)
-	for j := range newCol {
-		newCol[j] = -1
-	}
-	for k, j := range cols {
-		newCol[j] = int32(k)
-	}
-	out := &sparse.CSR{Rows: len(rows), Cols: len(cols), RowPtr: make([]int64, len(rows)+1)}
-	sp := evenSplit(len(rows), threads, chunkRows)
-	err := sp.run(ctx, func(lo, hi, _ int) {
-		for r := lo; r < hi; r++ {
-			c, _ := m.Row(rows[r])
-			var count int64
-			for _, j := range c {
-				if newCol[j] >= 0 {
-					count++
-				}
-			}
-			out.RowPtr[r+1] = count
-		}
-	})
-	if err != nil {
-		return nil, err
-	}
-	for r := range rows {
-		out.RowPtr[r+1] += out.RowPtr[r]
-	}
-	nnz := out.RowPtr[len(rows)]
-	out.ColIdx = make([]int32, nnz)
-	out.Val = make([]float32, nnz)
-	err = sp.run(ctx, func(lo, hi, _ int) {
-		for r := lo; r < hi; r++ {
-			c, v := m.Row(rows[r])
-			p := out.RowPtr[r]
-			for k, j := range c {
-				if nj := newCol[j]; nj >= 0 {
-					out.ColIdx[p] = nj
-					out.Val[p] = v[k]
-					p++
-				}
-			}
-		}
-	})
-	if err != nil {
-		return nil, err
-	}
-	return out, nil
+	return b.Counts()
 }

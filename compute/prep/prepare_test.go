@@ -31,7 +31,7 @@ func TestPrepareCountsEqualsStages(t *testing.T) {
 	for i := 0; i < 500; i += 50 {
 		counts.Val[counts.RowPtr[i]] = 0
 	}
-	d := &atlas.Dataset{Counts: counts}
+	d := &atlas.Dataset{Counts: sparse.FromCSR(counts)}
 	opt := testOptions()
 	opt.QC.MinGenes = 40
 	var (
@@ -79,9 +79,7 @@ func TestPrepareCountsEqualsStages(t *testing.T) {
 	if !slices.Equal(res.Cells, cells) || !slices.Equal(res.KeptGenes, genes) || !slices.Equal(res.Genes.Genes, sel.Genes) {
 		t.Fatal("kept cells, genes or selection differ from the stages")
 	}
-	if !slices.Equal(res.Normalized.Val, norm.Val) || !slices.Equal(res.Normalized.ColIdx, norm.ColIdx) || !slices.Equal(res.Normalized.RowPtr, norm.RowPtr) {
-		t.Fatal("normalised matrix differs from the stages")
-	}
+	sameValues(t, res.Normalized, norm)
 	if res.Features.Rows != len(cells) || res.Features.Cols != 10 || !slices.Equal(res.Features.Data, p.Scores.Data) {
 		t.Fatal("features differ from the principal components of the stages")
 	}
@@ -115,7 +113,7 @@ func TestPrepareTables(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	direct, err := Prepare(ctx, &atlas.Dataset{Counts: counts}, testOptions())
+	direct, err := Prepare(ctx, &atlas.Dataset{Counts: sparse.FromCSR(counts)}, testOptions())
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -155,11 +153,40 @@ func TestPrepareBadInput(t *testing.T) {
 	opt := testOptions()
 	opt.QC.MinGenes = 20
 	opt.QC.MaxCounts = 20 // no cell has so few counts with 20 genes of ≥ 1
-	if _, err := Prepare(ctx, &atlas.Dataset{Counts: counts}, opt); !errors.Is(err, ErrTooFewCells) {
+	if _, err := Prepare(ctx, &atlas.Dataset{Counts: sparse.FromCSR(counts)}, opt); !errors.Is(err, ErrTooFewCells) {
 		t.Errorf("no cell passes QC: got %v", err)
 	}
 	one := &sparse.CSR{Rows: 2, Cols: 3, RowPtr: []int64{0, 3, 3}, ColIdx: []int32{0, 1, 2}, Val: []float32{1, 2, 3}}
-	if _, err := Prepare(ctx, &atlas.Dataset{Counts: one}, Options{}); !errors.Is(err, ErrTooFewCells) {
+	if _, err := Prepare(ctx, &atlas.Dataset{Counts: sparse.FromCSR(one)}, Options{}); !errors.Is(err, ErrTooFewCells) {
 		t.Errorf("one cell left: got %v", err)
+	}
+}
+
+// sameValues checks that the view v holds exactly the non-zero entries of m,
+// bit for bit.
+func sameValues(t *testing.T, v *sparse.View, m *sparse.CSR) {
+	t.Helper()
+	rows, cols := v.Dims()
+	if rows != m.Rows || cols != m.Cols {
+		t.Fatalf("view %d×%d, matrix %d×%d", rows, cols, m.Rows, m.Cols)
+	}
+	var vc []int32
+	var vv []float32
+	for i := 0; i < m.Rows; i++ {
+		vc, vv = v.Row(i, vc, vv)
+		mc, mv := m.Row(i)
+		k := 0
+		for t2, c := range mc {
+			if mv[t2] == 0 {
+				continue
+			}
+			if k >= len(vc) || vc[k] != c || math.Float32bits(vv[k]) != math.Float32bits(mv[t2]) {
+				t.Fatalf("row %d: view differs from the matrix at column %d", i, c)
+			}
+			k++
+		}
+		if k != len(vc) {
+			t.Fatalf("row %d: %d entries in the view, %d non-zero in the matrix", i, len(vc), k)
+		}
 	}
 }

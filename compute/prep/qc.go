@@ -148,7 +148,7 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 		return nil, nil, nil, errAt(stage, -1, -1, ErrNoMatrix, "quality control needs a counts matrix")
 	}
 	m := d.Counts
-	if err := checkCSR(stage, m); err != nil {
+	if err := checkCounts(stage, m); err != nil {
 		return nil, nil, nil, err
 	}
 	if len(d.CellIDs) != 0 && len(d.CellIDs) != m.Rows {
@@ -182,17 +182,22 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 	reason := make([]uint8, n)
 	sp := sparseSplit(m.RowPtr, threads)
 	bad := make([]*Error, sp.blocks())
+	bufs := newRowBuffers(sp.blocks())
 	counter := prog.pass(0, n)
 	err = sp.run(ctx, func(lo, hi, b int) {
 		if bad[b] != nil {
 			return
 		}
 		for i := lo; i < hi; i++ {
-			cols, vals := m.Row(i)
+			cols, vals := bufs.counts(m, i, b)
 			var total, mt float64
 			detected := 0
 			for k, v := range vals {
 				x := float64(v)
+				if cols[k] < 0 || int(cols[k]) >= m.Cols {
+					bad[b] = errAt(stage, i, int(cols[k]), ErrMalformed, "column outside 0…%d", m.Cols-1)
+					return
+				}
 				if e := checkCount(stage, i, int(cols[k]), x); e != nil {
 					bad[b] = e
 					return
@@ -234,13 +239,14 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 	counter = prog.pass(1, len(kept))
 	kb := evenSplit(len(kept), threads, chunkRows)
 	partial := make([][]int32, kb.blocks())
+	kbufs := newRowBuffers(kb.blocks())
 	err = kb.run(ctx, func(lo, hi, b int) {
 		if partial[b] == nil {
 			partial[b] = make([]int32, m.Cols)
 		}
 		acc := partial[b]
 		for _, i := range kept[lo:hi] {
-			cols, vals := m.Row(i)
+			cols, vals := kbufs.counts(m, i, b)
 			for k, v := range vals {
 				if v > 0 {
 					acc[cols[k]]++
@@ -273,9 +279,9 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 
 	// Pass 3: cells left without counts in the kept genes.
 	counter = prog.pass(2, len(kept))
-	err = kb.run(ctx, func(lo, hi, _ int) {
+	err = kb.run(ctx, func(lo, hi, b int) {
 		for _, i := range kept[lo:hi] {
-			cols, vals := m.Row(i)
+			cols, vals := kbufs.counts(m, i, b)
 			empty := true
 			for k, v := range vals {
 				if v > 0 && keepGene[cols[k]] {
@@ -366,6 +372,37 @@ func checkCount(stage string, row, col int, x float64) *Error {
 		return errAt(stage, row, col, ErrNotFinite, "%v", x)
 	case x < 0:
 		return errAt(stage, row, col, ErrNegative, "%v", x)
+	}
+	return nil
+}
+
+// checkCounts returns an *Error wrapping ErrMalformed when the shape, array
+// lengths or row pointers of m are wrong. Column indices are checked as
+// QC reads them.
+func checkCounts(stage string, m *sparse.Counts) error {
+	if m == nil {
+		return errAt(stage, -1, -1, ErrMalformed, "nil matrix")
+	}
+	bad := func(format string, args ...any) error { return errAt(stage, -1, -1, ErrMalformed, format, args...) }
+	if m.Rows < 0 || m.Cols < 0 || len(m.RowPtr) != m.Rows+1 || m.RowPtr[0] != 0 {
+		return bad("%d×%d with %d row pointers", m.Rows, m.Cols, len(m.RowPtr))
+	}
+	nnz := m.RowPtr[m.Rows]
+	for i := 0; i < m.Rows; i++ {
+		if m.RowPtr[i+1] < m.RowPtr[i] {
+			return bad("row %d has negative length", i)
+		}
+	}
+	cols := int64(len(m.Col16))
+	if m.Col32 != nil || m.Cols > sparse.MaxCols16 {
+		cols = int64(len(m.Col32))
+	}
+	vals := int64(len(m.Small))
+	if m.Real != nil {
+		vals = int64(len(m.Real))
+	}
+	if cols != nnz || vals != nnz || len(m.LargeAt) != len(m.LargeVal) {
+		return bad("%d column indices and %d values for %d entries", cols, vals, nnz)
 	}
 	return nil
 }

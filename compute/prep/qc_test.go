@@ -63,7 +63,7 @@ func qcExample() (*atlas.Dataset, QCOptions) {
 	d := &atlas.Dataset{
 		GeneIDs:     []string{"g0", "g1", "g2", "g3", "g4", "g5", "g6", "g7", "g8", "g9"},
 		GeneSymbols: []string{"A", "MT-CO1", "B", "mt-Nd1", "C", "D", "E", "F", "G", "H"},
-		Counts:      csrFromRows(10, rows),
+		Counts:      sparse.FromCSR(csrFromRows(10, rows)),
 	}
 	for i := range rows {
 		d.CellIDs = append(d.CellIDs, string(rune('a'+i)))
@@ -132,7 +132,7 @@ func TestQCMatchesDirectComputation(t *testing.T) {
 			symbols[j] = "MT-" + symbols[j]
 		}
 	}
-	d := &atlas.Dataset{Counts: counts, GeneSymbols: symbols}
+	d := &atlas.Dataset{Counts: sparse.FromCSR(counts), GeneSymbols: symbols}
 	opt := QCOptions{MinGenes: 25, MinCells: 90, MinCounts: 40, MaxCounts: 150, MaxMitoFraction: 0.3}
 	cells, genes, rep, err := QC(context.Background(), d, opt)
 	if err != nil {
@@ -194,13 +194,16 @@ func TestQCMatchesDirectComputation(t *testing.T) {
 // Bad input gives errors that say what and where.
 func TestQCBadInput(t *testing.T) {
 	d, opt := qcExample()
-	d.Counts.Val[7] = -1
+	c := d.Counts.ToCSR()
+	c.Val[7] = -1
+	d.Counts = sparse.FromCSR(c)
 	_, _, _, err := QC(context.Background(), d, opt)
 	var e *Error
-	if !errors.As(err, &e) || !errors.Is(err, ErrNegative) || e.Row != 3 || e.Col != int(d.Counts.ColIdx[7]) {
+	if !errors.As(err, &e) || !errors.Is(err, ErrNegative) || e.Row != 3 || e.Col != int(c.ColIdx[7]) {
 		t.Errorf("negative count: got %v", err)
 	}
-	d.Counts.Val[7] = float32(math.Inf(1))
+	c.Val[7] = float32(math.Inf(1))
+	d.Counts = sparse.FromCSR(c)
 	if _, _, _, err := QC(context.Background(), d, opt); !errors.Is(err, ErrNotFinite) {
 		t.Errorf("infinite count: got %v", err)
 	}

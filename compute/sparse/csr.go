@@ -23,6 +23,24 @@ type CSR struct {
 // NNZ returns the number of stored entries.
 func (m *CSR) NNZ() int { return len(m.ColIdx) }
 
+// Dims returns the numbers of rows and columns.
+func (m *CSR) Dims() (rows, cols int) { return m.Rows, m.Cols }
+
+// Columns returns the given columns of m (ascending, distinct) as a new
+// matrix with the columns renumbered 0 … len(cols)−1, after checking m with
+// Validate. threads is not used: it matches View.Columns.
+func (m *CSR) Columns(cols []int, threads int) (*CSR, error) {
+	if err := m.Validate(); err != nil {
+		return nil, err
+	}
+	for k, j := range cols {
+		if j < 0 || j >= m.Cols || k > 0 && j <= cols[k-1] {
+			return nil, fmt.Errorf("sparse: column %d out of order or outside 0…%d", j, m.Cols-1)
+		}
+	}
+	return m.SelectCols(cols), nil
+}
+
 // Row returns the column indices and values of row i. The slices alias m.
 func (m *CSR) Row(i int) ([]int32, []float32) {
 	lo, hi := m.RowPtr[i], m.RowPtr[i+1]

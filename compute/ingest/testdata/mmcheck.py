@@ -51,6 +51,8 @@ def write(d):
     c = scipy.sparse.random(150, 250, density=0.08, format="coo", random_state=rng,
                             data_rvs=lambda n: rng.standard_normal(n) * 10.0 ** rng.uniform(-30, 30, n))
     cases.append(("real_wide", c, "real"))
+    # The same made non-negative, as counts or normalised values are.
+    cases.append(("real_wide_positive", abs(c), "real"))
     # float32 data, which mmwrite writes with 8 significant digits.
     e = scipy.sparse.random(120, 90, density=0.2, format="coo", random_state=rng, dtype=np.float32)
     cases.append(("real_float32", e, "real"))

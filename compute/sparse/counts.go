@@ -1,0 +1,421 @@
+package sparse
+
+import (
+	"fmt"
+	"math"
+	"sort"
+)
+
+// MaxCols16 is the widest matrix whose column indices Counts holds in 16
+// bits.
+const MaxCols16 = 1 << 16
+
+// LargeMark is the byte of Counts.Small that says an entry's value is held in
+// Counts.LargeVal. Counts 1 … LargeMark−1 are held in their byte.
+const LargeMark = 255
+
+// Counts is a matrix of counts (cells × genes) in compressed sparse row form,
+// stored compactly: most counts are small integers and most matrices have
+// fewer than 65,536 columns. Row i holds the entries RowPtr[i] … RowPtr[i+1]−1;
+// entry k has the column
+//
+//	Col16[k]   when Col32 is nil (Cols ≤ MaxCols16)
+//	Col32[k]   otherwise
+//
+// and the value
+//
+//	Real[k]                            when Real is not nil
+//	Small[k]                           when Small[k] < LargeMark
+//	LargeVal[t] with LargeAt[t] == k   otherwise
+//
+// Integer matrices thus take 3 bytes per entry (2 for the column, 1 for the
+// count) plus 12 bytes per count of 255 or more; a matrix with any value that
+// is not a positive integer keeps every value as a float32 in Real (6
+// bytes per entry, 8 with 32-bit columns). Large values are float32, exact for
+// counts up to 2^24; larger counts are rounded to float32, as everywhere in
+// Lodestone.
+//
+// Stored values are never zero, and column indices increase strictly within
+// a row in a valid matrix (see Validate). Offsets are 64-bit, so a matrix may
+// hold more than 2^31 entries. The type is read-only once built: build one
+// with a CountsBuilder, FromCSR or SelectRowsCols.
+type Counts struct {
+	Rows, Cols int
+	RowPtr     []int64 // length Rows+1, RowPtr[0] == 0
+	Col16      []uint16
+	Col32      []int32
+	Small      []uint8   // nil when Real is set
+	LargeAt    []int64   // ascending positions of the entries marked LargeMark
+	LargeVal   []float32 // their values
+	Real       []float32 // the values, when they are not all counts
+}
+
+// NNZ returns the number of stored entries.
+func (m *Counts) NNZ() int64 { return m.RowPtr[m.Rows] }
+
+// IsReal reports whether the values are held as float32 (not all counts).
+func (m *Counts) IsReal() bool { return m.Real != nil }
+
+// Col returns the column of entry k.
+func (m *Counts) Col(k int64) int {
+	if m.Col32 != nil {
+		return int(m.Col32[k])
+	}
+	return int(m.Col16[k])
+}
+
+// Value returns the value of entry k. A large value is found by binary
+// search in LargeAt.
+func (m *Counts) Value(k int64) float32 {
+	if m.Real != nil {
+		return m.Real[k]
+	}
+	if s := m.Small[k]; s != LargeMark {
+		return float32(s)
+	}
+	return m.LargeVal[m.largeIndex(k)]
+}
+
+// largeIndex returns the index in LargeAt of the first position ≥ k.
+func (m *Counts) largeIndex(k int64) int {
+	return sort.Search(len(m.LargeAt), func(t int) bool { return m.LargeAt[t] >= k })
+}
+
+// Row appends the columns and values of row i to cols[:0] and vals[:0] and
+// returns them.
+func (m *Counts) Row(i int, cols []int32, vals []float32) ([]int32, []float32) {
+	lo, hi := m.RowPtr[i], m.RowPtr[i+1]
+	cols, vals = cols[:0], vals[:0]
+	if m.Col32 != nil {
+		cols = append(cols, m.Col32[lo:hi]...)
+	} else {
+		for _, c := range m.Col16[lo:hi] {
+			cols = append(cols, int32(c))
+		}
+	}
+	if m.Real != nil {
+		return cols, append(vals, m.Real[lo:hi]...)
+	}
+	large := -1
+	for k, s := range m.Small[lo:hi] {
+		if s != LargeMark {
+			vals = append(vals, float32(s))
+			continue
+		}
+		if large < 0 {
+			large = m.largeIndex(lo + int64(k))
+		}
+		vals = append(vals, m.LargeVal[large])
+		large++
+	}
+	return cols, vals
+}
+
+// Find returns the position of the entry at (i, j), or −1 when none is
+// stored, by binary search in row i.
+func (m *Counts) Find(i, j int) int64 {
+	lo, hi := m.RowPtr[i], m.RowPtr[i+1]
+	if m.Col32 != nil {
+		c := m.Col32[lo:hi]
+		k := sort.Search(len(c), func(k int) bool { return int(c[k]) >= j })
+		if k < len(c) && int(c[k]) == j {
+			return lo + int64(k)
+		}
+		return -1
+	}
+	if j >= MaxCols16 || j < 0 {
+		return -1
+	}
+	if k := Search16(m.Col16[lo:hi], uint16(j)); k >= 0 {
+		return lo + int64(k)
+	}
+	return -1
+}
+
+// Search16 returns the position of j in c, ascending, or −1 when c does not
+// hold j. It is a binary search whose loop has no unpredictable branch.
+func Search16(c []uint16, j uint16) int {
+	lo, n := 0, len(c)
+	if n == 0 {
+		return -1
+	}
+	for n > 1 {
+		half := n / 2
+		if c[lo+half] <= j {
+			lo += half
+		}
+		n -= half
+	}
+	if c[lo] == j {
+		return lo
+	}
+	return -1
+}
+
+// At returns the value at (i, j), zero when none is stored.
+func (m *Counts) At(i, j int) float32 {
+	if k := m.Find(i, j); k >= 0 {
+		return m.Value(k)
+	}
+	return 0
+}
+
+// Bytes returns the memory held by the matrix's arrays.
+func (m *Counts) Bytes() int64 {
+	return int64(len(m.RowPtr))*8 + int64(len(m.Col16))*2 + int64(len(m.Col32))*4 +
+		int64(len(m.Small)) + int64(len(m.LargeAt))*12 + int64(len(m.Real))*4
+}
+
+// Validate checks the structure of m: array lengths, monotone row pointers,
+// column indices in range and strictly increasing within each row, values
+// finite and not zero, large values marked where they are and nowhere else.
+func (m *Counts) Validate() error {
+	if m.Rows < 0 || m.Cols < 0 {
+		return fmt.Errorf("sparse: negative shape %d×%d", m.Rows, m.Cols)
+	}
+	if len(m.RowPtr) != m.Rows+1 || m.RowPtr[0] != 0 {
+		return fmt.Errorf("sparse: %d row pointers for %d rows", len(m.RowPtr), m.Rows)
+	}
+	nnz := m.RowPtr[m.Rows]
+	wide := m.Cols > MaxCols16
+	switch {
+	case wide && (m.Col32 == nil && nnz > 0 || m.Col16 != nil):
+		return fmt.Errorf("sparse: %d columns need 32-bit indices", m.Cols)
+	case wide && int64(len(m.Col32)) != nnz, !wide && int64(len(m.Col16)) != nnz || !wide && m.Col32 != nil:
+		return fmt.Errorf("sparse: column indices do not match %d entries", nnz)
+	case m.Real != nil && (int64(len(m.Real)) != nnz || m.Small != nil || m.LargeAt != nil):
+		return fmt.Errorf("sparse: %d real values for %d entries", len(m.Real), nnz)
+	case m.Real == nil && int64(len(m.Small)) != nnz:
+		return fmt.Errorf("sparse: %d counts for %d entries", len(m.Small), nnz)
+	case len(m.LargeAt) != len(m.LargeVal):
+		return fmt.Errorf("sparse: %d large positions, %d values", len(m.LargeAt), len(m.LargeVal))
+	}
+	for i := 0; i < m.Rows; i++ {
+		lo, hi := m.RowPtr[i], m.RowPtr[i+1]
+		if hi < lo || hi > nnz {
+			return fmt.Errorf("sparse: row %d has bad bounds %d…%d", i, lo, hi)
+		}
+		prev := -1
+		for k := lo; k < hi; k++ {
+			c := m.Col(k)
+			if c <= prev || c >= m.Cols {
+				return fmt.Errorf("sparse: row %d: column %d out of order or out of range (%d columns)", i, c, m.Cols)
+			}
+			prev = c
+		}
+	}
+	if m.Real != nil {
+		for k, v := range m.Real {
+			if v == 0 || math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
+				return fmt.Errorf("sparse: entry %d holds %v", k, v)
+			}
+		}
+		return nil
+	}
+	t := 0
+	for k, s := range m.Small {
+		switch {
+		case s == 0:
+			return fmt.Errorf("sparse: entry %d holds 0", k)
+		case s != LargeMark:
+			continue
+		case t >= len(m.LargeAt) || m.LargeAt[t] != int64(k):
+			return fmt.Errorf("sparse: entry %d is marked large but not listed", k)
+		}
+		if v := m.LargeVal[t]; !(v >= LargeMark) || math.IsInf(float64(v), 0) || v != float32(math.Trunc(float64(v))) {
+			return fmt.Errorf("sparse: entry %d holds the large value %v", k, v)
+		}
+		t++
+	}
+	if t != len(m.LargeAt) {
+		return fmt.Errorf("sparse: %d large values listed, %d marked", len(m.LargeAt), t)
+	}
+	return nil
+}
+
+// IsCount reports whether v is held as a count: a finite integer ≥ 1.
+// (Every float32 from 2^24 up is an integer: counts that large arrive
+// rounded to float32.)
+func IsCount(v float32) bool {
+	return v >= 1 && v <= math.MaxFloat32 && v == float32(math.Trunc(float64(v)))
+}
+
+// CountsBuilder builds a Counts matrix row by row. Values are held as counts
+// until one is not (see IsCount); from then on all are held as float32.
+type CountsBuilder struct {
+	m   *Counts
+	row int
+}
+
+// NewCountsBuilder starts a rows × cols matrix with room for capacity
+// entries.
+func NewCountsBuilder(rows, cols int, capacity int64) *CountsBuilder {
+	m := &Counts{Rows: rows, Cols: cols, RowPtr: make([]int64, 1, rows+1)}
+	if cols > MaxCols16 {
+		m.Col32 = make([]int32, 0, capacity)
+	} else {
+		m.Col16 = make([]uint16, 0, capacity)
+	}
+	m.Small = make([]uint8, 0, capacity)
+	return &CountsBuilder{m: m}
+}
+
+// Add appends the entry (current row, col) with value v. Columns must
+// increase within a row; v must be finite. A zero v is not stored.
+func (b *CountsBuilder) Add(col int, v float32) {
+	if v == 0 {
+		return
+	}
+	m := b.m
+	if m.Col32 != nil {
+		m.Col32 = append(m.Col32, int32(col))
+	} else {
+		m.Col16 = append(m.Col16, uint16(col))
+	}
+	switch {
+	case m.Real != nil:
+		m.Real = append(m.Real, v)
+	case !IsCount(v):
+		m.toReal()
+		m.Real = append(m.Real, v)
+	case v < LargeMark:
+		m.Small = append(m.Small, uint8(v))
+	default:
+		m.LargeAt = append(m.LargeAt, int64(len(m.Small)))
+		m.LargeVal = append(m.LargeVal, v)
+		m.Small = append(m.Small, LargeMark)
+	}
+}
+
+// toReal moves the values of m, which holds counts, into Real.
+func (m *Counts) toReal() {
+	real := make([]float32, len(m.Small), cap(m.Small))
+	t := 0
+	for k, s := range m.Small {
+		if s == LargeMark {
+			real[k] = m.LargeVal[t]
+			t++
+		} else {
+			real[k] = float32(s)
+		}
+	}
+	m.Real, m.Small, m.LargeAt, m.LargeVal = real, nil, nil, nil
+}
+
+// EndRow closes the current row.
+func (b *CountsBuilder) EndRow() {
+	m := b.m
+	n := len(m.Col16) + len(m.Col32)
+	m.RowPtr = append(m.RowPtr, int64(n))
+	b.row++
+}
+
+// Counts closes the remaining rows and returns the matrix.
+func (b *CountsBuilder) Counts() *Counts {
+	for b.row < b.m.Rows {
+		b.EndRow()
+	}
+	return b.m
+}
+
+// FromCSR returns the non-zero entries of m as a Counts matrix. m must be a
+// valid CSR matrix with finite values.
+func FromCSR(m *CSR) *Counts {
+	b := NewCountsBuilder(m.Rows, m.Cols, int64(m.NNZ()))
+	for i := 0; i < m.Rows; i++ {
+		cols, vals := m.Row(i)
+		for k, c := range cols {
+			b.Add(int(c), vals[k])
+		}
+		b.EndRow()
+	}
+	return b.Counts()
+}
+
+// ToCSR returns m as a CSR matrix with float32 values.
+func (m *Counts) ToCSR() *CSR {
+	nnz := m.NNZ()
+	out := &CSR{Rows: m.Rows, Cols: m.Cols, RowPtr: append([]int64(nil), m.RowPtr...),
+		ColIdx: make([]int32, 0, nnz), Val: make([]float32, 0, nnz)}
+	var cols []int32
+	var vals []float32
+	for i := 0; i < m.Rows; i++ {
+		cols, vals = m.Row(i, cols, vals)
+		out.ColIdx = append(out.ColIdx, cols...)
+		out.Val = append(out.Val, vals...)
+	}
+	return out
+}
+
+// SelectRowsCols returns a new matrix made of the given rows of m, in the
+// order given, restricted to the given columns (ascending; nil for all),
+// renumbered 0 … len(cols)−1. Values keep their form: counts stay counts.
+func (m *Counts) SelectRowsCols(rows, cols []int) *Counts {
+	if cols == nil {
+		cols = make([]int, m.Cols)
+		for j := range cols {
+			cols[j] = j
+		}
+	}
+	newCol := make([]int32, m.Cols)
+	for j := range newCol {
+		newCol[j] = -1
+	}
+	for k, j := range cols {
+		newCol[j] = int32(k)
+	}
+	out := &Counts{Rows: len(rows), Cols: len(cols), RowPtr: make([]int64, len(rows)+1)}
+	var nnz int64
+	for r, i := range rows {
+		for k := m.RowPtr[i]; k < m.RowPtr[i+1]; k++ {
+			if newCol[m.Col(k)] >= 0 {
+				nnz++
+			}
+		}
+		out.RowPtr[r+1] = nnz
+	}
+	wide := len(cols) > MaxCols16
+	if wide {
+		out.Col32 = make([]int32, nnz)
+	} else {
+		out.Col16 = make([]uint16, nnz)
+	}
+	if m.Real != nil {
+		out.Real = make([]float32, nnz)
+	} else {
+		out.Small = make([]uint8, nnz)
+	}
+	p := int64(0)
+	for _, i := range rows {
+		large := -1
+		for k := m.RowPtr[i]; k < m.RowPtr[i+1]; k++ {
+			isLarge := m.Real == nil && m.Small[k] == LargeMark
+			if isLarge && large < 0 {
+				large = m.largeIndex(k)
+			}
+			nj := newCol[m.Col(k)]
+			if nj >= 0 {
+				if wide {
+					out.Col32[p] = nj
+				} else {
+					out.Col16[p] = uint16(nj)
+				}
+				switch {
+				case m.Real != nil:
+					out.Real[p] = m.Real[k]
+				case isLarge:
+					out.Small[p] = LargeMark
+					out.LargeAt = append(out.LargeAt, p)
+					out.LargeVal = append(out.LargeVal, m.LargeVal[large])
+				default:
+					out.Small[p] = m.Small[k]
+				}
+				p++
+			}
+			if isLarge {
+				large++
+			}
+		}
+	}
+	return out
+}
