@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"os"
+	"path/filepath"
 	"runtime"
 	"runtime/metrics"
 	"strconv"
@@ -23,7 +25,7 @@ import (
 )
 
 func init() {
-	register("bench", "time the stages on generated data: kNN, PCA and the embedding", runBench)
+	register("bench", "time the stages on generated data: kNN, PCA, the embedding, the whole run from counts", runBench)
 }
 
 // maxBenchCells bounds the atlases bench generates (about 1 GB of
@@ -31,9 +33,14 @@ func init() {
 const maxBenchCells = 5000000
 
 func runBench(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("bench", "[--sizes 10000,70000,250000,1000000] [--sections knn,pca,embed]", stderr)
+	fs := newFlags("bench", "[--sizes 10000,70000,250000,1000000] [--sections knn,pca,embed,counts] [--data DIR]", stderr)
 	sizesFlag := fs.String("sizes", "10000,70000,250000,1000000", "numbers of cells, comma-separated")
-	sectionsFlag := fs.String("sections", "knn,pca,embed", "what to time: knn, pca, embed")
+	sectionsFlag := fs.String("sections", "knn,pca,embed", "what to time: knn, pca, embed, counts (the whole run from counts on disk)")
+	data := fs.String("data", filepath.Join(os.TempDir(), "lodestone-bench-counts"), "counts section: folder for the generated atlases, written once and reused")
+	genes := fs.Int("genes", 0, "counts section: genes of the generated atlases")
+	gz := fs.Bool("gzip", false, "counts section: read the counts gzip-compressed")
+	var run string
+	fs.inputPath(&run, "run", "counts section, internal: analyse the atlas folder in this process and report each stage")
 	threads := fs.Int("threads", 0, "goroutines to use (0: all processors)")
 	iterations := fs.Int("iterations", embed.DefaultIterations, "optimiser iterations of the embedding section")
 	seed := fs.Int64("seed", 1, "seed of the generated data")
@@ -51,13 +58,16 @@ func runBench(args []string, stdout, stderr io.Writer) error {
 	sections := map[string]bool{}
 	for _, s := range strings.Split(*sectionsFlag, ",") {
 		s = strings.TrimSpace(s)
-		if s != "knn" && s != "pca" && s != "embed" {
-			return usagef("--sections: unknown section %q (want knn, pca, embed)", s)
+		if s != "knn" && s != "pca" && s != "embed" && s != "counts" {
+			return usagef("--sections: unknown section %q (want knn, pca, embed, counts)", s)
 		}
 		sections[s] = true
 	}
 	ctx, stop := interruptible()
 	defer stop()
+	if run != "" {
+		return benchCountsRun(ctx, stdout, run, *iterations, *threads, *seed)
+	}
 	fmt.Fprintf(stdout, "lodestone bench: %d processors, GOMAXPROCS %d, %s/%s, %s\n\n",
 		runtime.NumCPU(), runtime.GOMAXPROCS(0), runtime.GOOS, runtime.GOARCH, runtime.Version())
 	if sections["knn"] {
@@ -72,6 +82,11 @@ func runBench(args []string, stdout, stderr io.Writer) error {
 	}
 	if sections["embed"] {
 		if err := benchEmbed(ctx, stdout, sizes, *iterations, *threads, *seed); err != nil {
+			return err
+		}
+	}
+	if sections["counts"] {
+		if err := benchCounts(ctx, stdout, sizes, *data, *genes, *gz, *iterations, *threads, *seed); err != nil {
 			return err
 		}
 	}

@@ -48,6 +48,7 @@ var bounds = map[string]bound{
 	"height":     {lo: 16, hi: 10000, zero: "the preset's"},
 	"dpi":        {lo: 10, hi: 4800, zero: "the preset's"},
 
+	"bench.genes":   {lo: 100, hi: 100000, zero: "20,000 up to 200,000 cells, 30,000 above"},
 	"example.cells": {lo: 1, hi: 2000000},
 	"example.genes": {lo: 100, hi: 100000},
 }

@@ -4,7 +4,9 @@ import (
 	"context"
 	"image/color"
 	"math"
+	"math/rand/v2"
 	"slices"
+	"sort"
 	"testing"
 
 	"lodestone/canvas/colour"
@@ -152,6 +154,35 @@ func TestFormatRange(t *testing.T) {
 	} {
 		if a, b := FormatRange(c.lo, c.hi); a != c.a || b != c.b {
 			t.Errorf("FormatRange(%v, %v) = %q, %q; want %q, %q", c.lo, c.hi, a, b, c.a, c.b)
+		}
+	}
+}
+
+// Quantile selects what sorting would find: checked against sort.Float64s
+// on random values with many ties, zeros and NaNs, for many q.
+func TestQuantileMatchesSorting(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	for trial := range 200 {
+		n := 1 + rng.IntN(3000)
+		v := make([]float64, n)
+		for i := range v {
+			switch rng.IntN(6) {
+			case 0:
+				v[i] = 0
+			case 1:
+				v[i] = math.NaN()
+			default:
+				v[i] = float64(rng.IntN(50)) / 7
+			}
+		}
+		sorted := slices.Clone(v)
+		sort.Float64s(sorted)
+		for _, q := range []float64{0, 0.01, 0.5, 0.99, 1, rng.Float64()} {
+			want := sorted[max(0, min(n-1, int(math.Ceil(q*float64(n)))-1))]
+			got := Quantile(v, q)
+			if got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
+				t.Fatalf("trial %d, q %v: %v, sorting gives %v", trial, q, got, want)
+			}
 		}
 	}
 }

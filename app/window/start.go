@@ -19,6 +19,7 @@ import (
 	"lodestone/compute/atlas"
 	"lodestone/compute/ingest"
 	"lodestone/compute/pipeline"
+	"lodestone/internal/memstat"
 	"lodestone/sampledata"
 )
 
@@ -149,7 +150,7 @@ func (lv *loadingView) set(stage string, done, total int64) {
 			p.mark.Refresh()
 		}
 	}
-	lv.elapsed.SetText(fmt.Sprintf("%.1f s", time.Since(lv.started).Seconds()))
+	lv.elapsed.SetText(fmt.Sprintf("%.1f s · %s in memory", time.Since(lv.started).Seconds(), memstat.Format(memstat.Read().Resident)))
 }
 
 // progressRelay collects progress reports from worker goroutines and hands

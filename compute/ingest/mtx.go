@@ -80,8 +80,8 @@ const (
 // second line. Entries that are not grouped by row (a genes × cells file
 // sorted by gene, say) need 4 more bytes per entry while reading; they are
 // moved to their rows in place by a radix sort, and checked for duplicates
-// whenever their number doubles, so memory stays within about twice the
-// distinct entries. Rows are then sorted by column on all cores.
+// whenever their number has grown fourfold, so memory stays within about
+// four times what the distinct entries need. Rows are then sorted by column on all cores.
 //
 // To name both lines of a duplicate entry in a file whose entries are not
 // grouped by row, the input is read a second time; this needs r to be an
@@ -294,8 +294,13 @@ type largeEntry struct {
 }
 
 // firstCheck is the number of entries at which duplicates are first looked
-// for in a file whose entries are not grouped by row.
-const firstCheck = 1 << 20
+// for in a file whose entries are not grouped by row; they are looked for
+// again each time the entries have grown checkGrowth-fold, which costs at
+// most 1/(checkGrowth−1) of the final grouping in all.
+const (
+	firstCheck  = 1 << 20
+	checkGrowth = 4
+)
 
 func newParser(ctx context.Context, s *lineScanner, name string, h MatrixHeader, transpose bool) *mtxParser {
 	p := &mtxParser{ctx: ctx, s: s, name: name, h: h, transpose: transpose, ordered: true, lastRow: -1}
@@ -422,7 +427,7 @@ func (p *mtxParser) store(r, c int, v float32, line int) bool {
 	}
 	p.n++
 	if p.rowOf != nil && p.n >= p.checkAt {
-		p.checkAt *= 2
+		p.checkAt *= checkGrowth
 		p.checkDuplicates()
 		return p.dup == nil
 	}
@@ -454,7 +459,7 @@ func (p *mtxParser) unorder() {
 			k++
 		}
 	}
-	p.checkAt = max(2*p.n, firstCheck)
+	p.checkAt = max(checkGrowth*p.n, firstCheck)
 }
 
 // readEntries parses the entry lines into p's arrays.

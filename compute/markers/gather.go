@@ -9,10 +9,14 @@ import (
 	"lodestone/compute/sparse"
 )
 
-// rangeEntries bounds the entries a worker gathers at once: the genes of a
-// range are read in one pass over the cells, their keys held in 4 bytes
-// each (64 MiB).
-const rangeEntries = 1 << 24
+// A worker gathers the values of a range of genes at once, in one pass over
+// the cells: at most rangeGenes genes, so that the places their keys are
+// written to stay in the cache, and at most rangeEntries entries (keys of 4
+// bytes: 64 MiB).
+const (
+	rangeGenes   = 512
+	rangeEntries = 1 << 24
+)
 
 // segment is a run of genes [lo, hi) that one worker compares.
 type segment struct{ lo, hi int }
@@ -60,14 +64,14 @@ func (e *Expression) rankSegment(ctx context.Context, seg segment, side []uint8,
 	}
 	var keys, buf []uint32
 	fill := make([]int64, 0, 64)
+	memo := new(expm1Memo)
 	for lo := seg.lo; lo < seg.hi; {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
-		// The range: genes lo … hi−1 with at most rangeEntries entries
-		// (at least one gene).
+		// The range: genes lo … hi−1 (at least one gene).
 		hi, n := lo, int64(0)
-		for hi < seg.hi && (hi == lo || n+e.geneNNZ[hi] <= rangeEntries) {
+		for hi < seg.hi && (hi == lo || n+e.geneNNZ[hi] <= rangeEntries && hi-lo < rangeGenes) {
 			n += e.geneNNZ[hi]
 			hi++
 		}
@@ -113,7 +117,7 @@ func (e *Expression) rankSegment(ctx context.Context, seg segment, side []uint8,
 			to := fill[g-lo]
 			gk := keys[from:to]
 			buf = slices.Grow(buf[:0], len(gk))[:len(gk)]
-			t.gene(&res[g], gk, buf)
+			t.gene(&res[g], gk, buf, memo)
 			res[g].Gene = g
 			from += e.geneNNZ[g]
 		}

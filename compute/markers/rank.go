@@ -111,10 +111,19 @@ func NewExpression(ctx context.Context, x *sparse.View) (*Expression, error) {
 		var cols []int32
 		var vals []float32
 		for c := lo; c < hi; c++ {
+			if !src.IsReal() {
+				// Counts are positive, so their values are too: only
+				// the columns are needed.
+				cols, vals = x.RowCounts(c, cols, vals)
+				for _, g := range cols {
+					nnz[g]++
+				}
+				continue
+			}
 			cols, vals = x.Row(c, cols, vals)
 			for p, g := range cols {
 				nnz[g]++
-				if v := vals[p]; src.IsReal() && (!(v >= 0) || math.IsInf(float64(v), 1)) {
+				if v := vals[p]; !(v >= 0) || math.IsInf(float64(v), 1) {
 					faults[lo/chunk] = &InputError{What: "expression", Cell: c, Gene: int(g),
 						Err: fmt.Errorf("%w: %v", ErrValue, v)}
 					return
@@ -295,7 +304,7 @@ type test struct {
 // non-zero values in the group and the reference, using buf (as long as
 // keys) as scratch space. A key holds a value's bits (order-preserving for
 // non-negative float32) above one bit that is 1 for the reference.
-func (t *test) gene(r *Result, keys, buf []uint32) {
+func (t *test) gene(r *Result, keys, buf []uint32, memo *expm1Memo) {
 	keys = radixSort(keys, buf)
 	nzIn := 0
 	for _, k := range keys {
@@ -320,7 +329,7 @@ func (t *test) gene(r *Result, keys, buf []uint32) {
 		r1 += float64(in) * (float64(zeros+i+1) + float64(zeros+j)) / 2
 		ties += cube(j-i) - int64(j-i)
 		v := float64(math.Float32frombits(keys[i] >> 1))
-		e := math.Expm1(v)
+		e := memo.expm1(keys[i] >> 1)
 		sum[group] += float64(in) * v
 		sum[reference] += float64(j-i-in) * v
 		sumExp[group] += float64(in) * e
@@ -351,6 +360,27 @@ func (t *test) gene(r *Result, keys, buf []uint32) {
 		MeanIn:        sum[group] / n1,
 		MeanOut:       sum[reference] / n2,
 	}
+}
+
+// expm1Memo remembers exp(v)−1 of recent float32 values v by their bits, in
+// a direct-mapped table: an atlas of counts holds few distinct values (a
+// count times one of few library sizes), and they recur from gene to gene.
+type expm1Memo struct {
+	bits [1 << memoBits]uint32
+	val  [1 << memoBits]float64
+}
+
+const memoBits = 16
+
+// expm1 returns math.Expm1 of the float32 with the given bits.
+func (m *expm1Memo) expm1(bits uint32) float64 {
+	h := (bits * 0x9e3779b1) >> (32 - memoBits)
+	if m.bits[h] == bits && bits != 0 {
+		return m.val[h]
+	}
+	e := math.Expm1(float64(math.Float32frombits(bits)))
+	m.bits[h], m.val[h] = bits, e
+	return e
 }
 
 func cube(x int) int64 { return int64(x) * int64(x) * int64(x) }

@@ -3,6 +3,7 @@ package sparse
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 )
 
@@ -85,28 +86,29 @@ func (m *Counts) largeIndex(k int64) int {
 // returns them.
 func (m *Counts) Row(i int, cols []int32, vals []float32) ([]int32, []float32) {
 	lo, hi := m.RowPtr[i], m.RowPtr[i+1]
-	cols, vals = cols[:0], vals[:0]
+	n := int(hi - lo)
+	cols, vals = slices.Grow(cols[:0], n)[:n], slices.Grow(vals[:0], n)[:n]
 	if m.Col32 != nil {
-		cols = append(cols, m.Col32[lo:hi]...)
+		copy(cols, m.Col32[lo:hi])
 	} else {
-		for _, c := range m.Col16[lo:hi] {
-			cols = append(cols, int32(c))
+		for k, c := range m.Col16[lo:hi] {
+			cols[k] = int32(c)
 		}
 	}
 	if m.Real != nil {
-		return cols, append(vals, m.Real[lo:hi]...)
+		copy(vals, m.Real[lo:hi])
+		return cols, vals
 	}
 	large := -1
 	for k, s := range m.Small[lo:hi] {
-		if s != LargeMark {
-			vals = append(vals, float32(s))
-			continue
+		vals[k] = float32(s)
+		if s == LargeMark {
+			if large < 0 {
+				large = m.largeIndex(lo + int64(k))
+			}
+			vals[k] = m.LargeVal[large]
+			large++
 		}
-		if large < 0 {
-			large = m.largeIndex(lo + int64(k))
-		}
-		vals = append(vals, m.LargeVal[large])
-		large++
 	}
 	return cols, vals
 }
@@ -126,8 +128,43 @@ func (m *Counts) Find(i, j int) int64 {
 	if j >= MaxCols16 || j < 0 {
 		return -1
 	}
-	if k := Search16(m.Col16[lo:hi], uint16(j)); k >= 0 {
+	// Genes are spread over the columns about evenly, so the column's
+	// share of the columns is a good guess of its place in the row.
+	n := hi - lo
+	guess := int(uint64(j) * uint64(n) / uint64(max(1, m.Cols)))
+	if k := SearchFrom16(m.Col16[lo:hi], uint16(j), guess); k >= 0 {
 		return lo + int64(k)
+	}
+	return -1
+}
+
+// SearchFrom16 is Search16 starting from a guess of the position: it
+// gallops from the guess (1, 2, 4 … places) to bracket j, then searches the
+// bracket, so a good guess touches a cache line or two instead of the log₂
+// of the length.
+func SearchFrom16(c []uint16, j uint16, guess int) int {
+	n := len(c)
+	if n == 0 {
+		return -1
+	}
+	g := max(0, min(guess, n-1))
+	var lo, hi int // j, if present, lies in c[lo:hi]
+	if c[g] < j {
+		lo, hi = g+1, g+1
+		for step := 1; hi < n && c[hi] < j; step *= 2 {
+			lo = hi + 1
+			hi = min(n, hi+step)
+		}
+		hi = min(n, hi+1)
+	} else {
+		lo, hi = g, g+1
+		for step := 1; lo > 0 && c[lo-1] >= j; step *= 2 {
+			hi = lo
+			lo = max(0, lo-step)
+		}
+	}
+	if k := Search16(c[lo:hi], j); k >= 0 {
+		return lo + k
 	}
 	return -1
 }

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync/atomic"
 
 	"lodestone/compute/parallel"
 )
@@ -18,6 +19,9 @@ import (
 func LogNorm(x float32, scale float64) float32 {
 	return float32(math.Log1p(float64(x) * scale))
 }
+
+// sink keeps the loads Column makes ahead of time from being left out.
+var sink atomic.Uint32
 
 // normTable is the number of small counts whose normalised value a row
 // decoder remembers while it decodes one row.
@@ -286,15 +290,28 @@ func (v *View) Column(j int, dst []float32, threads int) []float32 {
 	}
 	dst = dst[:n]
 	src := v.cols[j]
+	x := v.x
 	parallel.For(n, threads, func(lo, hi, _ int) {
+		var touched uint16
 		for i := lo; i < hi; i++ {
-			k := v.x.Find(v.rows[i], src)
+			// Read where the column is likely to be in the row 8 rows
+			// ahead: that load waits on memory alongside this row's
+			// search instead of after it.
+			if a := i + 8; a < hi && x.Col32 == nil {
+				r := v.rows[a]
+				s, e := x.RowPtr[r], x.RowPtr[r+1]
+				if e > s {
+					touched ^= x.Col16[s+int64(uint64(src)*uint64(e-s)/uint64(max(1, x.Cols)))]
+				}
+			}
+			k := x.Find(v.rows[i], src)
 			if k < 0 {
 				dst[i] = 0
 				continue
 			}
-			dst[i] = v.Value(i, v.x.Value(k))
+			dst[i] = v.Value(i, x.Value(k))
 		}
+		sink.Store(uint32(touched))
 	})
 	return dst
 }

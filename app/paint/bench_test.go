@@ -1,0 +1,121 @@
+package paint
+
+import (
+	"math/rand/v2"
+	"sync"
+	"testing"
+
+	"lodestone/compute/sparse"
+	"lodestone/internal/cputime"
+)
+
+// benchView is a log-normalised view of 200,000 cells × 20,000 genes with
+// 1,100 counts per cell (2.2·10^8 counts, the density of a real atlas),
+// genes spread at random, library sizes (whole counts) of 800 to 3,800,
+// built once.
+var benchView = sync.OnceValue(func() *sparse.View {
+	const cells, genes, perCell = 200_000, 20_000, 1_100
+	rng := rand.New(rand.NewPCG(1, 2))
+	b := sparse.NewCountsBuilder(cells, genes, cells*perCell)
+	scale := make([]float64, cells)
+	for i := range cells {
+		// Geometric gaps give about perCell genes, ascending.
+		for j := rng.IntN(2 * genes / perCell); j < genes; j += 1 + rng.IntN(2*genes/perCell) {
+			b.Add(j, float32(1+rng.IntN(4)))
+		}
+		b.EndRow()
+		scale[i] = 1e4 / float64(800+rng.IntN(3000)) // a library size in counts
+	}
+	v, err := sparse.NewView(b.Counts(), nil, nil, 0)
+	if err == nil {
+		v, err = v.WithScale(scale)
+	}
+	if err != nil {
+		panic(err)
+	}
+	return v
+})
+
+// BenchmarkGenePaint200k paints the map by one gene: its column read by a
+// search in every cell's row, then the ramp (99th percentile) and colours.
+// ns/cell times a million estimates the time at a million cells.
+func BenchmarkGenePaint200k(b *testing.B) {
+	v := benchView()
+	n, g := v.Dims()
+	b.ResetTimer()
+	start := cputime.Used()
+	gene := 0
+	for b.Loop() {
+		GenePaint("g", GeneValues(v, gene%g))
+		gene += 7919
+	}
+	cputime.Report(b, start)
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(n), "ns/cell")
+}
+
+// geneMajor is the alternative to searching every row: a copy of the counts
+// by gene (cell index and count of every entry, 5 bytes each), built once.
+type geneMajor struct {
+	ptr   []int64
+	cells []int32
+	count []uint8
+}
+
+func buildGeneMajor(v *sparse.View) *geneMajor {
+	x, rows, _ := v.Source()
+	_, g := v.Dims()
+	t := &geneMajor{ptr: make([]int64, g+1)}
+	for _, c := range x.Col16 {
+		t.ptr[c+1]++
+	}
+	for j := range g {
+		t.ptr[j+1] += t.ptr[j]
+	}
+	next := append([]int64(nil), t.ptr[:g]...)
+	t.cells = make([]int32, x.NNZ())
+	t.count = make([]uint8, x.NNZ())
+	for i, r := range rows {
+		for k := x.RowPtr[r]; k < x.RowPtr[r+1]; k++ {
+			c := x.Col16[k]
+			t.cells[next[c]], t.count[next[c]] = int32(i), x.Small[k]
+			next[c]++
+		}
+	}
+	return t
+}
+
+// BenchmarkGeneMajorBuild200k builds the copy by gene that painting by a
+// gene would need instead of a search in every row.
+func BenchmarkGeneMajorBuild200k(b *testing.B) {
+	v := benchView()
+	b.ResetTimer()
+	start := cputime.Used()
+	var t *geneMajor
+	for b.Loop() {
+		t = buildGeneMajor(v)
+	}
+	cputime.Report(b, start)
+	b.ReportMetric(float64(len(t.cells))*5/(1<<20), "MiB")
+}
+
+// BenchmarkGeneMajorPaint200k paints by a gene read from that copy.
+func BenchmarkGeneMajorPaint200k(b *testing.B) {
+	v := benchView()
+	t := buildGeneMajor(v)
+	n, g := v.Dims()
+	scale := v.Scale()
+	b.ResetTimer()
+	start := cputime.Used()
+	gene := 0
+	for b.Loop() {
+		j := gene % g
+		values := make([]float64, n)
+		for k := t.ptr[j]; k < t.ptr[j+1]; k++ {
+			c := t.cells[k]
+			values[c] = float64(sparse.LogNorm(float32(t.count[k]), scale[c]))
+		}
+		GenePaint("g", values)
+		gene += 7919
+	}
+	cputime.Report(b, start)
+}
