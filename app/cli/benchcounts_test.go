@@ -44,7 +44,7 @@ func TestBenchCountsAtlas(t *testing.T) {
 			t.Fatalf("gzip %v: the atlas read back differs from the one generated", gz)
 		}
 	}
-	if _, err := os.Stat(filepath.Join(atlasDir(data, opt.Cells, opt.Genes, false)+".partial")); !os.IsNotExist(err) {
+	if _, err := os.Stat(filepath.Join(atlasDir(data, opt.Cells, opt.Genes, false) + ".partial")); !os.IsNotExist(err) {
 		t.Error("a partial folder was left behind")
 	}
 	// A second call reuses the folder.
