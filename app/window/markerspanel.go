@@ -63,7 +63,7 @@ type markersPanel struct {
 	sortCol    int
 	sortDesc   bool
 	expr       *markers.Expression
-	exprOf     *sparse.CSR // the matrix expr was made from
+	exprOf     *sparse.View // the matrix expr was made from
 	ranking    bool
 	groupCount int // groups seen, to notice a new one
 }
