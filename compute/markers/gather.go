@@ -46,7 +46,8 @@ func (e *Expression) segments(threads int) []segment {
 
 // rankSegment compares the genes of seg, range by range: each range's
 // values are gathered in one pass over the cells of both sides, as sort keys
-// in one bucket per gene, then each gene is tested.
+// in one region per gene (keys of values in the dictionary from its start,
+// the others from its end), then each gene is tested.
 func (e *Expression) rankSegment(ctx context.Context, seg segment, side []uint8, t *test, res []Result, counter *progress.Counter) error {
 	if seg.lo >= seg.hi {
 		return nil
@@ -54,6 +55,8 @@ func (e *Expression) rankSegment(ctx context.Context, seg segment, side []uint8,
 	x := e.x
 	src, rows, cols := x.Source()
 	scale := x.Scale()
+	colOf := x.ColumnMap()
+	d := e.dict
 	// cursor[c]: where cell c's row continues, from the row's start.
 	cursor := make([]int32, e.cells)
 	first := cols[seg.lo]
@@ -63,7 +66,8 @@ func (e *Expression) rankSegment(ctx context.Context, seg segment, side []uint8,
 		}
 	}
 	var keys, buf []uint32
-	fill := make([]int64, 0, 64)
+	front := make([]int64, 0, rangeGenes) // next key of each gene's dictionary values
+	back := make([]int64, 0, rangeGenes)  // last key written of its other values
 	memo := new(expm1Memo)
 	for lo := seg.lo; lo < seg.hi; {
 		if err := ctx.Err(); err != nil {
@@ -76,11 +80,12 @@ func (e *Expression) rankSegment(ctx context.Context, seg segment, side []uint8,
 			hi++
 		}
 		keys = slices.Grow(keys[:0], int(n))[:n]
-		fill = fill[:0]
+		front, back = front[:0], back[:0]
 		var off int64
 		for g := lo; g < hi; g++ {
-			fill = append(fill, off)
+			front = append(front, off)
 			off += e.geneNNZ[g]
+			back = append(back, off)
 		}
 		last := cols[hi-1]
 		for c, r := range rows {
@@ -93,6 +98,39 @@ func (e *Expression) rankSegment(ctx context.Context, seg segment, side []uint8,
 			}
 			start, end := src.RowPtr[r], src.RowPtr[r+1]
 			k := start + int64(cursor[c])
+			var ids []int32 // the numbers of this cell's small counts
+			if d != nil && scale[c] > 0 {
+				k0 := int(d.classOf[c]) * d.counts
+				ids = d.id[k0 : k0+d.counts]
+			}
+			if ids != nil && src.Col32 == nil {
+				// Counts with 16-bit columns: the common case, in a loop
+				// of its own.
+				col16, small := src.Col16[:end], src.Small[:end]
+				for ; k < end; k++ {
+					j := col16[k]
+					if int(j) > last {
+						break
+					}
+					g := int32(j)
+					if colOf != nil {
+						if g = colOf[j]; g < 0 {
+							continue
+						}
+					}
+					if n := int(small[k]); n <= len(ids) {
+						f := &front[int(g)-lo]
+						keys[*f] = uint32(ids[n-1])<<1 | uint32(s-1)
+						*f++
+						continue
+					}
+					v := sparse.LogNorm(src.Value(k), scale[c])
+					back[int(g)-lo]--
+					keys[back[int(g)-lo]] = math.Float32bits(v)<<1 | uint32(s-1)
+				}
+				cursor[c] = int32(k - start)
+				continue
+			}
 			for ; k < end; k++ {
 				j := src.Col(k)
 				if j > last {
@@ -102,43 +140,39 @@ func (e *Expression) rankSegment(ctx context.Context, seg segment, side []uint8,
 				if g < 0 {
 					continue
 				}
-				v := e.value(src, scale, c, k)
+				if ids != nil {
+					if n := int(src.Small[k]); n <= len(ids) {
+						keys[front[g-lo]] = uint32(ids[n-1])<<1 | uint32(s-1)
+						front[g-lo]++
+						continue
+					}
+				}
+				v := src.Value(k)
+				if scale != nil {
+					v = sparse.LogNorm(v, scale[c])
+				}
 				if v == 0 {
 					continue
 				}
-				b := &fill[g-lo]
-				keys[*b] = math.Float32bits(v)<<1 | uint32(s-1)
-				*b++
+				back[g-lo]--
+				keys[back[g-lo]] = math.Float32bits(v)<<1 | uint32(s-1)
 			}
 			cursor[c] = int32(k - start)
 		}
 		var from int64
 		for g := lo; g < hi; g++ {
-			to := fill[g-lo]
-			gk := keys[from:to]
-			buf = slices.Grow(buf[:0], len(gk))[:len(gk)]
-			t.gene(&res[g], gk, buf, memo)
+			to := from + e.geneNNZ[g]
+			known, other := keys[from:front[g-lo]], keys[back[g-lo]:to]
+			size := len(known) + len(other)
+			buf = slices.Grow(buf[:0], size)[:size]
+			t.gene(&res[g], known, other, buf, d, memo)
 			res[g].Gene = g
-			from += e.geneNNZ[g]
+			from = to
 		}
 		counter.Add(int64(hi - lo))
 		lo = hi
 	}
 	return nil
-}
-
-// value returns the expression of cell c held at entry k of the source.
-func (e *Expression) value(src *sparse.Counts, scale []float64, c int, k int64) float32 {
-	if e.small != nil {
-		if s := src.Small[k]; s <= smallCounts {
-			return e.small[c*smallCounts+int(s)-1]
-		}
-	}
-	v := src.Value(k)
-	if scale != nil {
-		return sparse.LogNorm(v, scale[c])
-	}
-	return v
 }
 
 // lowerBound returns the position, from the start of row r of m, of the
@@ -156,6 +190,44 @@ func lowerBound(m *sparse.Counts, r, j int) int {
 		}
 	}
 	return a
+}
+
+// radixSortBits sorts keys below 2^bits in ascending order, as radixSort
+// does, in passes of 12 bits: two for keys of up to 24 bits.
+func radixSortBits(keys, buf []uint32, bits uint) []uint32 {
+	if len(keys) < 64 {
+		slices.Sort(keys)
+		return keys
+	}
+	if bits > 24 {
+		return radixSort(keys, buf)
+	}
+	const digit = 12
+	var count [2][1 << digit]int
+	for _, k := range keys {
+		count[0][k&(1<<digit-1)]++
+		count[1][k>>digit&(1<<digit-1)]++
+	}
+	for p := uint(0); p*digit < bits && p < 2; p++ {
+		shift := p * digit
+		c := &count[p]
+		if c[keys[0]>>shift&(1<<digit-1)] == len(keys) {
+			continue // every key has this digit
+		}
+		var pos [1 << digit]int
+		sum := 0
+		for b := range pos {
+			pos[b] = sum
+			sum += c[b]
+		}
+		for _, k := range keys {
+			b := k >> shift & (1<<digit - 1)
+			buf[pos[b]] = k
+			pos[b]++
+		}
+		keys, buf = buf, keys
+	}
+	return keys
 }
 
 // radixSort sorts keys in ascending order with buf (as long as keys) as

@@ -66,18 +66,14 @@ type Result struct {
 // to compare any number of groups of cells. It reads the values from a view
 // (sparse.View) gene range by gene range as each comparison needs them, so
 // it holds no copy of the matrix: only the number of entries of each gene
-// and, for a log-normalised view of counts, each cell's normalised values of
-// the counts 1 … smallCounts (64 bytes a cell).
+// and, for a log-normalised view of counts, a dictionary of the values of
+// small counts (see dictionary).
 type Expression struct {
 	cells, genes int
 	x            *sparse.View
-	geneNNZ      []int64   // stored entries of each gene
-	small        []float32 // cell c, count k: small[c·smallCounts+k−1]; nil unless x normalises counts
+	geneNNZ      []int64     // stored entries of each gene
+	dict         *dictionary // nil unless x normalises counts
 }
-
-// smallCounts is the number of small counts whose normalised value
-// Expression keeps for each cell.
-const smallCounts = 16
 
 // NewExpression checks x (cells × genes, log-normalised, non-negative) and
 // prepares it for comparisons; x is not modified and is kept. It returns an
@@ -145,15 +141,8 @@ func NewExpression(ctx context.Context, x *sparse.View) (*Expression, error) {
 			e.geneNNZ[g] += n
 		}
 	}
-	if scale != nil && !src.IsReal() {
-		e.small = make([]float32, cells*smallCounts)
-		parallel.For(cells, threads, func(lo, hi, _ int) {
-			for c := lo; c < hi; c++ {
-				for k := 1; k <= smallCounts; k++ {
-					e.small[c*smallCounts+k-1] = sparse.LogNorm(float32(k), scale[c])
-				}
-			}
-		})
+	if !src.IsReal() {
+		e.dict = newDictionary(scale)
 	}
 	return e, ctx.Err()
 }
@@ -300,46 +289,80 @@ type test struct {
 	eps        float64
 }
 
-// gene fills r with the comparison of one gene from the keys of its
-// non-zero values in the group and the reference, using buf (as long as
-// keys) as scratch space. A key holds a value's bits (order-preserving for
-// non-negative float32) above one bit that is 1 for the reference.
-func (t *test) gene(r *Result, keys, buf []uint32, memo *expm1Memo) {
-	keys = radixSort(keys, buf)
-	nzIn := 0
-	for _, k := range keys {
-		nzIn += int(1 - k&1)
+// gene fills r with the comparison of one gene from the sort keys of its
+// non-zero values in the group and the reference: keys of values numbered by
+// the dictionary d (number above one bit that is 1 for the reference), and
+// keys of the other values (their bits, order-preserving for non-negative
+// float32, above the same bit). buf (as long as both together) is scratch
+// space. The values are walked in ascending order, equal ones of both kinds
+// forming one block of ties.
+func (t *test) gene(r *Result, known, other, buf []uint32, d *dictionary, memo *expm1Memo) {
+	if d != nil {
+		known = radixSortBits(known, buf[:len(known)], d.bits+1)
 	}
+	other = radixSort(other, buf[len(known):len(known)+len(other)])
+	nz := len(known) + len(other)
 	n1, n2 := float64(t.n1), float64(t.n2)
 	n := t.n1 + t.n2
-	zeros := n - len(keys)
-	zerosIn := t.n1 - nzIn
-	// Ranks 1…zeros share the mid-rank (zeros+1)/2.
-	r1 := float64(zerosIn) * float64(zeros+1) / 2
+	zeros := n - nz
+	// r1 and ties are sums of half-integers and integers below 2^52, exact
+	// in any order; sum and sumExp are taken block by block of equal values,
+	// in ascending order of the values.
+	var r1 float64
 	ties := cube(zeros) - int64(zeros)
-	// Sums of x and eˣ−1 on each side, taken block by block of equal values.
 	var sum, sumExp [3]float64
-	for i := 0; i < len(keys); {
-		j, in := i, 0
-		for j < len(keys) && keys[j]>>1 == keys[i]>>1 {
-			in += int(1 - keys[j]&1)
-			j++
+	nzIn := 0
+	i, a, b := 0, 0, 0 // entries ranked; next of known; next of other
+	for a < len(known) || b < len(other) {
+		var v float32
+		var e float64
+		in, size := 0, 0
+		if b < len(other) && (a == len(known) || math.Float32frombits(other[b]>>1) < d.v[known[a]>>1]) {
+			// A block of values outside the dictionary only.
+			key := other[b] >> 1
+			v, e = math.Float32frombits(key), memo.expm1(key)
+			for b < len(other) && other[b]>>1 == key {
+				in += int(1 - other[b]&1)
+				size++
+				b++
+			}
+		} else {
+			// A block of a value of the dictionary, with the equal values
+			// outside it.
+			id := known[a] >> 1
+			v, e = d.v[id], d.e[id]
+			a0 := a
+			for a < len(known) && known[a]>>1 == id {
+				in += int(known[a] & 1)
+				a++
+			}
+			size = a - a0
+			in = size - in
+			for b < len(other) && math.Float32frombits(other[b]>>1) == v {
+				in += int(1 - other[b]&1)
+				size++
+				b++
+			}
 		}
+		j := i + size
 		// The block holds ranks zeros+i+1 … zeros+j.
 		r1 += float64(in) * (float64(zeros+i+1) + float64(zeros+j)) / 2
-		ties += cube(j-i) - int64(j-i)
-		v := float64(math.Float32frombits(keys[i] >> 1))
-		e := memo.expm1(keys[i] >> 1)
-		sum[group] += float64(in) * v
-		sum[reference] += float64(j-i-in) * v
+		ties += cube(size) - int64(size)
+		x := float64(v)
+		sum[group] += float64(in) * x
+		sum[reference] += float64(size-in) * x
 		sumExp[group] += float64(in) * e
-		sumExp[reference] += float64(j-i-in) * e
+		sumExp[reference] += float64(size-in) * e
+		nzIn += in
 		i = j
 	}
+	// Ranks 1…zeros share the mid-rank (zeros+1)/2.
+	zerosIn := t.n1 - nzIn
+	r1 += float64(zerosIn) * float64(zeros+1) / 2
 	u := r1 - n1*(n1+1)/2
-	d := u - n1*n2/2
+	d2 := u - n1*n2/2
 	if t.continuity {
-		d = math.Copysign(max(math.Abs(d)-0.5, 0), d)
+		d2 = math.Copysign(max(math.Abs(d2)-0.5, 0), d2)
 	}
 	// (n+1) − Σ(t³−t)/(n(n−1)) = (n³−n − Σ(t³−t)) / (n(n−1)), the numerator
 	// exact in int64 for n below 2·10⁶.
@@ -347,7 +370,7 @@ func (t *test) gene(r *Result, keys, buf []uint32, memo *expm1Memo) {
 	z, p := 0.0, 1.0
 	if spread > 0 {
 		sigma := math.Sqrt(n1 * n2 / 12 * float64(spread) / (float64(n) * float64(n-1)))
-		z = d / sigma
+		z = d2 / sigma
 		p = math.Erfc(math.Abs(z) / math.Sqrt2)
 	}
 	*r = Result{
@@ -356,7 +379,7 @@ func (t *test) gene(r *Result, keys, buf []uint32, memo *expm1Memo) {
 		Z:             z,
 		P:             p,
 		FractionIn:    float64(nzIn) / n1,
-		FractionOut:   float64(len(keys)-nzIn) / n2,
+		FractionOut:   float64(nz-nzIn) / n2,
 		MeanIn:        sum[group] / n1,
 		MeanOut:       sum[reference] / n2,
 	}

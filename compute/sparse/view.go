@@ -164,6 +164,10 @@ func (v *View) ColumnOf(j int) int {
 	return int(v.colOf[j])
 }
 
+// ColumnMap returns, per column of the source, the view's column or −1, or
+// nil when the view keeps every column. The slice must not be modified.
+func (v *View) ColumnMap() []int32 { return v.colOf }
+
 // Scale returns the factor of each row, or nil when values are read as
 // stored. The slice must not be modified.
 func (v *View) Scale() []float64 { return v.scale }
