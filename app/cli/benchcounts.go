@@ -408,7 +408,7 @@ func benchCountsRun(ctx context.Context, w io.Writer, dir string, iterations, th
 	current = ""
 	mu.Unlock()
 	opt := &live.TSNE{P: p.P, Seed: seed, Threads: threads}
-	if _, err := opt.Run(ctx, p.Init, 1, iterations, true, nil); err != nil {
+	if _, err := opt.Run(ctx, p.Init, live.RunOptions{Attraction: 1, Iterations: iterations, Early: true}, nil); err != nil {
 		return err
 	}
 	mark(fmt.Sprintf("embedding, %d iterations", iterations))
