@@ -185,11 +185,13 @@ type Paint struct {
 	Hidden []bool `json:"hidden,omitempty"` // per level of a categorical column, then missing
 }
 
-// View is the part of the map on screen.
+// View is the part of the map on screen, in the screen's logical pixels
+// (files written before the window measured views in logical pixels hold
+// device pixels, the same on screens that do not scale).
 type View struct {
 	CenterX float64 `json:"center_x"`
 	CenterY float64 `json:"center_y"`
-	Scale   float64 `json:"scale"` // device pixels per data unit
+	Scale   float64 `json:"scale"` // logical pixels per data unit
 	Width   int     `json:"width"`
 	Height  int     `json:"height"`
 	Pinned  bool    `json:"pinned"` // false: the view fits the layout

@@ -31,20 +31,21 @@ type viewMark struct {
 	perplex  string
 	painted  string
 	groupsOn int
+	errors   int // errors shown in dialogs
 }
 
 func markView(v *atlasView) viewMark {
 	return viewMark{layout: v.st.layout, runs: v.st.run.Runs, running: v.st.run.Running, scores: v.st.scores,
 		ready: v.st.ready, note: v.status.note.Text, markers: len(v.markers.results), sweeps: len(v.sweep.grid.Objects),
 		info: v.sweep.info.Text + "|" + v.markers.info.Text, columns: len(v.st.prep.Annotations),
-		perplex: v.run.perplexity.Text, painted: v.st.paint.Name, groupsOn: len(v.st.groups)}
+		perplex: v.run.perplexity.Text, painted: v.st.paint.Name, groupsOn: len(v.st.groups), errors: len(v.u.errorsShown)}
 }
 
 func (a viewMark) same(b viewMark) bool {
 	return sameLayout(a.layout, b.layout) && a.runs == b.runs && a.running == b.running &&
 		sameLayout(a.scores.layout, b.scores.layout) && a.scores.text == b.scores.text && a.ready == b.ready &&
 		a.note == b.note && a.markers == b.markers && a.sweeps == b.sweeps && a.info == b.info &&
-		a.columns == b.columns && a.perplex == b.perplex && a.painted == b.painted && a.groupsOn == b.groupsOn
+		a.columns == b.columns && a.perplex == b.perplex && a.painted == b.painted && a.groupsOn == b.groupsOn && a.errors == b.errors
 }
 
 // TestClosingTheViewEndsEveryJob starts each kind of background job of an
