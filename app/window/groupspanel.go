@@ -110,7 +110,7 @@ func (g *groupsPanel) fromSelection() {
 		g.st.tell(fmt.Sprintf("these %s cells are %s already", count(n), old.Name))
 		return
 	}
-	gr := &paint.Group{Name: g.freeName(), Colour: groupColour(len(g.st.groups)), Cells: sel, Count: n}
+	gr := &paint.Group{Name: g.freeName(), Colour: groupColour(len(g.st.groups)), Cells: append([]bool(nil), sel...), Count: n}
 	g.st.setGroups(append(g.st.groups, gr))
 	g.choose(len(g.st.groups) - 1)
 	g.reveal()

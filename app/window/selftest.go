@@ -26,8 +26,9 @@ import (
 // screenshot, turns the dial to Options.SelfTestDial, waits for the rerun
 // to end, saves a second screenshot, checks that the map is not blank, and
 // quits with status 0 (or 1 on any failure). With Options.SelfTestTour it
-// goes on to rank the markers of a state and run a short sweep, saving a
-// screenshot of each (the README's).
+// goes on to rank the markers of a state, open their expression plot, make
+// a group, show the Atlas tab and run a short sweep, saving a screenshot of
+// each (some are the README's).
 
 // selfTestLimit is how long the self-test may take before it fails.
 const selfTestLimit = 10 * time.Minute
@@ -167,6 +168,18 @@ func (t *selfTest) script() {
 	t.ui(func() { plot = v.plots.open[0].win })
 	t.shotOf(plot, "expression.png")
 	t.ui(plot.Close)
+
+	t.ui(func() {
+		// A lasso around the left half of the map, made into a group.
+		if x0, x1, y0, y1, ok := lcanvas.FitBox(v.st.layout); ok {
+			xm := (x0 + x1) / 2
+			v.mapP.mapView.ApplyLasso([]float64{x0, y0, xm, y0, xm, y1, x0, y1}, false)
+		}
+		v.mapP.makeGroup.OnTapped()
+	})
+	t.shot("groups.png")
+	t.ui(func() { v.reveal(tabAtlas) })
+	t.shot("atlas.png")
 
 	t.ui(func() {
 		v.reveal(tabSweep)
