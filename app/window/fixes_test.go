@@ -67,7 +67,7 @@ func TestExpressionPlotOfADayShowsAndSaves(t *testing.T) {
 			t.Errorf("the plot shows %d genes, want the top %d markers", len(w.table.Genes), len(want))
 		}
 		for k, g := range want {
-			if k < len(w.table.Genes) && w.table.Genes[k] != geneLabel(v.st.prep.GeneSymbols[g], v.st.prep.GeneIDs[g]) {
+			if k < len(w.table.Genes) && w.table.Genes[k] != geneName(v.st.prep, g) {
 				t.Errorf("gene %d of the plot is %q", k, w.table.Genes[k])
 			}
 		}

@@ -20,6 +20,7 @@ import (
 	"lodestone/canvas/figure"
 	"lodestone/compute/atlas"
 	"lodestone/compute/markers"
+	"lodestone/compute/pipeline"
 	"lodestone/compute/sparse"
 )
 
@@ -377,10 +378,7 @@ func (m *markersPanel) cell(row, col int) string {
 	r := m.results[row]
 	switch col {
 	case 0:
-		if sym := m.st.prep.GeneSymbols[r.Gene]; sym != "" {
-			return sym
-		}
-		return m.st.prep.GeneIDs[r.Gene]
+		return geneName(m.st.prep, r.Gene)
 	case 1:
 		return fmt.Sprintf("%.2f", r.LogFoldChange)
 	case 2:
@@ -442,6 +440,15 @@ func sortResults(res []markers.Result, col int, desc bool, symbols []string) {
 		}
 		return ka < kb
 	})
+}
+
+// geneName names gene g as the table and the plot do: by its symbol, or
+// its ID when it has none.
+func geneName(p *pipeline.Prepared, g int) string {
+	if sym := p.GeneSymbols[g]; sym != "" {
+		return sym
+	}
+	return p.GeneIDs[g]
 }
 
 // fileStem turns a comparison's label into part of a file name.
@@ -521,7 +528,7 @@ func (m *markersPanel) plot() {
 	}
 	geneNames := make([]string, len(genes))
 	for k, g := range genes {
-		geneNames[k] = geneLabel(m.st.prep.GeneSymbols[g], m.st.prep.GeneIDs[g])
+		geneNames[k] = geneName(m.st.prep, g)
 	}
 	names, codes := m.plotRows(m.compared.source)
 	x := m.st.prep.Expression

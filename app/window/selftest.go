@@ -183,6 +183,7 @@ func (t *selfTest) script() {
 
 	t.ui(func() {
 		v.reveal(tabSweep)
+		v.sweep.label.SetSelected("state")
 		v.sweep.values.SetText("1, 4, 30, inf")
 		v.run.iterations.SetText("250")
 		v.sweep.run.OnTapped()
