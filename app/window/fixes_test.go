@@ -144,9 +144,18 @@ func TestMakeGroupTellsAndRefusesADuplicate(t *testing.T) {
 		if v.tabs.Selected().Text != tabGroups || v.status.note.Text != "these 120 cells are group 1 already" {
 			t.Errorf("tab %q, note %q after the second click", v.tabs.Selected().Text, v.status.note.Text)
 		}
+		// The label of a large selection does not widen the map's strip
+		// (and with it the window).
+		v.mapP.mapView.ClearSelection()
+		before := v.mapP.content().MinSize().Width
+		selectFirst(v, v.st.cells())
+		test.Tap(v.mapP.makeGroup)
+		if after := v.mapP.content().MinSize().Width; after != before {
+			t.Errorf("the map's strip needs %v pixels with %q, %v with nothing selected", after, v.mapP.selLabel.Text, before)
+		}
 		selectFirst(v, 200)
 		test.Tap(v.mapP.makeGroup)
-		if len(v.st.groups) != 2 || v.st.groups[1].Name != "group 2" || v.st.groups[1].Count != 200 {
+		if len(v.st.groups) != 3 || v.st.groups[2].Name != "group 3" || v.st.groups[2].Count != 200 {
 			t.Errorf("groups after a new selection: %d", len(v.st.groups))
 		}
 	})

@@ -7,7 +7,6 @@ import (
 	"fyne.io/fyne/v2"
 	fynecanvas "fyne.io/fyne/v2/canvas"
 	"fyne.io/fyne/v2/container"
-	"fyne.io/fyne/v2/layout"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 
@@ -73,13 +72,19 @@ func newMapPanel(st *atlasState, key fyne.CanvasObject, makeGroup func()) *mapPa
 	m.ink = widget.NewSlider(0.1, 1)
 	m.ink.Step = 0.05
 	m.ink.OnChanged = func(o float64) { r, _ := m.mapView.PointStyle(); m.mapView.SetPointStyle(r, o) }
+	// The selection's label takes the room left and cuts its text rather
+	// than widen the window.
 	m.selLabel = widget.NewLabel("nothing selected")
+	m.selLabel.Alignment = fyne.TextAlignTrailing
+	m.selLabel.Truncation = fyne.TextTruncateEllipsis
 	m.makeGroup = widget.NewButtonWithIcon("Make a group", theme.ContentAddIcon(), makeGroup)
 	m.clearSel = widget.NewButtonWithIcon("", theme.ContentClearIcon(), m.mapView.ClearSelection)
-	strip := container.NewHBox(m.tools, m.fit, widget.NewSeparator(),
-		widget.NewLabel("dot"), container.NewGridWrap(fyne.NewSize(90, 36), m.dot),
-		widget.NewLabel("ink"), container.NewGridWrap(fyne.NewSize(90, 36), m.ink),
-		layout.NewSpacer(), m.selLabel, m.makeGroup, m.clearSel)
+	strip := container.NewBorder(nil, nil,
+		container.NewHBox(m.tools, m.fit, widget.NewSeparator(),
+			widget.NewLabel("dot"), container.NewGridWrap(fyne.NewSize(80, 36), m.dot),
+			widget.NewLabel("ink"), container.NewGridWrap(fyne.NewSize(80, 36), m.ink)),
+		container.NewHBox(m.makeGroup, m.clearSel),
+		m.selLabel)
 
 	m.fold = widget.NewButtonWithIcon("", theme.MenuExpandIcon(), func() { m.showKey(false) })
 	m.fold.Importance = widget.LowImportance
