@@ -160,17 +160,21 @@ type fftRepulsion struct {
 	blockH     float64
 	nearKernel []float64
 
-	// Per point: cell, Lagrange weights (x then y), and Σ_j w_ij.
+	// Per point: cell, Lagrange weights (x then y; in the points' order
+	// with the grid alone, in the sorted order with the near field), and
+	// Σ_j w_ij.
 	cellOf   []int32
 	wts      []float64
 	zval     []float64
 	cellWork []int64 // near field only: cumulative work of cells 0…c−1
 
-	// Points sorted by cell (near field only): cell start offsets, point ids
-	// and their coordinates in that order.
-	start  []int32
-	order  []int32
-	sx, sy []float64
+	// Points sorted by cell (near field only): cell start offsets, where
+	// each block of points starts in each cell (count), point ids and their
+	// coordinates in that order.
+	start      []int32
+	blockStart []int32
+	order      []int32
+	sx, sy     []float64
 	// Near field only: per cell, the charges on its nodes; cell boundaries
 	// of the parts handled by each thread; per part, the accumulated sums
 	// (K_x, K_y, K_w) for each sorted point.
@@ -282,14 +286,11 @@ func ladder(v float64) float64 {
 func (r *fftRepulsion) compute(dst, y []float64, bounds [4]float64, stop func() bool) (float64, bool) {
 	n := len(y) / 2
 	r.setGrid(y, bounds)
-	if !r.spread(n, stop) || !r.convolve(stop) {
-		return 0, false
-	}
 	var ok bool
 	if r.near {
-		ok = r.interpolateNear(dst, y, stop)
+		ok = r.spreadCells(stop) && r.convolve(stop) && r.interpolateNear(dst, stop)
 	} else {
-		ok = r.interpolate(dst, stop)
+		ok = r.spread(n, stop) && r.convolve(stop) && r.interpolate(dst, stop)
 	}
 	if !ok {
 		return 0, false
@@ -310,9 +311,11 @@ func (r *fftRepulsion) compute(dst, y []float64, bounds [4]float64, stop func() 
 	return z - float64(n), true
 }
 
-// setGrid chooses the cells for the layout y with the given bounding box,
-// locates every point, and, when the near field is corrected, sorts the
-// points by cell. It prepares the kernel spectra and buffers.
+// setGrid chooses the cells for the layout y with the given bounding box and
+// locates every point. With the grid alone it computes the points' Lagrange
+// weights in their own order; when the near field is corrected, it sorts
+// the points by cell and computes the weights in the sorted order. It
+// prepares the kernel spectra and buffers.
 func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 	const d = interpNodes - 1
 	n := len(y) / 2
@@ -372,15 +375,20 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 		}
 	}
 	place(best)
-	r.locate(y, true)
+	r.locate(y, false)
 	if r.near {
-		work0, _ = r.bin(y)
+		if work0, _ = r.bin(y); work0 > maxNearWork*int64(n) {
+			// Only a layout with a few points very far from the rest gets
+			// here (the cells are as narrow as the FFT allows and still
+			// crowded): the grid alone bounds the time of a call, at a loss
+			// of accuracy.
+			r.near = false
+		}
 	}
-	if r.near && work0 > maxNearWork*int64(n) {
-		// Only a layout with a few points very far from the rest gets here
-		// (the cells are as narrow as the FFT allows and still crowded): the
-		// grid alone bounds the time of a call, at a loss of accuracy.
-		r.near = false
+	if r.near {
+		r.sortedWeights()
+	} else {
+		r.locate(y, true)
 	}
 	r.finishGrid()
 }
@@ -442,20 +450,41 @@ func (r *fftRepulsion) axis(v, origin float64, cells int) (int, float64) {
 	return k, u - float64(k)
 }
 
-// tally counts the points of each cell into start (as offsets), splits the
-// cells into parts of about equal near-field work, and returns the work,
+// count counts the points of each cell, one block of points per thread,
+// and records in start where each cell's points begin in the order sorted
+// by cell (stable in point id), and in blockStart[b·cells + c] where those
+// of block b begin.
+func (r *fftRepulsion) count(n int) {
+	cells := r.nx * r.ny
+	blocks := len(parallel.Blocks(n, r.threads)) - 1
+	r.blockStart = grow32(r.blockStart, blocks*cells)
+	parallel.For(n, r.threads, func(lo, hi, b int) {
+		h := r.blockStart[b*cells : (b+1)*cells]
+		clear(h)
+		for _, c := range r.cellOf[lo:hi] {
+			h[c]++
+		}
+	})
+	r.start = grow32(r.start, cells+1)
+	var at int32
+	for c := 0; c < cells; c++ {
+		r.start[c] = at
+		for b := 0; b < blocks; b++ {
+			k := r.blockStart[b*cells+c]
+			r.blockStart[b*cells+c] = at
+			at += k
+		}
+	}
+	r.start[cells] = at
+}
+
+// tally counts the points of each cell (count), splits the cells into parts
+// of about equal near-field work, and returns the work,
 // Σ_c n_c Σ_{c' adjacent or equal} n_c' (each pair counted twice), and the
 // number of occupied cells.
 func (r *fftRepulsion) tally(n int) (int64, int) {
 	cells := r.nx * r.ny
-	r.start = grow32(r.start, cells+1)
-	clear(r.start)
-	for _, c := range r.cellOf[:n] {
-		r.start[c+1]++
-	}
-	for c := 0; c < cells; c++ {
-		r.start[c+1] += r.start[c]
-	}
+	r.count(n)
 	// Work per cell: its pairs with the cells around it, plus the fixed
 	// cost of its node potentials (worth about 4·cellNodes pairs).
 	r.cellWork = grow64(r.cellWork, cells+1)
@@ -492,25 +521,40 @@ func (r *fftRepulsion) tally(n int) (int64, int) {
 	return work, occupied
 }
 
-// bin sorts the points by cell (counting sort, stable in point id) and
+// bin sorts the points by cell (counting sort, stable in point id; each
+// block of points placed by its own thread from tally's block offsets) and
 // returns tally's work and occupied cells.
 func (r *fftRepulsion) bin(y []float64) (int64, int) {
 	n, cells := len(y)/2, r.nx*r.ny
 	work, occupied := r.tally(n)
 	r.order = grow32(r.order, n)
 	r.sx, r.sy = grow(r.sx, n), grow(r.sy, n)
-	next := r.start[:cells] // reuse as fill cursors, then restore
-	for i := 0; i < n; i++ {
-		c := r.cellOf[i]
-		k := next[c]
-		r.order[k] = int32(i)
-		r.sx[k], r.sy[k] = y[2*i], y[2*i+1]
-		next[c]++
-	}
-	// next[c] now holds the end of cell c, the start of c+1: shift back.
-	copy(r.start[1:], r.start[:cells])
-	r.start[0] = 0
+	parallel.For(n, r.threads, func(lo, hi, b int) {
+		next := r.blockStart[b*cells : (b+1)*cells]
+		for i := lo; i < hi; i++ {
+			c := r.cellOf[i]
+			k := next[c]
+			r.order[k] = int32(i)
+			r.sx[k], r.sy[k] = y[2*i], y[2*i+1]
+			next[c]++
+		}
+	})
 	return work, occupied
+}
+
+// sortedWeights computes the Lagrange weights of the sorted points (bin),
+// in the sorted order.
+func (r *fftRepulsion) sortedWeights() {
+	parallel.For(len(r.sx), r.threads, func(lo, hi, _ int) {
+		for k := lo; k < hi; k++ {
+			_, ux := r.axis(r.sx[k], r.x0, r.nx)
+			_, uy := r.axis(r.sy[k], r.y0, r.ny)
+			w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*k:])
+			wx, wy := lagrange(ux), lagrange(uy)
+			copy(w[:interpNodes], wx[:])
+			copy(w[interpNodes:], wy[:])
+		}
+	})
 }
 
 // resize makes the per-size buffers and transforms fit lx × ly.
@@ -654,6 +698,63 @@ func (r *fftRepulsion) spread(n int, stop func() bool) bool {
 	return true
 }
 
+// spreadCells is spread for the points sorted by cell (near field): it
+// computes each occupied cell's charges on its own nodes, which the near
+// field needs, from the sorted points' weights (one contiguous part of the
+// cells per thread), then adds the cells' charges into the charge grid, the
+// rows of cells in two passes (even, then odd) whose nodes do not overlap,
+// so that each node sums its cells in a fixed order.
+func (r *fftRepulsion) spreadCells(stop func() bool) bool {
+	const d = interpNodes - 1
+	nx, mx, cells := r.nx, r.mx, r.nx*r.ny
+	parts := len(r.parts) - 1
+	r.cellQ = grow(r.cellQ, cells*cellNodes)
+	parallel.For(parts, parts, func(lo, hi, _ int) {
+		for p := lo; p < hi; p++ {
+			for c := r.parts[p]; c < r.parts[p+1]; c++ {
+				q := (*[cellNodes]float64)(r.cellQ[c*cellNodes:])
+				*q = [cellNodes]float64{}
+				for k := r.start[c]; k < r.start[c+1]; k++ {
+					w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*int(k):])
+					for b := 0; b < interpNodes; b++ {
+						wy, row := w[interpNodes+b], q[b*interpNodes:(b+1)*interpNodes]
+						for a := range row {
+							row[a] += wy * w[a]
+						}
+					}
+				}
+			}
+		}
+	})
+	if stop() {
+		return false
+	}
+	charge := r.charge[:mx*r.my]
+	clear(charge)
+	for pass := 0; pass < 2; pass++ {
+		parallel.For((r.ny-pass+1)/2, r.threads, func(lo, hi, _ int) {
+			for row := lo; row < hi; row++ {
+				cy := 2*row + pass
+				for cx := 0; cx < nx; cx++ {
+					c := cy*nx + cx
+					if r.start[c] == r.start[c+1] {
+						continue
+					}
+					q := r.cellQ[c*cellNodes : (c+1)*cellNodes]
+					base := cy*d*mx + cx*d
+					for b := 0; b < interpNodes; b++ {
+						dst := charge[base+b*mx : base+b*mx+interpNodes]
+						for a := range dst {
+							dst[a] += q[b*interpNodes+a]
+						}
+					}
+				}
+			}
+		})
+	}
+	return !stop()
+}
+
 // convolve transforms the charge grid, multiplies by the three kernel
 // spectra and transforms back, leaving the potentials in r.pot.
 func (r *fftRepulsion) convolve(stop func() bool) bool {
@@ -751,7 +852,8 @@ func (r *fftRepulsion) interpolate(dst []float64, stop func() bool) bool {
 	return !stopped.Load()
 }
 
-// interpolateNear is interpolate with the near field precorrected. For each
+// interpolateNear is interpolate with the near field precorrected, for the
+// points sorted by cell and the cells' charges of spreadCells. For each
 // occupied cell c: the potentials on its nodes less the grid's contribution
 // from the charges of cells c + o, o ∈ [−1,1]², interpolated to its points;
 // plus the exact sums over the pairs of points in those cells, each pair
@@ -759,34 +861,11 @@ func (r *fftRepulsion) interpolate(dst []float64, stop func() bool) bool {
 // added to both points. The cells are split into one contiguous part per
 // thread with about equal work; each part accumulates into its own arrays,
 // which are summed in part order.
-func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool {
+func (r *fftRepulsion) interpolateNear(dst []float64, stop func() bool) bool {
 	const d = interpNodes - 1
-	n, nx, ny, mx, grid := len(y)/2, r.nx, r.ny, r.mx, r.mx*r.my
-	cells := nx * ny
+	n, nx, ny, mx, grid := len(r.sx), r.nx, r.ny, r.mx, r.mx*r.my
 	parts := len(r.parts) - 1
-	r.cellQ = grow(r.cellQ, cells*cellNodes)
 	r.accX, r.accY, r.accW = grow(r.accX, parts*n), grow(r.accY, parts*n), grow(r.accW, parts*n)
-	// Charges of each occupied cell on its own nodes.
-	parallel.For(parts, parts, func(lo, hi, _ int) {
-		for p := lo; p < hi; p++ {
-			for c := r.parts[p]; c < r.parts[p+1]; c++ {
-				q := (*[cellNodes]float64)(r.cellQ[c*cellNodes:])
-				*q = [cellNodes]float64{}
-				for k := r.start[c]; k < r.start[c+1]; k++ {
-					w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*int(r.order[k]):])
-					for b := 0; b < interpNodes; b++ {
-						wy, row := w[interpNodes+b], q[b*interpNodes:(b+1)*interpNodes]
-						for a := range row {
-							row[a] += wy * w[a]
-						}
-					}
-				}
-			}
-		}
-	})
-	if stop() {
-		return false
-	}
 	var stopped atomic.Bool
 	parallel.For(parts, parts, func(lo, hi, _ int) {
 		for p := lo; p < hi; p++ {
@@ -823,7 +902,7 @@ func (r *fftRepulsion) interpolateNear(dst, y []float64, stop func() bool) bool 
 					subBlock(&v, r.nearKernel[o*cellNodes*blockRows:(o+1)*cellNodes*blockRows], r.cellQ[src*cellNodes:(src+1)*cellNodes])
 				}
 				for k := r.start[c]; k < r.start[c+1]; k++ {
-					w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*int(r.order[k]):])
+					w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*int(k):])
 					var f [3]float64
 					for b := 0; b < interpNodes; b++ {
 						var g [3]float64
