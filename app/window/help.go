@@ -28,10 +28,25 @@ the cost of finer separations. At ∞ the map becomes the spectral layout (Lapla
 the neighbour graph, which shows only the broadest structure. Each turn re-forms the map from
 where it stands, so you can watch groups merge and split.
 
+## The grain
+
+Beside the dial, the grain sets how fast the pull between two cells of the map fades with their
+distance (the tail of the similarity kernel, α in "Heavy-tailed kernels reveal a finer cluster
+structure in t-SNE visualisations", ECML PKDD 2019). At 1 the map is ordinary t-SNE. Towards
+**finer groups** (below 1) the tail gets heavier: groups that t-SNE draws as one island split into
+their parts, and islands move further apart. Towards **smoother** (above 1) the kernel tends to a
+Gaussian: small groups flow together. The grain and the dial work together; at ∞ the spectral
+layout does not depend on the grain. Like the dial, a change re-forms the map from where it stands.
+
 ## Fidelity
 
 The scores beside the map say how well it keeps each cell's neighbours: *kept neighbours* is the
 share of each cell's 15 nearest neighbours (by expression) that are also among its 15 nearest
 neighbours in the map; *trustworthiness* (Venna & Kaski 2001) penalises cells that look close in
-the map but are far apart in the data. Both are computed on a sample of cells.
+the map but are far apart in the data. Both are computed on a sample of cells and are local: they
+look at neighbourhoods only. *dCor*, the distance correlation (Székely, Rizzo & Bakirov 2007),
+is global: it compares all distances between the sampled cells in the data with those in the map
+(1 when the map keeps them up to scale, near 0 when the two are unrelated). The largest distances
+weigh most in it, so **a few far cells can dominate dCor**: one remote group can raise or lower it
+whatever the map does with the rest. Read it as a check on the large scale, beside the local scores.
 `

@@ -3,6 +3,7 @@ package window
 import (
 	"context"
 	"fmt"
+	"math"
 	"strconv"
 	"strings"
 	"sync/atomic"
@@ -27,10 +28,11 @@ type errorShower interface {
 	showError(title string, err error)
 }
 
-// runPanel is the attraction dial and the run's controls (perplexity,
-// iterations per turn, Stop/Continue, Restart). It owns the optimiser and
-// its engine, and publishes every new layout and the run's status in the
-// atlas state.
+// runPanel is the attraction dial, the grain control beside it (the
+// kernel's tail α, from finer groups to smoother ones) and the run's
+// controls (perplexity, iterations per turn, Stop/Continue, Restart). It owns
+// the optimiser and its engine, and publishes every new layout and the run's
+// status in the atlas state.
 //
 // A new control that changes how the map is optimised belongs here: it
 // joins the form in content, its value joins runSnapshot, and turn and
@@ -47,6 +49,7 @@ type runPanel struct {
 	framePending atomic.Bool
 
 	dial       *lcanvas.Dial
+	grain      *grainControl
 	perplexity *widget.Entry
 	iterations *widget.Entry
 	stopBtn    *widget.Button
@@ -64,7 +67,8 @@ type runSnapshot struct {
 	opt        live.Optimizer
 	perplexity float64
 	attraction float64
-	iterations int // per turn
+	tail       float64 // the grain control's kernel tail α (1: t-SNE)
+	iterations int     // per turn
 }
 
 func newRunPanel(st *atlasState, jobs *viewJobs, errs errorShower) *runPanel {
@@ -82,6 +86,17 @@ func newRunPanel(st *atlasState, jobs *viewJobs, errs errorShower) *runPanel {
 			r.turn(x)
 		}
 	}
+	r.grain = newGrainControl(func(tail float64) {
+		r.engine.SetTail(tail)
+		if !r.st.ready {
+			return
+		}
+		if math.IsInf(r.dial.Value, 1) {
+			r.st.tell(fmt.Sprintf("grain %s: the spectral layout at ∞ does not depend on it; it applies from the next finite dial value", formatTail(tail)))
+			return
+		}
+		r.turn(r.dial.Value)
+	})
 	title := widget.NewLabelWithStyle("Attraction", fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
 	r.perplexity = widget.NewEntry()
 	r.perplexity.SetText(strconv.FormatFloat(r.perp, 'g', -1, 64))
@@ -94,7 +109,7 @@ func newRunPanel(st *atlasState, jobs *viewJobs, errs errorShower) *runPanel {
 		widget.NewLabel("perplexity"), r.perplexity,
 		widget.NewLabel("iterations"), r.iterations)
 	buttons := container.NewGridWithColumns(2, r.stopBtn, r.restartBtn)
-	r.box = container.NewVBox(container.NewBorder(nil, nil, title, nil, container.NewCenter(r.dial)), form, buttons, widget.NewSeparator())
+	r.box = container.NewVBox(container.NewBorder(nil, nil, title, nil, container.NewCenter(r.dial)), r.grain.box, form, buttons, widget.NewSeparator())
 	r.enable()
 	st.on(topicAtlas, r.enable)
 	st.on(topicRun, r.showRunning)
@@ -216,7 +231,7 @@ func (r *runPanel) iterationsPerTurn() int {
 func (r *runPanel) snapshot() runSnapshot {
 	layout, _ := r.engine.Latest()
 	s := runSnapshot{layout: layout, initial: r.engine.Initial(), history: r.engine.History(),
-		perplexity: r.perp, attraction: r.dial.Value, iterations: r.iterationsPerTurn()}
+		perplexity: r.perp, attraction: r.dial.Value, tail: r.grain.tail, iterations: r.iterationsPerTurn()}
 	if r.optimizer != nil {
 		s.opt = r.optimizer
 	}
@@ -224,10 +239,11 @@ func (r *runPanel) snapshot() runSnapshot {
 }
 
 // show stops any run and shows layout, reached by history, with the dial
-// at attraction.
+// at attraction and the grain at the history's tail.
 func (r *runPanel) show(layout []float32, history []live.Step, attraction float64) {
 	r.engine.SetLayout(layout, history)
 	r.dial.SetValue(attraction)
+	r.grain.set(live.TailOf(history))
 	if n := len(history); n > 0 {
 		r.setPerplexity(history[n-1].Setting)
 	}
@@ -279,4 +295,14 @@ func (r *runPanel) applyPerplexity() {
 			r.turn(r.dial.Value)
 		})
 	})
+}
+
+// setTail moves the grain control to tail (0 means 1) and runs with it from
+// now on, without starting a run (a session's stored control).
+func (r *runPanel) setTail(tail float64) {
+	if tail == 0 {
+		tail = 1
+	}
+	r.grain.set(tail)
+	r.engine.SetTail(tail)
 }

@@ -38,7 +38,7 @@ func (v *atlasView) toSession() *session.Session {
 		origin = restore.Origin{Example: &opts}
 	}
 	s := restore.Capture(restore.Map{Prepared: v.st.prep, Origin: origin, Initial: run.initial, Layout: run.layout,
-		Attraction: run.attraction, History: run.history})
+		Attraction: run.attraction, Tail: run.tail, History: run.history})
 	for _, g := range v.st.groups {
 		s.Groups = append(s.Groups, session.Group{Name: g.Name, Colour: session.Colour{R: g.Colour.R, G: g.Colour.G, B: g.Colour.B},
 			Members: session.Members(g.Cells)})
@@ -157,6 +157,9 @@ func (u *ui) showSession(path string, s *session.Session) {
 // restore applies a session's layout, history, dial, groups, paint and view.
 func (v *atlasView) restore(s *session.Session) {
 	v.run.show(s.Layout, restore.Steps(s), float64(s.Attraction))
+	if s.Tail != 0 {
+		v.run.setTail(s.Tail) // the control may differ from the last run's (moved at ∞)
+	}
 	n := len(s.CellIDs)
 	var groups []*paint.Group
 	for _, g := range s.Groups {

@@ -149,14 +149,14 @@ func fidelityOptions(p *pipeline.Prepared, labels []int32) quality.FidelityOptio
 // function of the prepared atlas and the layout that writes its value.
 type scoreKind func(ctx context.Context, p *pipeline.Prepared, layout []float32) (string, error)
 
-// fidelityScore writes the share of kept neighbours and the
-// trustworthiness.
+// fidelityScore writes the share of kept neighbours, the trustworthiness
+// and the distance correlation between the data's and the map's distances.
 func fidelityScore(ctx context.Context, p *pipeline.Prepared, layout []float32) (string, error) {
 	f, err := quality.Fidelity(ctx, p.Features, layout, fidelityOptions(p, nil))
 	if err != nil {
 		return "", err
 	}
-	return fmt.Sprintf("kept neighbours %.2f · trustworthiness %.3f", f.KNN, f.Trust), nil
+	return fmt.Sprintf("kept neighbours %.2f · trustworthiness %.3f · dCor %.2f", f.KNN, f.Trust, f.DCor), nil
 }
 
 // mapScorer scores the map on screen in the background whenever it stops

@@ -37,11 +37,12 @@ type mapRunner interface {
 	show(layout []float32, history []live.Step, attraction float64)
 }
 
-// sweepPanel computes maps at several dial values, each run warm from the
-// previous one's result (the first from the map on screen), and shows them
-// side by side with their fidelity, so that the user can pick the dial
-// value that keeps the most of the data's neighbourhoods. It owns the
-// sweep's choices, the sweep in flight and its maps.
+// sweepPanel computes maps at several values of one control — the dial's
+// attraction, or the grain (the kernel's tail) at the dial's value — each run
+// warm from the previous one's result (the first from the map on screen),
+// and shows them side by side with their fidelity, so that the user can
+// pick the value that keeps the most of the data's neighbourhoods. It owns
+// the sweep's choices, the sweep in flight and its maps.
 type sweepPanel struct {
 	st    *atlasState
 	jobs  *viewJobs
@@ -49,12 +50,13 @@ type sweepPanel struct {
 	runs  mapRunner
 	order []int32 // the drawing order of the thumbnails' cells (the map's)
 
-	values *widget.Entry
-	label  *widget.Select
-	run    *widget.Button
-	info   *widget.Label
-	grid   *fyne.Container
-	box    fyne.CanvasObject
+	control *widget.Select // which control the sweep varies
+	values  *widget.Entry
+	label   *widget.Select
+	run     *widget.Button
+	info    *widget.Label
+	grid    *fyne.Container
+	box     fyne.CanvasObject
 
 	cancel  context.CancelFunc // stops the sweep in flight; nil when none
 	results []sweepResult
@@ -69,15 +71,25 @@ type sweepResult struct {
 func newSweepPanel(st *atlasState, jobs *viewJobs, errs errorShower, runs mapRunner) *sweepPanel {
 	s := &sweepPanel{st: st, jobs: jobs, errs: errs, runs: runs}
 	s.values = widget.NewEntry()
-	s.values.SetText("1, 2, 4, 10, 30, inf")
+	s.values.SetText(defaultSweepValues[sweepAttraction])
+	s.control = widget.NewSelect([]string{sweepAttraction, sweepGrain}, func(c string) {
+		// A new control gets its own default values, unless the user typed some.
+		for _, v := range defaultSweepValues {
+			if s.values.Text == v {
+				s.values.SetText(defaultSweepValues[c])
+			}
+		}
+	})
+	s.control.SetSelected(sweepAttraction)
 	s.label = widget.NewSelect(nil, nil)
 	s.fillLabels()
 	s.run = widget.NewButtonWithIcon("Run the sweep", theme.MediaPlayIcon(), s.toggle)
-	s.info = widget.NewLabel("Maps at several dial values, each continued from the one before, with their fidelity. Tap a map to adopt it.")
+	s.info = widget.NewLabel("Maps at several values of the dial or of the grain, each continued from the one before, with their fidelity. Tap a map to adopt it.")
 	s.info.Wrapping = fyne.TextWrapWord
 	s.info.Importance = widget.LowImportance
-	s.grid = container.NewGridWrap(fyne.NewSize(sweepThumb, sweepThumb+54))
-	form := container.New(layout.NewFormLayout(), widget.NewLabel("dial values"), s.values, widget.NewLabel("label accuracy of"), s.label)
+	s.grid = container.NewGridWrap(fyne.NewSize(sweepThumb, sweepThumb+72))
+	form := container.New(layout.NewFormLayout(), widget.NewLabel("sweep the"), s.control, widget.NewLabel("values"), s.values,
+		widget.NewLabel("label accuracy of"), s.label)
 	s.box = container.NewBorder(container.NewVBox(form, s.run, s.info), nil, nil, nil, container.NewVScroll(s.grid))
 	st.on(topicColumns, s.fillLabels)
 	return s
@@ -131,6 +143,65 @@ func parseDialValues(text string) ([]float64, error) {
 	return out, nil
 }
 
+// parseGrainValues reads a comma-separated list of grains (kernel tails).
+func parseGrainValues(text string) ([]float64, error) {
+	var out []float64
+	for _, f := range strings.Split(text, ",") {
+		f = strings.TrimSpace(f)
+		if f == "" {
+			continue
+		}
+		x, err := strconv.ParseFloat(f, 64)
+		if err != nil || !(x >= grainMin && x <= grainMax) {
+			return nil, fmt.Errorf("%q is not a grain (%g … %g; 1 is t-SNE)", f, float64(grainMin), float64(grainMax))
+		}
+		out = append(out, x)
+	}
+	if len(out) == 0 || len(out) > 12 {
+		return nil, fmt.Errorf("give 1 to 12 grains, separated by commas")
+	}
+	return out, nil
+}
+
+// The controls a sweep can vary, and their default values.
+const (
+	sweepAttraction = "attraction"
+	sweepGrain      = "grain"
+)
+
+var defaultSweepValues = map[string]string{
+	sweepAttraction: "1, 2, 4, 10, 30, inf",
+	sweepGrain:      "0.3, 0.5, 1, 2, 5",
+}
+
+// sweepPoints reads the values for the chosen control and returns the
+// settings of the sweep's maps: each value with the other control as it
+// stands (base).
+func sweepPoints(control, text string, base runSnapshot) ([]live.SweepPoint, error) {
+	var points []live.SweepPoint
+	if control == sweepGrain {
+		if math.IsInf(base.attraction, 1) {
+			return nil, fmt.Errorf("at ∞ every map is the spectral layout, whatever the grain: turn the dial to a finite value to sweep the grain")
+		}
+		values, err := parseGrainValues(text)
+		if err != nil {
+			return nil, err
+		}
+		for _, v := range values {
+			points = append(points, live.SweepPoint{Attraction: base.attraction, Tail: v})
+		}
+		return points, nil
+	}
+	values, err := parseDialValues(text)
+	if err != nil {
+		return nil, err
+	}
+	for _, v := range values {
+		points = append(points, live.SweepPoint{Attraction: v, Tail: base.tail})
+	}
+	return points, nil
+}
+
 // running reports whether a sweep is in flight.
 func (s *sweepPanel) running() bool { return s.cancel != nil }
 
@@ -144,16 +215,16 @@ func (s *sweepPanel) toggle() {
 		s.errs.showError("Not yet", fmt.Errorf("the sweep can run once the atlas behind the map has been prepared"))
 		return
 	}
-	values, err := parseDialValues(s.values.Text)
+	base := s.runs.snapshot()
+	points, err := sweepPoints(s.control.Selected, s.values.Text, base)
 	if err != nil {
-		s.errs.showError("Dial values", err)
+		s.errs.showError("Sweep values", err)
 		return
 	}
 	var labels []int32
 	if c := s.st.column(s.label.Selected); c != nil && c.Kind == atlas.Categorical {
 		labels = c.Codes
 	}
-	base := s.runs.snapshot()
 	fo := fidelityOptions(s.st.prep, labels)
 	features := s.st.prep.Features
 	ctx, cancel := s.jobs.child()
@@ -166,10 +237,10 @@ func (s *sweepPanel) toggle() {
 	start := time.Now()
 	s.jobs.goCtx(ctx, func(ctx context.Context) {
 		before := func(k int) {
-			text := fmt.Sprintf("sweep: map %d of %d (attraction %s)…", k+1, len(values), lcanvas.FormatAttraction(values[k]))
+			text := fmt.Sprintf("sweep: map %d of %d (%s)…", k+1, len(points), settingText(points[k].Attraction, points[k].Tail))
 			s.jobs.do(func() { s.info.SetText(text) })
 		}
-		err := live.Sweep(ctx, base.opt, base.layout, base.history, values, base.iterations, base.perplexity, before, func(m live.SweepMap) error {
+		err := live.SweepPoints(ctx, base.opt, base.layout, base.history, points, base.iterations, base.perplexity, before, func(m live.SweepMap) error {
 			f, err := quality.Fidelity(ctx, features, m.Layout, fo)
 			if err != nil {
 				return err
@@ -198,11 +269,16 @@ func (s *sweepPanel) toggle() {
 	})
 }
 
-// sweepCaption writes a sweep map's attraction and scores.
+// settingText writes both controls' values.
+func settingText(attraction, tail float64) string {
+	return fmt.Sprintf("attraction %s · grain %s", lcanvas.FormatAttraction(attraction), formatTail(tail))
+}
+
+// sweepCaption writes a sweep map's setting and scores.
 func sweepCaption(r sweepResult) string {
-	text := fmt.Sprintf("attraction %s\nkept %.2f · trust %.3f", lcanvas.FormatAttraction(r.Attraction), r.scores.KNN, r.scores.Trust)
+	text := fmt.Sprintf("%s\nkept %.2f · trust %.3f\ndCor %.2f", settingText(r.Attraction, r.Tail), r.scores.KNN, r.scores.Trust, r.scores.DCor)
 	if !math.IsNaN(r.scores.Labels) {
-		text += fmt.Sprintf("\nlabels %.2f", r.scores.Labels)
+		text += fmt.Sprintf(" · labels %.2f", r.scores.Labels)
 	}
 	return text
 }
@@ -226,7 +302,7 @@ func (s *sweepPanel) adopt(i int) {
 	}
 	r := s.results[i]
 	s.runs.show(r.Layout, r.History, r.Attraction)
-	s.st.tell(fmt.Sprintf("adopted the sweep's map at attraction %s", lcanvas.FormatAttraction(r.Attraction)))
+	s.st.tell("adopted the sweep's map at " + settingText(r.Attraction, r.Tail))
 }
 
 // thumbnail draws a layout with a paint into a square image of size pixels.
