@@ -60,6 +60,9 @@ func objective(p *sparse.CSR, y []float64, rho, tail float64) float64 {
 	n := len(y) / 2
 	w := func(i, j int) float64 {
 		dx, dy := y[2*i]-y[2*j], y[2*i+1]-y[2*j+1]
+		if tail == 1 {
+			return 1 / (1 + dx*dx + dy*dy) // the same, without the power's cost
+		}
 		return math.Pow(1+(dx*dx+dy*dy)/tail, -tail)
 	}
 	var z, sum float64

@@ -48,6 +48,7 @@ type optimizer struct {
 	p       Params
 	n       int
 	y       []float64 // layout
+	y32     []float32 // layout rounded to float32, for the attraction
 	upd     []float64 // last update (momentum)
 	gains   []float64 // per-coordinate gains
 	attr    []float64 // attractive sums
@@ -66,6 +67,7 @@ func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
 	n := a.Rows
 	o := &optimizer{
 		a: a, p: p, n: n, y: y,
+		y32:   make([]float32, 2*n),
 		upd:   make([]float64, 2*n),
 		gains: make([]float64, 2*n),
 		attr:  make([]float64, 2*n),
@@ -143,11 +145,7 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 
 // layout returns a float32 copy of the current layout.
 func (o *optimizer) layout() []float32 {
-	out := make([]float32, len(o.y))
-	for i, v := range o.y {
-		out[i] = float32(v)
-	}
-	return out
+	return append([]float32(nil), o.y32...)
 }
 
 // iterate performs one gradient step with attraction rho, momentum and
@@ -165,7 +163,10 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	if wantKL && !o.a.known {
 		plogp = o.plogp
 	}
-	if !attract(o.attr, o.y, o.a.CSR, o.p.Tail, logs, plogp, threads, stop) {
+	if !attract32(o.attr, o.y32, o.a.CSR, o.p.Tail, threads, stop) {
+		return 0, false
+	}
+	if wantKL && !attract(nil, o.y, o.a.CSR, o.p.Tail, logs, plogp, threads, stop) {
 		return 0, false
 	}
 	if plogp != nil {
@@ -244,6 +245,7 @@ func (o *optimizer) centre(mx, my float64) {
 		for i := lo; i < hi; i++ {
 			x, y := o.y[2*i]-mx, o.y[2*i+1]-my
 			o.y[2*i], o.y[2*i+1] = x, y
+			o.y32[2*i], o.y32[2*i+1] = float32(x), float32(y)
 			box[0], box[1] = min(box[0], x), max(box[1], x)
 			box[2], box[3] = min(box[2], y), max(box[3], y)
 			r2 += x*x + y*y

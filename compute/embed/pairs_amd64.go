@@ -37,3 +37,11 @@ func attractRowAVX2(xi, yi, a float64, y *float64, cols *int32, vals *float32, n
 //
 //go:noescape
 func attractRowLogAVX2(xi, yi, a float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy, ls float64)
+
+// attractRow32AVX2 is attractRow32 for the first n entries, n a positive
+// multiple of 8, with the same conditions on the columns and ahead as
+// attractRowAVX2 (a prefetch reads the columns up to 39 places past the
+// entry it sums).
+//
+//go:noescape
+func attractRow32AVX2(xi, yi, a float32, y *float32, cols *int32, vals *float32, n, ahead int) (fx, fy float64)

@@ -481,3 +481,85 @@ tailloop:
 	HSUM(Y4, X4, X8, fw+96(FP))
 	VZEROUPPER
 	RET
+
+// func attractRow32AVX2(xi, yi, a float32, y *float32, cols *int32, vals *float32, n, ahead int) (fx, fy float64)
+// attractRowAVX2 in float32, eight entries per step: the layout y holds
+// float32 pairs (x, y), which two 64-bit gathers fetch four at a time; the
+// pairs are split into the x and y of entries 0 1 4 5 | 2 3 6 7 (VSHUFPS
+// within each half), and the values are put in that order (VPERMQ). Each
+// lane sums its terms v·dx/q and v·dy/q, q = a + dx² + dy², in float32; the
+// eight lanes are then added in float64 as (l0+l4)+(l2+l6) + (l1+l5)+(l3+l7).
+// Each step first prefetches the pairs of the eight columns 32 places on,
+// reading no column at or past ahead.
+TEXT ·attractRow32AVX2(SB), NOSPLIT, $0-72
+	VBROADCASTSS xi+0(FP), Y0
+	VBROADCASTSS yi+4(FP), Y1
+	VBROADCASTSS a+8(FP), Y5
+	MOVQ y+16(FP), SI
+	MOVQ cols+24(FP), DI
+	MOVQ vals+32(FP), R8
+	MOVQ n+40(FP), CX
+	MOVQ ahead+48(FP), R12
+	SUBQ $4, R12
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+	XORQ AX, AX
+
+attract32:
+	LEAQ 32(AX), R9
+	CMPQ R9, R12
+	CMOVQGT R12, R9
+	MOVLQSX (DI)(R9*4), R10
+	PREFETCHT0 (SI)(R10*8)
+	MOVLQSX 4(DI)(R9*4), R10
+	PREFETCHT0 (SI)(R10*8)
+	MOVLQSX 8(DI)(R9*4), R10
+	PREFETCHT0 (SI)(R10*8)
+	MOVLQSX 12(DI)(R9*4), R10
+	PREFETCHT0 (SI)(R10*8)
+	LEAQ 36(AX), R9
+	CMPQ R9, R12
+	CMOVQGT R12, R9
+	MOVLQSX (DI)(R9*4), R10
+	PREFETCHT0 (SI)(R10*8)
+	MOVLQSX 4(DI)(R9*4), R10
+	PREFETCHT0 (SI)(R10*8)
+	MOVLQSX 8(DI)(R9*4), R10
+	PREFETCHT0 (SI)(R10*8)
+	MOVLQSX 12(DI)(R9*4), R10
+	PREFETCHT0 (SI)(R10*8)
+
+	VMOVDQU (DI)(AX*4), Y6
+	VPCMPEQD Y7, Y7, Y7
+	VGATHERDPD Y7, (SI)(X6*8), Y8   // pairs of entries 0–3
+	VEXTRACTI128 $1, Y6, X13
+	VPCMPEQD Y7, Y7, Y7
+	VGATHERDPD Y7, (SI)(X13*8), Y9  // pairs of entries 4–7
+	VSHUFPS $0x88, Y9, Y8, Y10      // x of 0 1 4 5 | 2 3 6 7
+	VSHUFPS $0xDD, Y9, Y8, Y11      // y, same order
+	VMOVUPS (R8)(AX*4), Y14
+	VPERMQ $0xD8, Y14, Y14          // values, same order
+	VSUBPS Y10, Y0, Y10             // dx
+	VSUBPS Y11, Y1, Y11             // dy
+	VMULPS Y10, Y10, Y12
+	VFMADD231PS Y11, Y11, Y12
+	VADDPS Y5, Y12, Y12             // q = a + dx² + dy²
+	VDIVPS Y12, Y14, Y12            // v/q
+	VFMADD231PS Y12, Y10, Y2
+	VFMADD231PS Y12, Y11, Y3
+	ADDQ $8, AX
+	CMPQ AX, CX
+	JLT attract32
+
+	VEXTRACTF128 $1, Y2, X4
+	VCVTPS2PD X2, Y6
+	VCVTPS2PD X4, Y7
+	VADDPD Y7, Y6, Y6
+	HSUM(Y6, X6, X7, fx+56(FP))
+	VEXTRACTF128 $1, Y3, X4
+	VCVTPS2PD X3, Y6
+	VCVTPS2PD X4, Y7
+	VADDPD Y7, Y6, Y6
+	HSUM(Y6, X6, X7, fy+64(FP))
+	VZEROUPPER
+	RET

@@ -38,7 +38,9 @@ func TestPortableRepulsion(t *testing.T) {
 // TestPortableIteration takes one optimiser step from the same layout with
 // the AVX2 kernels and with the portable code (attraction, repulsion with its
 // near field, and the step) and requires the two new layouts to agree to
-// 1e-9 of the layout's extent: they differ only by the order of additions.
+// 1e-8 of the layout's extent: they differ by the order of additions, which
+// in the float32 attraction (eight lanes against one sum) changes its sums
+// by about 1e-7 relative (measured: 1e-9 of the extent after the step).
 func TestPortableIteration(t *testing.T) {
 	if !haveAVX2 {
 		t.Skip("the portable code is the only one here and is tested everywhere")
@@ -66,7 +68,7 @@ func TestPortableIteration(t *testing.T) {
 	defer func() { haveAVX2 = true }()
 	slow := step()
 	for k := range fast {
-		if math.Abs(fast[k]-slow[k]) > 1e-9*60 {
+		if math.Abs(fast[k]-slow[k]) > 1e-8*60 {
 			t.Fatalf("coordinate %d: AVX2 %v, portable %v", k, fast[k], slow[k])
 		}
 	}

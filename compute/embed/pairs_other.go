@@ -24,3 +24,7 @@ func attractRowAVX2(xi, yi, a float64, y *float64, cols *int32, vals *float32, n
 func attractRowLogAVX2(xi, yi, a float64, y *float64, cols *int32, vals *float32, n, ahead int) (fx, fy, ls float64) {
 	panic("embed: no AVX2 kernel on this architecture")
 }
+
+func attractRow32AVX2(xi, yi, a float32, y *float32, cols *int32, vals *float32, n, ahead int) (fx, fy float64) {
+	panic("embed: no AVX2 kernel on this architecture")
+}
