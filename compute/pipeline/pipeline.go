@@ -194,6 +194,10 @@ func Features(ctx context.Context, d *atlas.Dataset, s Settings, report func(sta
 	if err != nil {
 		return nil, err
 	}
+	// PCA leaves its copy of the selected genes' counts and its workspace
+	// behind (about 1.5 GB at a million cells): collect them before the
+	// neighbour search, as between the later stages.
+	runtime.GC()
 	if n := len(res.Cells); n < MinCells {
 		have := fmt.Sprintf("the table has %d", n)
 		if res.QC != nil {

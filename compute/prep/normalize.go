@@ -118,8 +118,8 @@ func NormalizeView(ctx context.Context, v *sparse.View, target float64, threads 
 			cols, vals := bufs.row(src, i, b)
 			var total float64
 			for k, x := range vals {
-				if e := checkCount(stage, i, int(cols[k]), float64(x)); e != nil {
-					bad[b] = e
+				if !(x >= 0 && x <= math.MaxFloat32) {
+					bad[b] = checkCount(stage, i, int(cols[k]), float64(x))
 					return
 				}
 				total += float64(x)

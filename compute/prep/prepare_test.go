@@ -190,3 +190,39 @@ func sameValues(t *testing.T, v *sparse.View, m *sparse.CSR) {
 		}
 	}
 }
+
+// Real values (normalised elsewhere, say) take the same path as counts,
+// held as float32: Prepare equals the stages on the float32 matrix, bit for
+// bit, as for counts.
+func TestPrepareRealValuesEqualsStages(t *testing.T) {
+	counts := synth.Counts(400, 150, 40, 11)
+	for k := range counts.Val {
+		counts.Val[k] *= 1.37
+	}
+	d := &atlas.Dataset{Counts: sparse.FromCSR(counts)}
+	if !d.Counts.IsReal() {
+		t.Fatal("the test matrix should hold real values")
+	}
+	ctx := context.Background()
+	opt := testOptions()
+	res, err := Prepare(ctx, d, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	norm, err := Normalize(ctx, counts.SelectRows(res.Cells).SelectCols(res.KeptGenes), opt.Target, 0, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sel, err := SelectGenes(ctx, norm, opt.Genes, 0, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := RunPCA(ctx, norm.SelectCols(sel.Genes), opt.PCA)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameValues(t, res.Normalized, norm)
+	if !slices.Equal(res.Genes.Genes, sel.Genes) || !slices.Equal(res.Features.Data, p.Scores.Data) {
+		t.Fatal("gene selection or features differ from the stages")
+	}
+}

@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 
 	"lodestone/compute/atlas"
@@ -189,9 +190,29 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 			return
 		}
 		for i := lo; i < hi; i++ {
-			cols, vals := bufs.counts(m, i, b)
 			var total, mt float64
 			detected := 0
+			if m.Real == nil && m.Col32 == nil {
+				// Counts with 16-bit columns, read where they are
+				// stored: every one is positive, and their sums are
+				// exact in any order.
+				var ok bool
+				if total, mt, ok = countSums(m, i, mito); !ok {
+					bad[b] = errAt(stage, i, -1, ErrMalformed, "column outside 0…%d", m.Cols-1)
+					return
+				}
+				detected = int(m.RowPtr[i+1] - m.RowPtr[i])
+				frac := 0.0
+				if total > 0 {
+					frac = mt / total
+				}
+				rep.All.TotalCounts[i] = float32(total)
+				rep.All.DetectedGenes[i] = float32(detected)
+				rep.All.MitoFraction[i] = float32(frac)
+				reason[i] = cellReason(&opt, total, detected, frac)
+				continue
+			}
+			cols, vals := bufs.counts(m, i, b)
 			for k, v := range vals {
 				x := float64(v)
 				if cols[k] < 0 || int(cols[k]) >= m.Cols {
@@ -246,6 +267,14 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 		}
 		acc := partial[b]
 		for _, i := range kept[lo:hi] {
+			if m.Col32 == nil {
+				// Pass 1 has checked that every stored value is
+				// positive.
+				for _, c := range m.Col16[m.RowPtr[i]:m.RowPtr[i+1]] {
+					acc[c]++
+				}
+				continue
+			}
 			cols, vals := kbufs.counts(m, i, b)
 			for k, v := range vals {
 				if v > 0 {
@@ -281,8 +310,20 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 	counter = prog.pass(2, len(kept))
 	err = kb.run(ctx, func(lo, hi, b int) {
 		for _, i := range kept[lo:hi] {
-			cols, vals := kbufs.counts(m, i, b)
 			empty := true
+			if m.Col32 == nil {
+				for _, c := range m.Col16[m.RowPtr[i]:m.RowPtr[i+1]] {
+					if keepGene[c] {
+						empty = false
+						break
+					}
+				}
+				if empty {
+					reason[i] = cellEmptyAfter
+				}
+				continue
+			}
+			cols, vals := kbufs.counts(m, i, b)
 			for k, v := range vals {
 				if v > 0 && keepGene[cols[k]] {
 					empty = false
@@ -344,6 +385,43 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 		return keepCells, keepGenes, rep, errAt(stage, -1, -1, ErrTooFewGenes, "no gene of %d passes the filters", m.Cols)
 	}
 	return keepCells, keepGenes, rep, nil
+}
+
+// countSums returns the sum of the counts of row i of m (counts with 16-bit
+// columns) and the sum of those in the columns marked in mito, or false when
+// a column is out of range. Counts are whole numbers, so the sums are exact
+// (below 2^53) whatever their order.
+func countSums(m *sparse.Counts, i int, mito []bool) (total, masked float64, ok bool) {
+	lo, hi := m.RowPtr[i], m.RowPtr[i+1]
+	small := m.Small[lo:hi]
+	var sum, part int64
+	large := false
+	for k, c := range m.Col16[lo:hi] {
+		if int(c) >= m.Cols {
+			return 0, 0, false
+		}
+		s := small[k]
+		if s == sparse.LargeMark {
+			large = true
+			continue
+		}
+		sum += int64(s)
+		if mito[c] {
+			part += int64(s)
+		}
+	}
+	total, masked = float64(sum), float64(part)
+	if large {
+		t, _ := slices.BinarySearch(m.LargeAt, lo)
+		for ; t < len(m.LargeAt) && m.LargeAt[t] < hi; t++ {
+			v := float64(m.LargeVal[t])
+			total += v
+			if mito[m.Col16[m.LargeAt[t]]] {
+				masked += v
+			}
+		}
+	}
+	return total, masked, true
 }
 
 // cellReason returns the first cell filter of opt that removes a cell with
