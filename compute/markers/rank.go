@@ -173,7 +173,9 @@ func Rank(ctx context.Context, x *sparse.View, inGroup, reference []bool, opt Op
 //
 // The zeros of a gene form one tie block with mid-rank (n₀+1)/2; only its
 // non-zero values are sorted. Genes are shared out over opt.Threads
-// goroutines.
+// goroutines, each of which reads the values of up to 512 genes at a time
+// in one pass over the cells: it holds their sort keys (4 bytes a value, at
+// most 2^24 values) and a cursor per cell, no copy of the matrix.
 //
 // It returns one Result per gene sorted by descending Z (ties: larger
 // LogFoldChange, then smaller gene index), so the genes most raised in the

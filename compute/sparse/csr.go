@@ -1,5 +1,8 @@
-// Package sparse holds the compressed sparse row matrix shared by every stage
-// of Lodestone: counts (cells × genes), affinities (cells × cells) and graphs.
+// Package sparse holds the sparse matrices shared by every stage of
+// Lodestone: CSR, compressed sparse rows with float32 values (affinities,
+// graphs, small expression tables); Counts, the compact store of an atlas's
+// counts (cells × genes, 3 bytes a count); and View, chosen rows and columns
+// of a Counts read as stored or log-normalised as they are read.
 package sparse
 
 import (
