@@ -9,6 +9,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 
 	"lodestone/compute/parallel"
 	"lodestone/compute/progress"
@@ -21,7 +22,8 @@ type Options struct {
 	// The results do not depend on it.
 	Threads int
 
-	// Progress, when not nil, receives the number of genes done out of all.
+	// Progress, when not nil, receives the number of genes done out of all,
+	// from one goroutine at a time.
 	Progress progress.Func
 
 	// NoContinuityCorrection drops the continuity correction of the normal
@@ -199,7 +201,18 @@ func (e *Expression) Rank(ctx context.Context, inGroup, reference []bool, opt Op
 	threads := parallel.Threads(opt.Threads)
 	t := test{n1: n1, n2: n2, continuity: !opt.NoContinuityCorrection, eps: eps}
 	res := make([]Result, e.genes)
-	counter := progress.NewCounter(opt.Progress, int64(e.genes), max(1, int64(e.genes)/100))
+	report := opt.Progress
+	if report != nil {
+		// The workers count genes done; their reports reach the caller
+		// one at a time.
+		var mu sync.Mutex
+		report = func(done, total int64) {
+			mu.Lock()
+			defer mu.Unlock()
+			opt.Progress(done, total)
+		}
+	}
+	counter := progress.NewCounter(report, int64(e.genes), max(1, int64(e.genes)/100))
 	segments := e.segments(threads)
 	errs := make([]error, len(segments))
 	parallel.For(len(segments), len(segments), func(w, _, _ int) {

@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"strings"
+	"sync"
 	"testing"
 
 	"lodestone/compute/atlas"
@@ -30,7 +31,10 @@ func TestPrepareChainsTheStages(t *testing.T) {
 	s.Prep.PCA.Components = 20
 	s.Prep.Genes = 200
 	var stages []string
+	var mu sync.Mutex // reports come from several goroutines
 	p, err := Prepare(context.Background(), d, s, func(stage string, done, total int64) {
+		mu.Lock()
+		defer mu.Unlock()
 		if len(stages) == 0 || stages[len(stages)-1] != stage {
 			stages = append(stages, stage)
 		}
