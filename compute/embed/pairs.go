@@ -31,41 +31,39 @@ func subBlock(v *[blockRows]float64, m, q []float64) {
 }
 
 // pairSums adds the exact kernel terms between the point (xa, ya) and the
-// points (xs[b], ys[b]):
+// points (xs[b], ys[b]), in float32:
 //
 //	ax[b] −= w²·dx,  ay[b] −= w²·dy,  aw[b] += w,   dx = xa − xs[b], dy = ya − ys[b],
 //
 // w = 1/(1 + dx² + dy²), and returns Σ_b w²·dx, Σ_b w²·dy and Σ_b w, the
-// point's own share of the same terms. All slices have the length of xs.
-// With AVX2 the first len(xs) &^ 3 points go four at a time (each lane
-// summed separately, the lanes then added as (l0+l2)+(l1+l3)); the rest, and
-// every point elsewhere, go one by one in order.
-func pairSums(xa, ya float64, xs, ys, ax, ay, aw []float64) (fx, fy, fw float64) {
+// point's own share of the same terms. All slices have the length of xs;
+// the coordinates are relative to a cell of the grid (a few units), so that
+// float32 keeps the differences to about 1e-7 of a unit. With AVX2 the first
+// len(xs) &^ 7 points go eight at a time (each lane summed separately in
+// float32, the lanes then added in float64 as (l0+l4)+(l2+l6) +
+// (l1+l5)+(l3+l7)); the rest, and every point elsewhere, go one by one in
+// order into one float32 sum per quantity.
+func pairSums(xa, ya float32, xs, ys, ax, ay, aw []float32) (fx, fy, fw float64) {
 	m := 0
-	if haveAVX2 && len(xs) >= 4 {
-		m = len(xs) &^ 3
+	if haveAVX2 && len(xs) >= 8 {
+		m = len(xs) &^ 7
 		fx, fy, fw = pairSumsAVX2(xa, ya, &xs[0], &ys[0], &ax[0], &ay[0], &aw[0], m)
 	}
-	gx, gy, gw := pairSumsGo(xa, ya, xs[m:], ys[m:], ax[m:], ay[m:], aw[m:])
-	return fx + gx, fy + gy, fw + gw
-}
-
-// pairSumsGo is pairSums one point at a time.
-func pairSumsGo(xa, ya float64, xs, ys, ax, ay, aw []float64) (fx, fy, fw float64) {
-	ys, ax, ay, aw = ys[:len(xs)], ax[:len(xs)], ay[:len(xs)], aw[:len(xs)]
+	xs, ys, ax, ay, aw = xs[m:], ys[m:len(xs)], ax[m:len(xs)], ay[m:len(xs)], aw[m:len(xs)]
+	var sx, sy, sw float32
 	for b, xb := range xs {
 		dx, dy := xa-xb, ya-ys[b]
 		w := 1 / (1 + dx*dx + dy*dy)
 		w2 := w * w
 		gx, gy := w2*dx, w2*dy
-		fx += gx
-		fy += gy
-		fw += w
+		sx += gx
+		sy += gy
+		sw += w
 		ax[b] -= gx
 		ay[b] -= gy
 		aw[b] += w
 	}
-	return fx, fy, fw
+	return fx + float64(sx), fy + float64(sy), fw + float64(sw)
 }
 
 // pairSumsTail is pairSums for the kernel k of any tail α:
@@ -74,27 +72,31 @@ func pairSumsGo(xa, ya float64, xs, ys, ax, ay, aw []float64) (fx, fy, fw float6
 //
 // returning the point's own share Σ_b w·u·dx, Σ_b w·u·dy and Σ_b w. The
 // power is exp(−α·log(1 + d²/α)); the AVX2 kernel computes both functions
-// itself, to within 1e-13 relative, and otherwise groups its work as
-// pairSums does.
-func pairSumsTail(xa, ya float64, k tailKernel, xs, ys, ax, ay, aw []float64) (fx, fy, fw float64) {
+// itself in float32, to within a few units of 1e-7 relative (times 1 + α·log q
+// for the power, whose argument carries the logarithm's error), and
+// otherwise groups its work as pairSums does; the portable code computes the
+// power in float64.
+func pairSumsTail(xa, ya float32, k tailKernel, xs, ys, ax, ay, aw []float32) (fx, fy, fw float64) {
 	m := 0
-	if haveAVX2 && len(xs) >= 4 {
-		m = len(xs) &^ 3
-		fx, fy, fw = pairSumsTailAVX2(xa, ya, k.scale, k.alpha, &xs[0], &ys[0], &ax[0], &ay[0], &aw[0], m)
+	if haveAVX2 && len(xs) >= 8 {
+		m = len(xs) &^ 7
+		fx, fy, fw = pairSumsTailAVX2(xa, ya, float32(k.scale), float32(k.alpha), &xs[0], &ys[0], &ax[0], &ay[0], &aw[0], m)
 	}
 	xs, ys, ax, ay, aw = xs[m:], ys[m:len(xs)], ax[m:len(xs)], ay[m:len(xs)], aw[m:len(xs)]
+	scale := float32(k.scale)
+	var sx, sy, sw float32
 	for b, xb := range xs {
 		dx, dy := xa-xb, ya-ys[b]
-		q := 1 + (dx*dx+dy*dy)*k.scale
-		w := math.Exp(-k.alpha * math.Log(q))
+		q := 1 + (dx*dx+dy*dy)*scale
+		w := float32(math.Exp(-k.alpha * math.Log(float64(q))))
 		wu := w / q
 		gx, gy := wu*dx, wu*dy
-		fx += gx
-		fy += gy
-		fw += w
+		sx += gx
+		sy += gy
+		sw += w
 		ax[b] -= gx
 		ay[b] -= gy
 		aw[b] += w
 	}
-	return fx, fy, fw
+	return fx + float64(sx), fy + float64(sy), fw + float64(sw)
 }

@@ -6,16 +6,16 @@ import "lodestone/internal/cpufeat"
 // to run the portable code.
 var haveAVX2 = cpufeat.AVX2FMA
 
-// pairSumsAVX2 is pairSums for the first n points, n a positive multiple of 4.
+// pairSumsAVX2 is pairSums for the first n points, n a positive multiple of 8.
 //
 //go:noescape
-func pairSumsAVX2(xa, ya float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64)
+func pairSumsAVX2(xa, ya float32, xs, ys, ax, ay, aw *float32, n int) (fx, fy, fw float64)
 
 // pairSumsTailAVX2 is pairSumsTail for the first n points, n a positive
-// multiple of 4, with scale = 1/α.
+// multiple of 8, with scale = 1/α.
 //
 //go:noescape
-func pairSumsTailAVX2(xa, ya, scale, alpha float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64)
+func pairSumsTailAVX2(xa, ya, scale, alpha float32, xs, ys, ax, ay, aw *float32, n int) (fx, fy, fw float64)
 
 // subBlockAVX2 is subBlock for the block m of n ≥ 1 columns and the vector q.
 //

@@ -1,9 +1,10 @@
 #include "textflag.h"
 
 // AVX2+FMA kernels of the optimiser (see pairs.go and gradient.go for their
-// portable twins): near-field pair sums, the near-field correction by column
-// blocks, and attraction rows with and without the KL estimate's logarithms,
-// each four entries per step in the four lanes of a YMM register.
+// portable twins): near-field pair sums (float32, eight pairs per step, for
+// t-SNE's kernel and for other tails), the near-field correction by column
+// blocks, attraction rows in float32 (eight entries per step), and in
+// float64 with the KL estimate's logarithms (four entries per step).
 
 // HSUM stores the sum of the four lanes of y, as (l0+l2) + (l1+l3), at out;
 // x is y's low half and t a scratch register.
@@ -73,54 +74,6 @@
 
 DATA one<>+0(SB)/8, $1.0
 GLOBL one<>(SB), RODATA|NOPTR, $8
-
-// func pairSumsAVX2(xa, ya float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64)
-// The exact near-field terms between (xa, ya) and n points.
-TEXT ·pairSumsAVX2(SB), NOSPLIT, $0-88
-	VBROADCASTSD xa+0(FP), Y0
-	VBROADCASTSD ya+8(FP), Y1
-	MOVQ xs+16(FP), SI
-	MOVQ ys+24(FP), DI
-	MOVQ ax+32(FP), R8
-	MOVQ ay+40(FP), R9
-	MOVQ aw+48(FP), R10
-	MOVQ n+56(FP), CX
-	VXORPD Y2, Y2, Y2 // Σ w²·dx
-	VXORPD Y3, Y3, Y3 // Σ w²·dy
-	VXORPD Y4, Y4, Y4 // Σ w
-	VBROADCASTSD one<>(SB), Y5
-	XORQ AX, AX
-
-loop:
-	VSUBPD (SI)(AX*8), Y0, Y6 // dx = xa − xs[b]
-	VSUBPD (DI)(AX*8), Y1, Y7 // dy = ya − ys[b]
-	VMULPD Y6, Y6, Y8
-	VFMADD231PD Y7, Y7, Y8    // dx² + dy²
-	VADDPD Y5, Y8, Y8         // 1 + dx² + dy²
-	VDIVPD Y8, Y5, Y9         // w
-	VMULPD Y9, Y9, Y10        // w²
-	VMULPD Y10, Y6, Y6        // w²·dx
-	VMULPD Y10, Y7, Y7        // w²·dy
-	VADDPD Y6, Y2, Y2
-	VADDPD Y7, Y3, Y3
-	VADDPD Y9, Y4, Y4
-	VMOVUPD (R8)(AX*8), Y11
-	VSUBPD Y6, Y11, Y11
-	VMOVUPD Y11, (R8)(AX*8)
-	VMOVUPD (R9)(AX*8), Y12
-	VSUBPD Y7, Y12, Y12
-	VMOVUPD Y12, (R9)(AX*8)
-	VADDPD (R10)(AX*8), Y9, Y13
-	VMOVUPD Y13, (R10)(AX*8)
-	ADDQ $4, AX
-	CMPQ AX, CX
-	JLT loop
-
-	HSUM(Y2, X2, X6, fx+64(FP))
-	HSUM(Y3, X3, X7, fy+72(FP))
-	HSUM(Y4, X4, X8, fw+80(FP))
-	VZEROUPPER
-	RET
 
 // func subBlockAVX2(v, m, q *float64, n int)
 // v[r] −= Σ_{c<n} m[c·80 + r]·q[c] for r < 80, in two passes of 40 rows
@@ -343,145 +296,6 @@ attractlog:
 	VZEROUPPER
 	RET
 
-// CONST4 defines name as four lanes of the double with the given bits.
-#define CONST4(name, bits) \
-	DATA name<>+0(SB)/8, $bits; \
-	DATA name<>+8(SB)/8, $bits; \
-	DATA name<>+16(SB)/8, $bits; \
-	DATA name<>+24(SB)/8, $bits; \
-	GLOBL name<>(SB), RODATA|NOPTR, $32
-
-// Constants of pairSumsTailAVX2: two more terms of the logarithm's series
-// (1/15, 1/17); for the exponential, log₂e, ln 2 in two parts (the high
-// part has zero low bits, so k·ln2hi is exact for the k that occur), the
-// cap on the exponent's argument, and 1/n! for n = 2 … 11.
-CONST4(log2e, 0x3ff71547652b82fe)
-CONST4(ln2hi, 0x3fe62e42fee00000)
-CONST4(ln2lo, 0x3dea39ef35793c76)
-CONST4(expcap, 0x4085e00000000000)
-CONST4(inv15, 0x3fb1111111111111)
-CONST4(inv17, 0x3fae1e1e1e1e1e1e)
-CONST4(fact2, 0x3fe0000000000000)
-CONST4(fact3, 0x3fc5555555555555)
-CONST4(fact4, 0x3fa5555555555555)
-CONST4(fact5, 0x3f81111111111111)
-CONST4(fact6, 0x3f56c16c16c16c17)
-CONST4(fact7, 0x3f2a01a01a01a01a)
-CONST4(fact8, 0x3efa01a01a01a01a)
-CONST4(fact9, 0x3ec71de3a556c734)
-CONST4(fact10, 0x3e927e4fb7789f5c)
-CONST4(fact11, 0x3e5ae64567f544e4)
-
-// func pairSumsTailAVX2(xa, ya, scale, alpha float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64)
-// pairSumsAVX2 for the kernel of tail α (scale = 1/α): with
-// q = 1 + scale·(dx² + dy²), w = q^(−α) = exp(−α·log q) and the term
-// w·u = w/q. log q as in attractRowLogAVX2 with the series carried two
-// terms further, to s¹⁶/17 (truncation below 1e-15, as an error δ in
-// log q becomes α·δ relative in w); exp(−t), t = α·log q ≥ 0
-// capped at 700, as 2^(−k)·exp(r) with k = round(t·log₂e) and
-// r = k·ln 2 − t, |r| ≤ ln2/2, by its Taylor series to r¹¹/11! (truncation
-// below 1e-14 relative); 2^(−k) is built in the exponent field from
-// 2^52 + 1023 − k.
-TEXT ·pairSumsTailAVX2(SB), NOSPLIT, $0-104
-	VBROADCASTSD xa+0(FP), Y0
-	VBROADCASTSD ya+8(FP), Y1
-	VBROADCASTSD scale+16(FP), Y15
-	VBROADCASTSD alpha+24(FP), Y12
-	MOVQ xs+32(FP), SI
-	MOVQ ys+40(FP), DI
-	MOVQ ax+48(FP), R8
-	MOVQ ay+56(FP), R9
-	MOVQ aw+64(FP), R10
-	MOVQ n+72(FP), CX
-	VXORPD Y2, Y2, Y2 // Σ w·u·dx
-	VXORPD Y3, Y3, Y3 // Σ w·u·dy
-	VXORPD Y4, Y4, Y4 // Σ w
-	VBROADCASTSD one<>(SB), Y5
-	XORQ AX, AX
-
-tailloop:
-	VSUBPD (SI)(AX*8), Y0, Y6 // dx = xa − xs[b]
-	VSUBPD (DI)(AX*8), Y1, Y7 // dy = ya − ys[b]
-	VMULPD Y6, Y6, Y8
-	VFMADD231PD Y7, Y7, Y8    // dx² + dy²
-	VFMADD213PD Y5, Y15, Y8   // q = 1 + scale·(dx² + dy²)
-
-	// log q = e·ln 2 + log m, as in attractRowLogAVX2.
-	VPSRLQ $52, Y8, Y13
-	VPOR expmagic<>(SB), Y13, Y13
-	VSUBPD bias<>(SB), Y13, Y13
-	VANDPD mantmask<>(SB), Y8, Y14
-	VORPD onebits<>(SB), Y14, Y14
-	VCMPPD $0x1e, sqrt2<>(SB), Y14, Y9
-	VANDPD Y5, Y9, Y10
-	VADDPD Y10, Y13, Y13
-	VMULPD half<>(SB), Y14, Y10
-	VBLENDVPD Y9, Y10, Y14, Y14
-	VSUBPD Y5, Y14, Y10
-	VADDPD Y5, Y14, Y14
-	VDIVPD Y14, Y10, Y10       // s = (m − 1)/(m + 1)
-	VMULPD Y10, Y10, Y14       // s²
-	VMOVUPD inv17<>(SB), Y9
-	VFMADD213PD inv15<>(SB), Y14, Y9
-	VFMADD213PD inv13<>(SB), Y14, Y9
-	VFMADD213PD inv11<>(SB), Y14, Y9
-	VFMADD213PD inv9<>(SB), Y14, Y9
-	VFMADD213PD inv7<>(SB), Y14, Y9
-	VFMADD213PD inv5<>(SB), Y14, Y9
-	VFMADD213PD inv3<>(SB), Y14, Y9
-	VFMADD213PD Y5, Y14, Y9
-	VMULPD Y10, Y9, Y9
-	VADDPD Y9, Y9, Y9              // log m
-	VFMADD231PD ln2<>(SB), Y13, Y9 // log q
-
-	// w = exp(−t), t = min(α·log q, 700).
-	VMULPD Y12, Y9, Y9
-	VMINPD expcap<>(SB), Y9, Y9
-	VMULPD log2e<>(SB), Y9, Y10
-	VROUNDPD $0, Y10, Y10              // k
-	VFMSUB231PD ln2hi<>(SB), Y10, Y9   // k·ln2hi − t
-	VFMADD231PD ln2lo<>(SB), Y10, Y9   // r = k·ln 2 − t
-	VMOVUPD fact11<>(SB), Y11
-	VFMADD213PD fact10<>(SB), Y9, Y11
-	VFMADD213PD fact9<>(SB), Y9, Y11
-	VFMADD213PD fact8<>(SB), Y9, Y11
-	VFMADD213PD fact7<>(SB), Y9, Y11
-	VFMADD213PD fact6<>(SB), Y9, Y11
-	VFMADD213PD fact5<>(SB), Y9, Y11
-	VFMADD213PD fact4<>(SB), Y9, Y11
-	VFMADD213PD fact3<>(SB), Y9, Y11
-	VFMADD213PD fact2<>(SB), Y9, Y11
-	VFMADD213PD Y5, Y9, Y11
-	VFMADD213PD Y5, Y9, Y11            // exp(r)
-	VMOVUPD bias<>(SB), Y13
-	VSUBPD Y10, Y13, Y13               // 2^52 + 1023 − k
-	VPSLLQ $52, Y13, Y13               // 2^(−k)
-	VMULPD Y13, Y11, Y11               // w
-
-	VDIVPD Y8, Y11, Y10                // w·u = w/q
-	VMULPD Y10, Y6, Y6
-	VMULPD Y10, Y7, Y7
-	VADDPD Y6, Y2, Y2
-	VADDPD Y7, Y3, Y3
-	VADDPD Y11, Y4, Y4
-	VMOVUPD (R8)(AX*8), Y9
-	VSUBPD Y6, Y9, Y9
-	VMOVUPD Y9, (R8)(AX*8)
-	VMOVUPD (R9)(AX*8), Y9
-	VSUBPD Y7, Y9, Y9
-	VMOVUPD Y9, (R9)(AX*8)
-	VADDPD (R10)(AX*8), Y11, Y9
-	VMOVUPD Y9, (R10)(AX*8)
-	ADDQ $4, AX
-	CMPQ AX, CX
-	JLT tailloop
-
-	HSUM(Y2, X2, X6, fx+80(FP))
-	HSUM(Y3, X3, X7, fy+88(FP))
-	HSUM(Y4, X4, X8, fw+96(FP))
-	VZEROUPPER
-	RET
-
 // func attractRow32AVX2(xi, yi, a float32, y *float32, cols *int32, vals *float32, n, ahead int) (fx, fy float64)
 // attractRowAVX2 in float32, eight entries per step: the layout y holds
 // float32 pairs (x, y), which two 64-bit gathers fetch four at a time; the
@@ -561,5 +375,196 @@ attract32:
 	VCVTPS2PD X4, Y7
 	VADDPD Y7, Y6, Y6
 	HSUM(Y6, X6, X7, fy+64(FP))
+	VZEROUPPER
+	RET
+
+// CONST8 defines name as eight lanes of the float32 with the given bits.
+#define CONST8(name, bits) \
+	DATA name<>+0(SB)/4, $bits; \
+	DATA name<>+4(SB)/4, $bits; \
+	DATA name<>+8(SB)/4, $bits; \
+	DATA name<>+12(SB)/4, $bits; \
+	DATA name<>+16(SB)/4, $bits; \
+	DATA name<>+20(SB)/4, $bits; \
+	DATA name<>+24(SB)/4, $bits; \
+	DATA name<>+28(SB)/4, $bits; \
+	GLOBL name<>(SB), RODATA|NOPTR, $32
+
+// HSUM8 adds the eight float32 lanes of y in float64, as
+// (l0+l4)+(l2+l6) + (l1+l5)+(l3+l7), and stores the sum at out; x is y's low
+// half, t a scratch XMM register and u, v scratch YMM registers (v's low half
+// is vx).
+#define HSUM8(y, x, t, u, v, vx, out) VEXTRACTF128 $1, y, t; VCVTPS2PD x, u; VCVTPS2PD t, v; VADDPD u, v, v; HSUM(v, vx, t, out)
+
+// Constants of the float32 kernels: 1; for the logarithm, the exponent's
+// magic 2^23 and bias 2^23 + 127, the mantissa mask, √2, 1/2, ln 2 and 1/3 …
+// 1/9 of its series; for the exponential, log₂e, ln 2 in two parts (the high
+// part's 12 low bits zero, so k·ln2hi is exact for the k that occur), the
+// cap on its argument and 1/n! for n = 2 … 7.
+CONST8(f32one, 0x3f800000)
+CONST8(f32magic, 0x4b000000)
+CONST8(f32bias, 0x4b00007f)
+CONST8(f32mant, 0x007fffff)
+CONST8(f32sqrt2, 0x3fb504f3)
+CONST8(f32half, 0x3f000000)
+CONST8(f32ln2, 0x3f317218)
+CONST8(f32inv3, 0x3eaaaaab)
+CONST8(f32inv5, 0x3e4ccccd)
+CONST8(f32inv7, 0x3e124925)
+CONST8(f32inv9, 0x3de38e39)
+CONST8(f32log2e, 0x3fb8aa3b)
+CONST8(f32ln2hi, 0x3f317000)
+CONST8(f32ln2lo, 0x3805fdf4)
+CONST8(f32cap, 0x42a00000)
+CONST8(f32fact2, 0x3f000000)
+CONST8(f32fact3, 0x3e2aaaab)
+CONST8(f32fact4, 0x3d2aaaab)
+CONST8(f32fact5, 0x3c088889)
+CONST8(f32fact6, 0x3ab60b61)
+CONST8(f32fact7, 0x39500d01)
+
+// PAIRS_STORE subtracts the terms Y6 (x) and Y7 (y) from ax and ay, adds the
+// similarities Y11 to aw, for the eight points at AX.
+#define PAIRS_STORE \
+	VMOVUPS (R8)(AX*4), Y9; \
+	VSUBPS Y6, Y9, Y9; \
+	VMOVUPS Y9, (R8)(AX*4); \
+	VMOVUPS (R9)(AX*4), Y9; \
+	VSUBPS Y7, Y9, Y9; \
+	VMOVUPS Y9, (R9)(AX*4); \
+	VADDPS (R10)(AX*4), Y11, Y9; \
+	VMOVUPS Y9, (R10)(AX*4)
+
+// func pairSumsAVX2(xa, ya float32, xs, ys, ax, ay, aw *float32, n int) (fx, fy, fw float64)
+// The exact near-field terms between (xa, ya) and n points, in float32.
+TEXT ·pairSumsAVX2(SB), NOSPLIT, $0-80
+	VBROADCASTSS xa+0(FP), Y0
+	VBROADCASTSS ya+4(FP), Y1
+	MOVQ xs+8(FP), SI
+	MOVQ ys+16(FP), DI
+	MOVQ ax+24(FP), R8
+	MOVQ ay+32(FP), R9
+	MOVQ aw+40(FP), R10
+	MOVQ n+48(FP), CX
+	VXORPS Y2, Y2, Y2 // Σ w²·dx
+	VXORPS Y3, Y3, Y3 // Σ w²·dy
+	VXORPS Y4, Y4, Y4 // Σ w
+	VMOVUPS f32one<>(SB), Y5
+	XORQ AX, AX
+
+pairs:
+	VSUBPS (SI)(AX*4), Y0, Y6 // dx = xa − xs[b]
+	VSUBPS (DI)(AX*4), Y1, Y7 // dy = ya − ys[b]
+	VMULPS Y6, Y6, Y8
+	VFMADD231PS Y7, Y7, Y8    // dx² + dy²
+	VADDPS Y5, Y8, Y8         // 1 + dx² + dy²
+	VDIVPS Y8, Y5, Y11        // w
+	VMULPS Y11, Y11, Y10      // w²
+	VMULPS Y10, Y6, Y6        // w²·dx
+	VMULPS Y10, Y7, Y7        // w²·dy
+	VADDPS Y6, Y2, Y2
+	VADDPS Y7, Y3, Y3
+	VADDPS Y11, Y4, Y4
+	PAIRS_STORE
+	ADDQ $8, AX
+	CMPQ AX, CX
+	JLT pairs
+
+	HSUM8(Y2, X2, X6, Y7, Y8, X8, fx+56(FP))
+	HSUM8(Y3, X3, X6, Y7, Y8, X8, fy+64(FP))
+	HSUM8(Y4, X4, X6, Y7, Y8, X8, fw+72(FP))
+	VZEROUPPER
+	RET
+
+// func pairSumsTailAVX2(xa, ya, scale, alpha float32, xs, ys, ax, ay, aw *float32, n int) (fx, fy, fw float64)
+// pairSumsAVX2 for the kernel of tail α (scale = 1/α): with
+// q = 1 + scale·(dx² + dy²), w = q^(−α) = exp(−α·log q) and the term
+// w·u = w/q. log q as in attractRowLogAVX2, in float32, with the series to
+// s⁸/9 (truncation below 4e-9); exp(−t), t = α·log q ≥ 0 capped at 80, as
+// 2^(−k)·exp(r) with k = round(t·log₂e) and r = k·ln 2 − t, |r| ≤ ln2/2, by
+// its Taylor series to r⁷/7! (truncation below 6e-9); 2^(−k) is built in the
+// exponent field from 2^23 + 127 − k.
+TEXT ·pairSumsTailAVX2(SB), NOSPLIT, $0-88
+	VBROADCASTSS xa+0(FP), Y0
+	VBROADCASTSS ya+4(FP), Y1
+	VBROADCASTSS scale+8(FP), Y15
+	VBROADCASTSS alpha+12(FP), Y12
+	MOVQ xs+16(FP), SI
+	MOVQ ys+24(FP), DI
+	MOVQ ax+32(FP), R8
+	MOVQ ay+40(FP), R9
+	MOVQ aw+48(FP), R10
+	MOVQ n+56(FP), CX
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+	VXORPS Y4, Y4, Y4
+	VMOVUPS f32one<>(SB), Y5
+	XORQ AX, AX
+
+tailpairs:
+	VSUBPS (SI)(AX*4), Y0, Y6
+	VSUBPS (DI)(AX*4), Y1, Y7
+	VMULPS Y6, Y6, Y8
+	VFMADD231PS Y7, Y7, Y8
+	VFMADD213PS Y5, Y15, Y8          // q = 1 + scale·(dx² + dy²)
+
+	// log q = e·ln 2 + log m.
+	VPSRLD $23, Y8, Y13
+	VPOR f32magic<>(SB), Y13, Y13
+	VSUBPS f32bias<>(SB), Y13, Y13   // e
+	VANDPS f32mant<>(SB), Y8, Y14
+	VORPS Y5, Y14, Y14               // m in [1, 2)
+	VCMPPS $0x1e, f32sqrt2<>(SB), Y14, Y9
+	VANDPS Y5, Y9, Y10
+	VADDPS Y10, Y13, Y13
+	VMULPS f32half<>(SB), Y14, Y10
+	VBLENDVPS Y9, Y10, Y14, Y14      // m in [√2/2, √2)
+	VSUBPS Y5, Y14, Y10
+	VADDPS Y5, Y14, Y14
+	VDIVPS Y14, Y10, Y10             // s = (m − 1)/(m + 1)
+	VMULPS Y10, Y10, Y14
+	VMOVUPS f32inv9<>(SB), Y9
+	VFMADD213PS f32inv7<>(SB), Y14, Y9
+	VFMADD213PS f32inv5<>(SB), Y14, Y9
+	VFMADD213PS f32inv3<>(SB), Y14, Y9
+	VFMADD213PS Y5, Y14, Y9
+	VMULPS Y10, Y9, Y9
+	VADDPS Y9, Y9, Y9                 // log m
+	VFMADD231PS f32ln2<>(SB), Y13, Y9 // log q
+
+	// w = exp(−t), t = min(α·log q, 80).
+	VMULPS Y12, Y9, Y9
+	VMINPS f32cap<>(SB), Y9, Y9
+	VMULPS f32log2e<>(SB), Y9, Y10
+	VROUNDPS $0, Y10, Y10                // k
+	VFMSUB231PS f32ln2hi<>(SB), Y10, Y9  // k·ln2hi − t
+	VFMADD231PS f32ln2lo<>(SB), Y10, Y9  // r = k·ln 2 − t
+	VMOVUPS f32fact7<>(SB), Y11
+	VFMADD213PS f32fact6<>(SB), Y9, Y11
+	VFMADD213PS f32fact5<>(SB), Y9, Y11
+	VFMADD213PS f32fact4<>(SB), Y9, Y11
+	VFMADD213PS f32fact3<>(SB), Y9, Y11
+	VFMADD213PS f32fact2<>(SB), Y9, Y11
+	VFMADD213PS Y5, Y9, Y11
+	VFMADD213PS Y5, Y9, Y11              // exp(r)
+	VMOVUPS f32bias<>(SB), Y13
+	VSUBPS Y10, Y13, Y13
+	VPSLLD $23, Y13, Y13                 // 2^(−k)
+	VMULPS Y13, Y11, Y11                 // w
+
+	VDIVPS Y8, Y11, Y10                  // w·u = w/q
+	VMULPS Y10, Y6, Y6
+	VMULPS Y10, Y7, Y7
+	VADDPS Y6, Y2, Y2
+	VADDPS Y7, Y3, Y3
+	VADDPS Y11, Y4, Y4
+	PAIRS_STORE
+	ADDQ $8, AX
+	CMPQ AX, CX
+	JLT tailpairs
+
+	HSUM8(Y2, X2, X6, Y7, Y8, X8, fx+64(FP))
+	HSUM8(Y3, X3, X6, Y7, Y8, X8, fy+72(FP))
+	HSUM8(Y4, X4, X6, Y7, Y8, X8, fw+80(FP))
 	VZEROUPPER
 	RET

@@ -5,11 +5,11 @@ package embed
 // haveAVX2 is false where no assembly kernels exist.
 const haveAVX2 = false
 
-func pairSumsAVX2(xa, ya float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64) {
+func pairSumsAVX2(xa, ya float32, xs, ys, ax, ay, aw *float32, n int) (fx, fy, fw float64) {
 	panic("embed: no AVX2 kernel on this architecture")
 }
 
-func pairSumsTailAVX2(xa, ya, scale, alpha float64, xs, ys, ax, ay, aw *float64, n int) (fx, fy, fw float64) {
+func pairSumsTailAVX2(xa, ya, scale, alpha float32, xs, ys, ax, ay, aw *float32, n int) (fx, fy, fw float64) {
 	panic("embed: no AVX2 kernel on this architecture")
 }
 

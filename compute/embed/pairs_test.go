@@ -8,36 +8,38 @@ import (
 
 // TestPairSums checks pairSums and, for tails other than 1, pairSumsTail,
 // on whatever kernel this processor runs, against their definition
-// evaluated term by term with math.Pow, for every length from 0 to 19 (full
-// blocks of four and every remainder) and at distances from 0 to about 10³
-// (the kernel's far tail, where w is tiny at large α).
+// evaluated term by term in float64 with math.Pow from the same float32
+// coordinates, for every length from 0 to 27 (full blocks of eight and every
+// remainder) at distances from 0 to about 30 (a near field spans a few cells
+// of a few units). The kernels work in float32: each term is good to a few
+// units of 6e-8 relative, the power's to 6e-8·(1 + α·log q), so each sum must
+// agree to 2e-6 of the sum of its terms' magnitudes.
 func TestPairSums(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 9))
 	for _, tail := range []float64{1, MinTail, 0.2, 0.5, 0.7, 3, 10, MaxTail} {
 		k := newTail(tail)
-		for n := 0; n < 20; n++ {
-			xs, ys := make([]float64, n), make([]float64, n)
-			ax, ay, aw := make([]float64, n), make([]float64, n), make([]float64, n)
+		for n := 0; n < 28; n++ {
+			xs, ys := make([]float32, n), make([]float32, n)
+			ax, ay, aw := make([]float32, n), make([]float32, n), make([]float32, n)
 			for b := range xs {
-				r := math.Pow(10, 5*rng.Float64()-2)
+				r := math.Pow(10, 2.5*rng.Float64()-1)
 				if b == 0 {
 					r = 0
 				}
-				xs[b], ys[b] = r*rng.NormFloat64(), r*rng.NormFloat64()
-				ax[b], ay[b], aw[b] = rng.Float64(), rng.Float64(), rng.Float64()
+				xs[b], ys[b] = float32(r*rng.NormFloat64()), float32(r*rng.NormFloat64())
+				ax[b], ay[b], aw[b] = rng.Float32(), rng.Float32(), rng.Float32()
 			}
-			wantX, wantY, wantW := append([]float64(nil), ax...), append([]float64(nil), ay...), append([]float64(nil), aw...)
-			var xa, ya float64
-			var fx, fy, fw float64
+			wantX, wantY, wantW := make([]float64, n), make([]float64, n), make([]float64, n)
+			xa, ya := float32(rng.NormFloat64()), float32(rng.NormFloat64())
+			var fx, fy, fw, mx, my float64
 			for b := range xs {
-				dx, dy := xa-xs[b], ya-ys[b]
+				dx, dy := float64(xa)-float64(xs[b]), float64(ya)-float64(ys[b])
 				u := 1 / (1 + (dx*dx+dy*dy)/tail)
 				w := math.Pow(u, tail)
 				kx, ky := dx*w*u, dy*w*u
 				fx, fy, fw = fx+kx, fy+ky, fw+w
-				wantX[b] -= kx
-				wantY[b] -= ky
-				wantW[b] += w
+				mx, my = mx+math.Abs(kx), my+math.Abs(ky)
+				wantX[b], wantY[b], wantW[b] = float64(ax[b])-kx, float64(ay[b])-ky, float64(aw[b])+w
 			}
 			var gx, gy, gw float64
 			if k.cauchy() {
@@ -45,12 +47,12 @@ func TestPairSums(t *testing.T) {
 			} else {
 				gx, gy, gw = pairSumsTail(xa, ya, k, xs, ys, ax, ay, aw)
 			}
-			close := func(got, want float64) bool { return math.Abs(got-want) <= 1e-13*(1+math.Abs(want)) }
-			if !close(gx, fx) || !close(gy, fy) || !close(gw, fw) {
+			close := func(got, want, scale float64) bool { return math.Abs(got-want) <= 2e-6*scale }
+			if !close(gx, fx, mx) || !close(gy, fy, my) || !close(gw, fw, fw) {
 				t.Fatalf("α = %g, n = %d: sums (%v, %v, %v), want (%v, %v, %v)", tail, n, gx, gy, gw, fx, fy, fw)
 			}
 			for b := range xs {
-				if !close(ax[b], wantX[b]) || !close(ay[b], wantY[b]) || !close(aw[b], wantW[b]) {
+				if !close(float64(ax[b]), wantX[b], 1) || !close(float64(ay[b]), wantY[b], 1) || !close(float64(aw[b]), wantW[b], 1+wantW[b]) {
 					t.Fatalf("α = %g, n = %d, point %d: (%v, %v, %v), want (%v, %v, %v)", tail, n, b, ax[b], ay[b], aw[b], wantX[b], wantY[b], wantW[b])
 				}
 			}
@@ -59,25 +61,30 @@ func TestPairSums(t *testing.T) {
 }
 
 // TestPairSumsTailRelative checks the power w = u^α of pairSumsTail term
-// by term to 1e-13 relative (not only within a sum), at distances from 0.1
-// to 10³ where w spans from about 1 to below 1e-40: a near field's terms are
-// summed, but a relative error must not hide in the tiny ones. Each
-// distance fills a block of four, so the AVX2 kernel computes it where it
-// runs.
+// by term (not only within a sum), at distances from 0.1 to 30 where w spans
+// from about 1 to below 1e-30: a near field's terms are summed, but a
+// relative error must not hide in the tiny ones. Each distance fills a
+// block of eight, so the AVX2 kernel computes it where it runs. In float32
+// (unit roundoff 6e-8) the power is good to a few roundoffs times
+// 1 + α + α·log q (the rounding of q and the error of log q, times α, make
+// the relative error of the power), and the term w·u·d, a few operations
+// more, likewise: both must agree to 5e-7·(1 + α + α·log q).
 func TestPairSumsTailRelative(t *testing.T) {
 	for _, tail := range []float64{MinTail, 0.5, 2, MaxTail} {
 		k := newTail(tail)
-		for e := -1.0; e <= 3; e += 0.125 {
-			d := math.Pow(10, e)
-			xs, ys := []float64{d, -d, d, -d}, []float64{0, 0, 0, 0}
-			ax, ay, aw := make([]float64, 4), make([]float64, 4), make([]float64, 4)
+		for e := -1.0; e <= 1.5; e += 0.0625 {
+			d := float64(float32(math.Pow(10, e)))
+			xs := []float32{float32(d), float32(-d), float32(d), float32(-d), float32(d), float32(-d), float32(d), float32(-d)}
+			ys := make([]float32, 8)
+			ax, ay, aw := make([]float32, 8), make([]float32, 8), make([]float32, 8)
 			pairSumsTail(0, 0, k, xs, ys, ax, ay, aw)
 			u := 1 / (1 + d*d/tail)
 			w := math.Pow(u, tail)
-			if math.Abs(aw[0]-w) > 1e-13*w {
+			tol := 5e-7 * (1 + tail + tail*math.Log(1/u))
+			if math.Abs(float64(aw[0])-w) > tol*w {
 				t.Fatalf("α = %g, d = %g: w = %v, want %v", tail, d, aw[0], w)
 			}
-			if want := d * w * u; math.Abs(ax[0]-want) > 1e-13*want {
+			if want := d * w * u; math.Abs(float64(ax[0])-want) > tol*want {
 				t.Fatalf("α = %g, d = %g: w·u·d = %v, want %v", tail, d, ax[0], want)
 			}
 		}

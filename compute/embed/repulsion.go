@@ -170,17 +170,19 @@ type fftRepulsion struct {
 
 	// Points sorted by cell (near field only): cell start offsets, where
 	// each block of points starts in each cell (count), point ids and their
-	// coordinates in that order.
+	// coordinates in that order, and the same relative to the corner of
+	// their cell in float32 (for the exact pairs).
 	start      []int32
 	blockStart []int32
 	order      []int32
 	sx, sy     []float64
+	rx, ry     []float32
 	// Near field only: per cell, the charges on its nodes; cell boundaries
 	// of the parts handled by each thread; per part, the accumulated sums
-	// (K_x, K_y, K_w) for each sorted point.
+	// (K_x, K_y, K_w) for each sorted point, in float32.
 	cellQ            []float64
 	parts            []int
-	accX, accY, accW []float64
+	accX, accY, accW []float32
 
 	charge []float64    // per block: my × mx spread charges
 	spec   []complex128 // ly × (lx/2+1)
@@ -529,13 +531,17 @@ func (r *fftRepulsion) bin(y []float64) (int64, int) {
 	work, occupied := r.tally(n)
 	r.order = grow32(r.order, n)
 	r.sx, r.sy = grow(r.sx, n), grow(r.sy, n)
+	r.rx, r.ry = growF32(r.rx, n), growF32(r.ry, n)
 	parallel.For(n, r.threads, func(lo, hi, b int) {
 		next := r.blockStart[b*cells : (b+1)*cells]
 		for i := lo; i < hi; i++ {
 			c := r.cellOf[i]
 			k := next[c]
+			x, y := y[2*i], y[2*i+1]
 			r.order[k] = int32(i)
-			r.sx[k], r.sy[k] = y[2*i], y[2*i+1]
+			r.sx[k], r.sy[k] = x, y
+			r.rx[k] = float32(x - (r.x0 + float64(int(c)%r.nx)*r.h))
+			r.ry[k] = float32(y - (r.y0 + float64(int(c)/r.nx)*r.h))
 			next[c]++
 		}
 	})
@@ -865,7 +871,7 @@ func (r *fftRepulsion) interpolateNear(dst []float64, stop func() bool) bool {
 	const d = interpNodes - 1
 	n, nx, ny, mx, grid := len(r.sx), r.nx, r.ny, r.mx, r.mx*r.my
 	parts := len(r.parts) - 1
-	r.accX, r.accY, r.accW = grow(r.accX, parts*n), grow(r.accY, parts*n), grow(r.accW, parts*n)
+	r.accX, r.accY, r.accW = growF32(r.accX, parts*n), growF32(r.accY, parts*n), growF32(r.accW, parts*n)
 	var stopped atomic.Bool
 	parallel.For(parts, parts, func(lo, hi, _ int) {
 		for p := lo; p < hi; p++ {
@@ -917,19 +923,21 @@ func (r *fftRepulsion) interpolateNear(dst []float64, stop func() bool) bool {
 						f[1] += wy * g[1]
 						f[2] += wy * g[2]
 					}
-					ax[k] += f[0]
-					ay[k] += f[1]
-					aw[k] += f[2] + 1 // the exact self term, w_ii = 1
+					ax[k] += float32(f[0])
+					ay[k] += float32(f[1])
+					aw[k] += float32(f[2] + 1) // the exact self term, w_ii = 1
 				}
 				// Exact pairs: within the cell, then with the forward neighbours.
-				r.pairs(ax, ay, aw, r.start[c], r.start[c+1], r.start[c], r.start[c+1], true)
+				r.pairs(ax, ay, aw, r.start[c], r.start[c+1], r.start[c], r.start[c+1], 0, 0, true)
 				for _, o := range [4][2]int{{1, 0}, {-1, 1}, {0, 1}, {1, 1}} {
 					sx, sy := cx+o[0], cy+o[1]
 					if sx < 0 || sx >= nx || sy >= ny {
 						continue
 					}
 					src := sy*nx + sx
-					r.pairs(ax, ay, aw, r.start[c], r.start[c+1], r.start[src], r.start[src+1], false)
+					// In the neighbour's frame, the cell's corner lies at −o·h.
+					ox, oy := float32(-float64(o[0])*r.h), float32(-float64(o[1])*r.h)
+					r.pairs(ax, ay, aw, r.start[c], r.start[c+1], r.start[src], r.start[src+1], ox, oy, false)
 				}
 			}
 		}
@@ -941,9 +949,9 @@ func (r *fftRepulsion) interpolateNear(dst []float64, stop func() bool) bool {
 		for k := lo; k < hi; k++ {
 			var f [3]float64
 			for p := 0; p < parts; p++ {
-				f[0] += r.accX[p*n+k]
-				f[1] += r.accY[p*n+k]
-				f[2] += r.accW[p*n+k]
+				f[0] += float64(r.accX[p*n+k])
+				f[1] += float64(r.accY[p*n+k])
+				f[2] += float64(r.accW[p*n+k])
 			}
 			i := r.order[k]
 			dst[2*i], dst[2*i+1], r.zval[i] = f[0], f[1], f[2]
@@ -953,9 +961,12 @@ func (r *fftRepulsion) interpolateNear(dst []float64, stop func() bool) bool {
 }
 
 // pairs adds the exact kernel sums between the sorted points [alo, ahi) and
-// [blo, bhi) to the sums (ax, ay, aw), each pair once to both points. With
-// same, the two ranges are one cell and only pairs a < b count.
-func (r *fftRepulsion) pairs(ax, ay, aw []float64, alo, ahi, blo, bhi int32, same bool) {
+// [blo, bhi) to the sums (ax, ay, aw), each pair once to both points, in
+// float32 (pairSums). The coordinates are those relative to the corners of
+// the points' cells; (ox, oy) is the corner of the first range's cell
+// relative to the second's. With same, the two ranges are one cell and only
+// pairs a < b count.
+func (r *fftRepulsion) pairs(ax, ay, aw []float32, alo, ahi, blo, bhi int32, ox, oy float32, same bool) {
 	for a := alo; a < ahi; a++ {
 		from := blo
 		if same {
@@ -964,15 +975,16 @@ func (r *fftRepulsion) pairs(ax, ay, aw []float64, alo, ahi, blo, bhi int32, sam
 		if from >= bhi {
 			continue
 		}
+		xa, ya := r.rx[a]+ox, r.ry[a]+oy
 		var fx, fy, fw float64
 		if r.tail.cauchy() {
-			fx, fy, fw = pairSums(r.sx[a], r.sy[a], r.sx[from:bhi], r.sy[from:bhi], ax[from:bhi], ay[from:bhi], aw[from:bhi])
+			fx, fy, fw = pairSums(xa, ya, r.rx[from:bhi], r.ry[from:bhi], ax[from:bhi], ay[from:bhi], aw[from:bhi])
 		} else {
-			fx, fy, fw = pairSumsTail(r.sx[a], r.sy[a], r.tail, r.sx[from:bhi], r.sy[from:bhi], ax[from:bhi], ay[from:bhi], aw[from:bhi])
+			fx, fy, fw = pairSumsTail(xa, ya, r.tail, r.rx[from:bhi], r.ry[from:bhi], ax[from:bhi], ay[from:bhi], aw[from:bhi])
 		}
-		ax[a] += fx
-		ay[a] += fy
-		aw[a] += fw
+		ax[a] += float32(fx)
+		ay[a] += float32(fy)
+		aw[a] += float32(fw)
 	}
 }
 
@@ -980,6 +992,14 @@ func (r *fftRepulsion) pairs(ax, ay, aw []float64, alo, ahi, blo, bhi int32, sam
 func grow(s []float64, n int) []float64 {
 	if cap(s) < n {
 		return make([]float64, n)
+	}
+	return s[:n]
+}
+
+// growF32 is grow for float32 slices.
+func growF32(s []float32, n int) []float32 {
+	if cap(s) < n {
+		return make([]float32, n)
 	}
 	return s[:n]
 }
