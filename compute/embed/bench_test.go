@@ -83,6 +83,60 @@ func BenchmarkIteration70k(b *testing.B) {
 	cputime.Report(b, start)
 }
 
+// BenchmarkIterationByStage shows that an iteration's cost does not grow
+// with the map's extent: it records the 70k map of one fresh run at
+// iterations 300, 500, 750, 1000 and 1500 (extent about 20, 75, 125, 160
+// and 210), and times one iteration at attraction 1 on each, all processors,
+// reporting the extent, the grid's cells per side and the near field's
+// pairs per point beside the time.
+func BenchmarkIterationByStage(b *testing.B) {
+	P, _ := setup70k(b)
+	init, _ := InitPCA(case70k.x)
+	stages := []int{300, 500, 750, 1000, 1500}
+	maps := map[int][]float32{}
+	p := DefaultParams()
+	p.Iterations, p.SnapshotEvery = stages[len(stages)-1], time.Nanosecond
+	if _, err := Run(context.Background(), P, init, p, func(s Snapshot) {
+		for _, t := range stages {
+			if s.Iteration == t {
+				maps[t] = s.Layout
+			}
+		}
+	}); err != nil {
+		b.Fatal(err)
+	}
+	for _, t := range stages {
+		b.Run(fmt.Sprintf("it%d", t), func(b *testing.B) {
+			a, err := checkAffinity(P, P.Rows, 0)
+			if err != nil {
+				b.Fatal(err)
+			}
+			q := Params{Attraction: 1}
+			if err := q.check(); err != nil {
+				b.Fatal(err)
+			}
+			y, _ := toFloat64(maps[t], "layout")
+			o := newOptimizer(a, y, q)
+			o.iterate(1, lateMomentum, float64(o.n), false, never)
+			b.ReportAllocs()
+			b.ResetTimer()
+			start := cputime.Used()
+			for i := 0; i < b.N; i++ {
+				o.iterate(1, lateMomentum, float64(o.n), false, never)
+			}
+			cputime.Report(b, start)
+			r := o.fft
+			var work int64
+			if r.near {
+				work, _ = r.tally(o.n)
+			}
+			b.ReportMetric(max(o.bounds[1]-o.bounds[0], o.bounds[3]-o.bounds[2]), "extent")
+			b.ReportMetric(float64(max(r.nx, r.ny)), "cells")
+			b.ReportMetric(float64(work)/2/float64(o.n), "pairs/pt")
+		})
+	}
+}
+
 // BenchmarkRun70k times a fresh default run: 750 iterations (250 with early
 // exaggeration) from the PCA initialisation.
 func BenchmarkRun70k(b *testing.B) {
