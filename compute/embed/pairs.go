@@ -38,18 +38,20 @@ func subBlock(v *[blockRows]float64, m, q []float64) {
 // w = 1/(1 + dx² + dy²), and returns Σ_b w²·dx, Σ_b w²·dy and Σ_b w, the
 // point's own share of the same terms. All slices have the length of xs;
 // the coordinates are relative to a cell of the grid (a few units), so that
-// float32 keeps the differences to about 1e-7 of a unit. With AVX2 the first
-// len(xs) &^ 7 points go eight at a time (each lane summed separately in
-// float32, the lanes then added in float64 as (l0+l4)+(l2+l6) +
-// (l1+l5)+(l3+l7)); the rest, and every point elsewhere, go one by one in
-// order into one float32 sum per quantity.
+// float32 keeps the differences to about 1e-7 of a unit. With AVX2 the
+// points go eight at a time, the last n mod 8 with the other lanes masked
+// off (each lane summed separately in float32, the lanes then added in
+// float64 as (l0+l4)+(l2+l6) + (l1+l5)+(l3+l7)); elsewhere they go one by one
+// in order into one float32 sum per quantity.
 func pairSums(xa, ya float32, xs, ys, ax, ay, aw []float32) (fx, fy, fw float64) {
-	m := 0
-	if haveAVX2 && len(xs) >= 8 {
-		m = len(xs) &^ 7
-		fx, fy, fw = pairSumsAVX2(xa, ya, &xs[0], &ys[0], &ax[0], &ay[0], &aw[0], m)
+	if haveAVX2 {
+		if len(xs) == 0 {
+			return 0, 0, 0
+		}
+		ys, ax, ay, aw = ys[:len(xs)], ax[:len(xs)], ay[:len(xs)], aw[:len(xs)]
+		return pairSumsAVX2(xa, ya, &xs[0], &ys[0], &ax[0], &ay[0], &aw[0], len(xs))
 	}
-	xs, ys, ax, ay, aw = xs[m:], ys[m:len(xs)], ax[m:len(xs)], ay[m:len(xs)], aw[m:len(xs)]
+	ys, ax, ay, aw = ys[:len(xs)], ax[:len(xs)], ay[:len(xs)], aw[:len(xs)]
 	var sx, sy, sw float32
 	for b, xb := range xs {
 		dx, dy := xa-xb, ya-ys[b]
@@ -63,7 +65,7 @@ func pairSums(xa, ya float32, xs, ys, ax, ay, aw []float32) (fx, fy, fw float64)
 		ay[b] -= gy
 		aw[b] += w
 	}
-	return fx + float64(sx), fy + float64(sy), fw + float64(sw)
+	return float64(sx), float64(sy), float64(sw)
 }
 
 // pairSumsTail is pairSums for the kernel k of any tail α:

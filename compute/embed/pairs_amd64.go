@@ -6,7 +6,7 @@ import "lodestone/internal/cpufeat"
 // to run the portable code.
 var haveAVX2 = cpufeat.AVX2FMA
 
-// pairSumsAVX2 is pairSums for the first n points, n a positive multiple of 8.
+// pairSumsAVX2 is pairSums for n ≥ 1 points.
 //
 //go:noescape
 func pairSumsAVX2(xa, ya float32, xs, ys, ax, ay, aw *float32, n int) (fx, fy, fw float64)

@@ -435,8 +435,36 @@ CONST8(f32fact7, 0x39500d01)
 	VADDPS (R10)(AX*4), Y11, Y9; \
 	VMOVUPS Y9, (R10)(AX*4)
 
+// PAIRS8 computes, for the eight points at AX whose coordinates are in Y13
+// (x) and Y14 (y), dx = xa − x and dy = ya − y, w = 1/(1 + dx² + dy²) in
+// Y11 and the terms w²·dx, w²·dy in Y6, Y7.
+#define PAIRS8 \
+	VSUBPS Y13, Y0, Y6; \
+	VSUBPS Y14, Y1, Y7; \
+	VMULPS Y6, Y6, Y8; \
+	VFMADD231PS Y7, Y7, Y8; \
+	VADDPS Y5, Y8, Y8; \
+	VDIVPS Y8, Y5, Y11; \
+	VMULPS Y11, Y11, Y10; \
+	VMULPS Y10, Y6, Y6; \
+	VMULPS Y10, Y7, Y7
+
+// masks8 holds eight lanes of ones then eight of zeros: the eight lanes
+// from masks8 + 4·(8 − r) select the first r.
+DATA masks8<>+0(SB)/8, $0xffffffffffffffff
+DATA masks8<>+8(SB)/8, $0xffffffffffffffff
+DATA masks8<>+16(SB)/8, $0xffffffffffffffff
+DATA masks8<>+24(SB)/8, $0xffffffffffffffff
+DATA masks8<>+32(SB)/8, $0
+DATA masks8<>+40(SB)/8, $0
+DATA masks8<>+48(SB)/8, $0
+DATA masks8<>+56(SB)/8, $0
+GLOBL masks8<>(SB), RODATA|NOPTR, $64
+
 // func pairSumsAVX2(xa, ya float32, xs, ys, ax, ay, aw *float32, n int) (fx, fy, fw float64)
-// The exact near-field terms between (xa, ya) and n points, in float32.
+// The exact near-field terms between (xa, ya) and n ≥ 1 points, in float32,
+// eight per step; the last n mod 8 in a step whose other lanes are masked
+// off (read as zeros, their terms cleared, not written).
 TEXT ·pairSumsAVX2(SB), NOSPLIT, $0-80
 	VBROADCASTSS xa+0(FP), Y0
 	VBROADCASTSS ya+4(FP), Y1
@@ -446,22 +474,21 @@ TEXT ·pairSumsAVX2(SB), NOSPLIT, $0-80
 	MOVQ ay+32(FP), R9
 	MOVQ aw+40(FP), R10
 	MOVQ n+48(FP), CX
+	MOVQ CX, DX
+	ANDQ $7, DX               // the points of the last, partial step
+	ANDQ $-8, CX              // the points of full steps
 	VXORPS Y2, Y2, Y2 // Σ w²·dx
 	VXORPS Y3, Y3, Y3 // Σ w²·dy
 	VXORPS Y4, Y4, Y4 // Σ w
 	VMOVUPS f32one<>(SB), Y5
 	XORQ AX, AX
+	CMPQ AX, CX
+	JGE pairsrest
 
 pairs:
-	VSUBPS (SI)(AX*4), Y0, Y6 // dx = xa − xs[b]
-	VSUBPS (DI)(AX*4), Y1, Y7 // dy = ya − ys[b]
-	VMULPS Y6, Y6, Y8
-	VFMADD231PS Y7, Y7, Y8    // dx² + dy²
-	VADDPS Y5, Y8, Y8         // 1 + dx² + dy²
-	VDIVPS Y8, Y5, Y11        // w
-	VMULPS Y11, Y11, Y10      // w²
-	VMULPS Y10, Y6, Y6        // w²·dx
-	VMULPS Y10, Y7, Y7        // w²·dy
+	VMOVUPS (SI)(AX*4), Y13
+	VMOVUPS (DI)(AX*4), Y14
+	PAIRS8
 	VADDPS Y6, Y2, Y2
 	VADDPS Y7, Y3, Y3
 	VADDPS Y11, Y4, Y4
@@ -470,6 +497,33 @@ pairs:
 	CMPQ AX, CX
 	JLT pairs
 
+pairsrest:
+	TESTQ DX, DX
+	JZ pairsdone
+	LEAQ masks8<>+32(SB), R11
+	SHLQ $2, DX
+	SUBQ DX, R11
+	VMOVDQU (R11), Y12        // the first n mod 8 lanes
+	VMASKMOVPS (SI)(AX*4), Y12, Y13
+	VMASKMOVPS (DI)(AX*4), Y12, Y14
+	PAIRS8
+	VANDPS Y12, Y6, Y6
+	VANDPS Y12, Y7, Y7
+	VANDPS Y12, Y11, Y11
+	VADDPS Y6, Y2, Y2
+	VADDPS Y7, Y3, Y3
+	VADDPS Y11, Y4, Y4
+	VMASKMOVPS (R8)(AX*4), Y12, Y9
+	VSUBPS Y6, Y9, Y9
+	VMASKMOVPS Y9, Y12, (R8)(AX*4)
+	VMASKMOVPS (R9)(AX*4), Y12, Y9
+	VSUBPS Y7, Y9, Y9
+	VMASKMOVPS Y9, Y12, (R9)(AX*4)
+	VMASKMOVPS (R10)(AX*4), Y12, Y9
+	VADDPS Y11, Y9, Y9
+	VMASKMOVPS Y9, Y12, (R10)(AX*4)
+
+pairsdone:
 	HSUM8(Y2, X2, X6, Y7, Y8, X8, fx+56(FP))
 	HSUM8(Y3, X3, X6, Y7, Y8, X8, fy+64(FP))
 	HSUM8(Y4, X4, X6, Y7, Y8, X8, fw+72(FP))
