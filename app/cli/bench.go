@@ -44,7 +44,7 @@ func runBench(args []string, stdout, stderr io.Writer) error {
 	fs.inputPath(&run, "run", "counts section, internal: analyse the atlas folder in this process and report each stage")
 	threads := fs.Int("threads", 0, "goroutines to use (0: all processors)")
 	iterations := fs.Int("iterations", embed.DefaultIterations, "optimiser iterations of the embedding section")
-	seed := fs.Int64("seed", 1, "seed of the generated data")
+	seed := fs.Int64("seed", 1, "seed of the generated data (the counts section's atlas is drawn with it too)")
 	if err := fs.parse(args); err != nil {
 		return err
 	}

@@ -47,9 +47,10 @@ func benchGenes(n, given int) int {
 	return 30_000
 }
 
-// atlasDir returns the folder of the counts atlas of the given size.
-func atlasDir(data string, cells, genes int, gz bool) string {
-	dir := filepath.Join(data, fmt.Sprintf("example-%dx%d", cells, genes))
+// atlasDir returns the folder of the counts atlas of the given size and
+// seed.
+func atlasDir(data string, cells, genes int, seed int64, gz bool) string {
+	dir := filepath.Join(data, fmt.Sprintf("example-%dx%d-s%d", cells, genes, seed))
 	if gz {
 		dir += "-gz"
 	}
@@ -78,13 +79,14 @@ func countsName(gz bool) string {
 	return "counts.mtx"
 }
 
-// ensureAtlas writes the example atlas of the given size into its folder
-// unless it is there already, and returns the folder. A compressed atlas is
+// ensureAtlas writes the example atlas of the given size, drawn with the
+// given seed, into its folder unless it is there already, and returns the
+// folder. A compressed atlas is
 // made from the plain one. The files are written into a folder beside the
 // final one, renamed when complete, so an interrupted run leaves no atlas
 // that looks complete.
 func ensureAtlas(ctx context.Context, data string, cells, genes int, seed int64, gz bool, note func(string)) (string, error) {
-	dir := atlasDir(data, cells, genes, gz)
+	dir := atlasDir(data, cells, genes, seed, gz)
 	if atlasReady(dir, gz) {
 		note(fmt.Sprintf("reusing %s", dir))
 		return dir, nil

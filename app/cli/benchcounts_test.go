@@ -44,7 +44,7 @@ func TestBenchCountsAtlas(t *testing.T) {
 			t.Fatalf("gzip %v: the atlas read back differs from the one generated", gz)
 		}
 	}
-	if _, err := os.Stat(filepath.Join(atlasDir(data, opt.Cells, opt.Genes, false) + ".partial")); !os.IsNotExist(err) {
+	if _, err := os.Stat(filepath.Join(atlasDir(data, opt.Cells, opt.Genes, opt.Seed, false) + ".partial")); !os.IsNotExist(err) {
 		t.Error("a partial folder was left behind")
 	}
 	// A second call reuses the folder.
@@ -57,7 +57,7 @@ func TestBenchCountsAtlas(t *testing.T) {
 		return
 	}
 	var out bytes.Buffer
-	if err := benchCountsRun(ctx, &out, atlasDir(data, opt.Cells, opt.Genes, false), 20, 0, 1); err != nil {
+	if err := benchCountsRun(ctx, &out, atlasDir(data, opt.Cells, opt.Genes, opt.Seed, false), 20, 0, 1); err != nil {
 		t.Fatal(err)
 	}
 	for _, stage := range []string{"reading the files", "quality control", "principal components", "nearest neighbours",
