@@ -8,19 +8,26 @@ import (
 	"lodestone/compute/parallel"
 )
 
-// Settings of the approximate search, chosen on this package's benchmarks
-// (70,000 points in 50 dimensions: a Gaussian mixture and a branching path,
-// k = 15 and 90) for recall ≥ 0.98 at the least time.
-const (
-	forestTrees  = 16    // random-projection trees that seed the lists
-	leafMin      = 256   // bound on leaf size: max(leafMin, 2·kb)
-	buildMin     = 60    // lists hold kb = max(k, buildMin) neighbours while building
-	maxNew       = 80    // new candidates sampled per point and step
-	maxOld       = 80    // old candidates sampled per point and step
-	maxSteps     = 20    // bound on descent steps
-	stopFraction = 0.001 // stop when a step changes fewer than this share of entries (δ)
-	pointBatch   = 4096  // points joined between two applications of updates
-)
+// params are the settings of the approximate search.
+type params struct {
+	trees    int     // random-projection trees that seed the lists
+	leafMin  int     // bound on leaf size: max(leafMin, 2·kb)
+	buildMin int     // lists hold kb = max(k, buildMin) neighbours while building
+	maxNew   int     // new candidates sampled per point and step
+	maxOld   int     // old candidates sampled per point and step
+	maxSteps int     // bound on descent steps
+	stop     float64 // stop when a step changes fewer than this share of entries (δ)
+	renumber bool    // search on a copy of the rows in the order of the first tree's leaves
+}
+
+// defaults are the settings Approximate uses, chosen on this package's
+// benchmarks (70,000 points in 50 dimensions: a Gaussian mixture and a
+// branching path, k = 15 and 90) for recall ≥ 0.98 at the least time.
+var defaults = params{trees: 16, leafMin: 256, buildMin: 60, maxNew: 80, maxOld: 80, maxSteps: 20, stop: 0.001, renumber: true}
+
+// pointBatch is the number of points joined between two applications of
+// updates.
+const pointBatch = 4096
 
 // Find returns the k-nearest-neighbour graph of the rows of x, searching
 // exhaustively (Exact) when opt.Method is ExactSearch, or Auto with at most
@@ -52,6 +59,11 @@ func Find(ctx context.Context, x *atlas.Dense, opt Options) (*Graph, error) {
 //
 // Errors are those of Exact.
 func Approximate(ctx context.Context, x *atlas.Dense, opt Options) (*Graph, error) {
+	return approximate(ctx, x, opt, defaults)
+}
+
+// approximate is Approximate with settings par.
+func approximate(ctx context.Context, x *atlas.Dense, opt Options, par params) (*Graph, error) {
 	if x == nil {
 		return nil, &InputError{Row: -1, Column: -1, Err: ErrShape}
 	}
@@ -64,18 +76,19 @@ func Approximate(ctx context.Context, x *atlas.Dense, opt Options) (*Graph, erro
 	}
 	threads := parallel.Threads(opt.Threads)
 	n, k := y.Rows, opt.K
-	kb := min(max(k, buildMin), n-1)
-	leafSize := max(leafMin, 2*kb)
+	kb := min(max(k, par.buildMin), n-1)
+	leafSize := max(par.leafMin, 2*kb)
 
-	// Progress: trees count one unit each, descent steps two each.
-	total := int64(forestTrees + 2*maxSteps + 1)
+	// Progress: each tree counts one unit built and one joined, each
+	// descent step two.
+	total := int64(2*par.trees + 2*par.maxSteps + 1)
 	pf := opt.Progress
 	pf.Report(0, total)
 
 	// Build the forest, one tree per goroutine, each from its own stream.
-	trees := make([]*rpTree, forestTrees)
+	trees := make([]*rpTree, par.trees)
 	proj := make([][]float32, threads)
-	err = parallel.ForChunks(ctx, forestTrees, 1, threads, func(t, _, w int) {
+	err = parallel.ForChunks(ctx, par.trees, 1, threads, func(t, _, w int) {
 		if proj[w] == nil {
 			proj[w] = make([]float32, n)
 		}
@@ -86,18 +99,23 @@ func Approximate(ctx context.Context, x *atlas.Dense, opt Options) (*Graph, erro
 		return nil, err
 	}
 	proj = nil
+	var order []int32
+	if par.renumber {
+		y, order = renumber(y, trees, threads)
+	}
+	pf.Report(int64(par.trees), total)
 
 	l := newLists(n, kb, true)
-	j := newJoiner(y, l, threads, max(leafSize, maxNew+maxOld))
+	j := newJoiner(y, l, threads, max(leafSize, par.maxNew+par.maxOld))
 	for t, tree := range trees {
 		if err := j.joinLeaves(ctx, tree); err != nil {
 			return nil, err
 		}
 		trees[t] = nil
-		pf.Report(int64(t+1), total)
+		pf.Report(int64(par.trees+t+1), total)
 	}
-	err = j.descend(ctx, uint64(opt.Seed), maxNew, maxOld, maxSteps, stopFraction, func(s int) {
-		pf.Report(int64(forestTrees+2*s), total)
+	err = j.descend(ctx, uint64(opt.Seed), par.maxNew, par.maxOld, par.maxSteps, par.stop, func(s int) {
+		pf.Report(int64(2*par.trees+2*s), total)
 	})
 	if err != nil {
 		return nil, err
@@ -108,7 +126,9 @@ func Approximate(ctx context.Context, x *atlas.Dense, opt Options) (*Graph, erro
 		return nil, err
 	}
 	g := &Graph{N: n, K: kb, Index: l.idx, Dist: l.dist}
-	if kb > k {
+	if order != nil {
+		g = restore(g, k, order, threads)
+	} else if kb > k {
 		g = g.Truncate(k)
 	}
 	finish(g, opt.Metric, threads)
@@ -137,4 +157,62 @@ func completeShort(ctx context.Context, x *atlas.Dense, l *lists, threads int) e
 		copy(l.idx[p*l.k:(p+1)*l.k], g.Index[r*l.k:(r+1)*l.k])
 	}
 	return nil
+}
+
+// renumber returns a copy of the rows of x in the order in which the leaves
+// of trees[0] list them, so that points close in space are mostly close in
+// memory, and order, where new id r stands for old id order[r]. The trees'
+// ids are rewritten to the new numbering in place.
+func renumber(x *atlas.Dense, trees []*rpTree, threads int) (*atlas.Dense, []int32) {
+	n, dim := x.Rows, x.Cols
+	order := make([]int32, n)
+	copy(order, trees[0].perm)
+	pos := make([]int32, n) // old id → new id
+	for r, id := range order {
+		pos[id] = int32(r)
+	}
+	z := atlas.NewDense(n, dim)
+	parallel.For(n, threads, func(lo, hi, _ int) {
+		for r := lo; r < hi; r++ {
+			copy(z.Data[r*dim:(r+1)*dim], x.Row(int(order[r])))
+		}
+	})
+	parallel.For(len(trees), threads, func(lo, hi, _ int) {
+		for _, t := range trees[lo:hi] {
+			for i, id := range t.perm {
+				t.perm[i] = pos[id]
+			}
+		}
+	})
+	return z, order
+}
+
+// restore returns the first k neighbours of each point of g, a graph over
+// renumbered points, in the original numbering: row order[r] of the result
+// is row r of g, with every id mapped through order, and entries of equal
+// distance put back in order of their original ids before the row is cut
+// to k.
+func restore(g *Graph, k int, order []int32, threads int) *Graph {
+	out := &Graph{N: g.N, K: k, Index: make([]int32, g.N*k), Dist: make([]float32, g.N*k)}
+	parallel.For(g.N, threads, func(lo, hi, _ int) {
+		idx := make([]int32, g.K)
+		dist := make([]float32, g.K)
+		for r := lo; r < hi; r++ {
+			copy(dist, g.Dist[r*g.K:(r+1)*g.K])
+			for e, id := range g.Index[r*g.K : (r+1)*g.K] {
+				idx[e] = id
+				if id >= 0 {
+					idx[e] = order[id]
+				}
+				// Insertion among entries of equal distance only.
+				for m := e; m > 0 && dist[m-1] == dist[m] && idx[m-1] > idx[m]; m-- {
+					idx[m-1], idx[m] = idx[m], idx[m-1]
+				}
+			}
+			i := int(order[r])
+			copy(out.Index[i*k:(i+1)*k], idx[:k])
+			copy(out.Dist[i*k:(i+1)*k], dist[:k])
+		}
+	})
+	return out
 }

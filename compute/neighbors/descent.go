@@ -2,7 +2,8 @@ package neighbors
 
 import (
 	"context"
-	"math"
+	"math/bits"
+	"unsafe"
 
 	"lodestone/compute/atlas"
 	"lodestone/compute/parallel"
@@ -11,6 +12,14 @@ import (
 // ownerRun is the length of the runs of consecutive ids that one thread
 // owns in the apply phase.
 const ownerRun = 64
+
+// chunkPoints is the number of points a worker joins at a time; a batch is
+// cut into chunks of this size whatever the number of threads.
+const chunkPoints = 64
+
+// applyAhead is how many offers ahead the apply phase asks for the list
+// that an offer will read.
+const applyAhead = 8
 
 // update proposes from as a neighbour of to at squared distance d.
 type update struct {
@@ -24,45 +33,62 @@ type update struct {
 // Leaves of one tree are disjoint, so each leaf's pairs are offered directly
 // to lists that no other goroutine touches. The steps of nearest-neighbour
 // descent join overlapping candidate lists, so they run in two phases: a
-// join phase that computes distances on all threads, reading the lists but
-// not writing them, and keeps the offers that would enter a list in
-// per-block buffers; and an apply phase in which each thread owns a range of
-// points and applies, in block order, the offers made to them. Work is cut
-// into batches of fixed size whatever the number of threads, and each
-// batch's offers are applied in the order a single thread would have made
-// them, so the result depends only on the seed.
+// join phase that computes distances on all threads, reading the lists of
+// other points but not writing them, and keeps the offers that would enter
+// a list in per-chunk buffers; and an apply phase in which each thread owns
+// a range of points and applies, in chunk order, the offers made to them.
+// Work is cut into batches and chunks of fixed size whatever the number of
+// threads, and each batch's offers are applied in the order a single thread
+// would have made them, so the result depends only on the seed.
 type joiner struct {
 	x       *atlas.Dense
 	l       *lists
 	thr     []float32 // per point: the distance a new entry must not exceed
 	threads int
-	bufs    [][]update  // per block: offers of the current batch
-	ids     [][]int32   // per block: ids of a candidate group
-	rows    [][]float32 // per block or worker: gathered rows
-	dist    [][]float32 // per block or worker: distances from one row
-	applied []int64     // per block: entries changed in the apply phase
+	work    []*scratch // per worker
+	bufs    [][]update // per chunk of a batch: its offers
+	applied []int64    // per owner: entries changed in the apply phase
+}
+
+// scratch is one worker's memory.
+type scratch struct {
+	groups [2]group  // the group being joined and the next one
+	rows   []float32 // rows of a group, gathered
+	dist   []float32 // distances from one row
+	thr    []float32 // thresholds of a group's points
+	below  []uint8   // pairs that may enter a list, four to a byte
+	slot   []int32   // open-addressing table: index in cand + 1, or 0
+}
+
+// group is the candidates of one point in a descent step.
+type group struct {
+	cand []candidate
+	ids  []int32 // ids of cand, new ones first
+	nNew int     // number of new ones
 }
 
 // newJoiner returns a joiner for groups of at most maxGroup points.
 func newJoiner(x *atlas.Dense, l *lists, threads, maxGroup int) *joiner {
 	j := &joiner{x: x, l: l, thr: make([]float32, x.Rows), threads: threads,
-		bufs: make([][]update, threads), ids: make([][]int32, threads), rows: make([][]float32, threads),
-		dist: make([][]float32, threads), applied: make([]int64, threads)}
+		work: make([]*scratch, threads), applied: make([]int64, threads)}
 	for p := range j.thr {
 		j.thr[p] = l.worst(p)
 	}
-	for b := range j.rows {
-		j.rows[b] = make([]float32, maxGroup*x.Cols)
-		j.dist[b] = make([]float32, maxGroup)
+	for w := range j.work {
+		j.work[w] = &scratch{rows: make([]float32, maxGroup*x.Cols), dist: make([]float32, maxGroup)}
 	}
 	return j
 }
 
-// gather copies the rows of ids into the scratch of block or worker w and
-// returns it.
+// gather copies the rows of ids into the scratch of worker w and returns
+// them.
 func (j *joiner) gather(w int, ids []int32) []float32 {
 	dim := j.x.Cols
-	buf := j.rows[w][:len(ids)*dim]
+	s := j.work[w]
+	if need := len(ids) * dim; len(s.rows) < need {
+		s.rows = make([]float32, need)
+	}
+	buf := s.rows[:len(ids)*dim]
 	for r, id := range ids {
 		copy(buf[r*dim:(r+1)*dim], j.x.Data[int(id)*dim:int(id+1)*dim])
 	}
@@ -76,7 +102,7 @@ func (j *joiner) joinLeaves(ctx context.Context, t *rpTree) error {
 		ids := t.leaf(l)
 		rows := j.gather(w, ids)
 		for a := 1; a < len(ids); a++ {
-			dist := j.dist[w][:a]
+			dist := j.work[w].dist[:a]
 			sqDistRows(rows[a*dim:(a+1)*dim], rows[:a*dim], dist)
 			p := ids[a]
 			for b, d := range dist {
@@ -92,31 +118,37 @@ func (j *joiner) joinLeaves(ctx context.Context, t *rpTree) error {
 	})
 }
 
-// run calls join(item, block, buf) for items [0, n) in batches of batch
-// items, and applies the offers after each batch. It returns the number of
-// list entries that changed, or ctx.Err().
-func (j *joiner) run(ctx context.Context, n, batch int, join func(item, block int, buf []update) []update) (int64, error) {
+// run calls join(lo, hi, worker, buf) for items [0, n) in batches of batch
+// items, cut into chunks [lo, hi) of chunkPoints that the workers take in
+// turn, and applies the offers after each batch. It returns the number of list
+// entries that changed, or ctx.Err().
+func (j *joiner) run(ctx context.Context, n, batch int, join func(lo, hi, worker int, buf []update) []update) (int64, error) {
 	var total int64
+	if need := (batch + chunkPoints - 1) / chunkPoints; len(j.bufs) < need {
+		j.bufs = make([][]update, need)
+	}
 	for b0 := 0; b0 < n; b0 += batch {
-		if err := ctx.Err(); err != nil {
+		b1 := min(b0+batch, n)
+		nc := (b1 - b0 + chunkPoints - 1) / chunkPoints
+		err := parallel.ForChunks(ctx, nc, 1, j.threads, func(c, _, w int) {
+			j.bufs[c] = join(b0+c*chunkPoints, min(b0+(c+1)*chunkPoints, b1), w, j.bufs[c][:0])
+		})
+		if err != nil {
 			return total, err
 		}
-		b1 := min(b0+batch, n)
-		parallel.For(b1-b0, j.threads, func(lo, hi, blk int) {
-			buf := j.bufs[blk][:0]
-			for it := b0 + lo; it < b0+hi; it++ {
-				buf = join(it, blk, buf)
-			}
-			j.bufs[blk] = buf
-		})
-		nb := len(parallel.Blocks(b1-b0, j.threads)) - 1
 		// Owners take interleaved runs of ownerRun ids, so that the work
 		// spreads evenly even when a batch's offers crowd in one region.
 		parallel.For(j.threads, j.threads, func(o, _, _ int) {
 			var c int64
-			for _, buf := range j.bufs[:nb] {
-				for _, u := range buf {
-					if int(u.to/ownerRun)%j.threads == o && j.l.insert(int(u.to), u.from, u.d) {
+			k := j.l.k
+			for _, buf := range j.bufs[:nc] {
+				for i, u := range buf {
+					if i+applyAhead < len(buf) {
+						if v := buf[i+applyAhead].to; int(v/ownerRun)%j.threads == o {
+							prefetchSpan(unsafe.Pointer(&j.l.dist[int(v)*k]), 4*k)
+						}
+					}
+					if int(u.to/ownerRun)%j.threads == o && u.d <= j.thr[u.to] && j.l.insert(int(u.to), u.from, u.d) {
 						j.thr[u.to] = j.l.worst(int(u.to))
 						c++
 					}
@@ -131,101 +163,218 @@ func (j *joiner) run(ctx context.Context, n, batch int, join func(item, block in
 	return total, nil
 }
 
-// candidates holds, for each point, a bounded random sample of the ids to
-// be joined in one step of nearest-neighbour descent. An id offered to
-// point p is kept when the hash of the pair falls below p's share
-// c / (number of offers p will receive), so that about c of them are kept
-// whatever the order of the offers; at most c are stored.
-type candidates struct {
-	c     int
-	id    []int32
-	size  []int32  // per point: filled slots
-	share []uint32 // per point: keep an offer when its priority is below this
+// reverse holds a copy of the lists' ids and flags as they were at the
+// start of a descent step, and their transpose: the points whose lists
+// held p are revs[start[p]:start[p+1]], in ascending order, each stored as
+// id<<1 | flag of its entry.
+type reverse struct {
+	idx   []int32
+	flag  []uint8
+	start []int
+	revs  []uint32
+	count [][]int32 // per block of sources: per point, entries that name it
 }
 
-func newCandidates(n, c int) *candidates {
-	return &candidates{c: c, id: make([]int32, n*c), size: make([]int32, n), share: make([]uint32, n)}
-}
-
-// setShare sets p's share for offers offers: all when they are at most c.
-func (s *candidates) setShare(p int, offers int32) {
-	if int(offers) <= s.c {
-		s.share[p] = math.MaxUint32
-		return
+func newReverse(n, entries, threads int) *reverse {
+	r := &reverse{idx: make([]int32, entries), flag: make([]uint8, entries),
+		start: make([]int, n+1), revs: make([]uint32, entries), count: make([][]int32, threads)}
+	for b := range r.count {
+		r.count[b] = make([]int32, n)
 	}
-	s.share[p] = uint32(uint64(s.c) << 32 / uint64(offers))
+	return r
 }
 
-// offer adds q with priority pr to the list of p when pr is below p's share
-// (a share of 0 takes nothing), the list has room and q is not there yet. It
-// reports whether q is in the list afterwards.
-func (s *candidates) offer(p int, q int32, pr uint32) bool {
-	n := int(s.size[p])
-	if s.share[p] == 0 || pr > s.share[p] {
-		return false
-	}
-	list := s.id[p*s.c : p*s.c+n]
-	for _, v := range list {
-		if v == q {
-			return true
+// build fills r from the lists l. Sources are
+// cut into blocks, one per thread; each block counts the entries that name
+// each point, and then writes them after those of the blocks before it, so
+// the order within a point's range is that of the sources whatever the
+// number of threads.
+func (r *reverse) build(l *lists, threads int) {
+	n, k := len(r.start)-1, l.k
+	nb := len(parallel.Blocks(n, threads)) - 1
+	parallel.For(n, threads, func(lo, hi, b int) {
+		copy(r.idx[lo*k:hi*k], l.idx[lo*k:hi*k])
+		copy(r.flag[lo*k:hi*k], l.flag[lo*k:hi*k])
+		c := r.count[b]
+		clear(c)
+		for _, q := range l.idx[lo*k : hi*k] {
+			if q >= 0 {
+				c[q]++
+			}
+		}
+	})
+	// count[b][p] becomes the position of block b's first entry naming p.
+	s := 0
+	for p := 0; p < n; p++ {
+		r.start[p] = s
+		for _, c := range r.count[:nb] {
+			v := int(c[p])
+			c[p] = int32(s)
+			s += v
 		}
 	}
-	if n == s.c {
-		return false
-	}
-	s.id[p*s.c+n] = q
-	s.size[p]++
-	return true
+	r.start[n] = s
+	parallel.For(n, threads, func(lo, hi, b int) {
+		c := r.count[b]
+		for p := lo; p < hi; p++ {
+			base := p * k
+			for e, q := range l.idx[base : base+k] {
+				if q >= 0 {
+					r.revs[c[q]] = uint32(p)<<1 | uint32(l.flag[base+e])
+					c[q]++
+				}
+			}
+		}
+	})
 }
 
-// list returns the ids of p's list.
-func (s *candidates) list(p int) []int32 { return s.id[p*s.c : p*s.c+int(s.size[p])] }
+// of returns the reverse entries of p.
+func (r *reverse) of(p int) []uint32 { return r.revs[r.start[p]:r.start[p+1]] }
 
-// filters holds one small Bloom filter (Bloom 1970) per point, a picture of
-// the ids in its list taken at the start of a descent step: two bits of
-// filterWords·64 set per id. The join skips a pair whose id the filter may
-// hold. Such pairs are mostly in the list already; the few that are not
-// (false positives, about 3% with 90 ids) or that left it during the step
-// are dropped for this step only, and the step's sampling is random anyway.
-// One filter's 128 bytes stay in cache while its point meets the others of
-// a candidate group, where a look-up in the list itself would cost a binary
-// search over two arrays.
-type filters struct {
-	bits []uint64
+// candidate is one point to be joined in a descent step, with the position
+// of its entry in the list of the point whose candidates it is (−1 if it is
+// there only as a reverse neighbour) and its sampling priority.
+type candidate struct {
+	key   uint64 // priority<<32 | id, unique
+	id    int32
+	entry int32
+	fresh bool
 }
 
-// filterWords is the size of one filter in 64-bit words.
-const filterWords = 16
-
-func newFilters(n int) *filters { return &filters{bits: make([]uint64, n*filterWords)} }
-
-// filterBits returns the two bit positions of id.
-func filterBits(id int32) (uint32, uint32) {
-	z := uint64(uint32(id)) * 0x9e3779b97f4a7c15
-	z ^= z >> 29
-	z *= 0xbf58476d1ce4e5b9
-	const mask = filterWords*64 - 1
-	return uint32(z>>32) & mask, uint32(z>>48) & mask
-}
-
-// set makes p's filter hold exactly ids (empty slots, −1, skipped).
-func (f *filters) set(p int, ids []int32) {
-	w := f.bits[p*filterWords : (p+1)*filterWords]
-	clear(w)
-	for _, id := range ids {
-		if id >= 0 {
-			a, b := filterBits(id)
-			w[a>>6] |= 1 << (a & 63)
-			w[b>>6] |= 1 << (b & 63)
+// selectSmallest reorders c so that its first m elements are those of
+// smallest key (Hoare's selection with a median-of-three pivot); m < len(c).
+func selectSmallest(c []candidate, m int) {
+	lo, hi := 0, len(c)-1
+	for hi > lo {
+		mid := lo + (hi-lo)/2
+		if c[mid].key < c[lo].key {
+			c[mid], c[lo] = c[lo], c[mid]
+		}
+		if c[hi].key < c[lo].key {
+			c[hi], c[lo] = c[lo], c[hi]
+		}
+		if c[hi].key < c[mid].key {
+			c[hi], c[mid] = c[mid], c[hi]
+		}
+		if hi-lo < 3 {
+			return
+		}
+		c[mid], c[hi-1] = c[hi-1], c[mid]
+		pivot := c[hi-1].key
+		i, j := lo, hi-1
+		for {
+			for i++; c[i].key < pivot; i++ {
+			}
+			for j--; c[j].key > pivot; j-- {
+			}
+			if i >= j {
+				break
+			}
+			c[i], c[j] = c[j], c[i]
+		}
+		c[i], c[hi-1] = c[hi-1], c[i]
+		switch {
+		case i == m:
+			return
+		case m < i:
+			hi = i - 1
+		default:
+			lo = i + 1
 		}
 	}
 }
 
-// maybe reports whether p's filter may hold id.
-func (f *filters) maybe(p int, id int32) bool {
-	a, b := filterBits(id)
-	w := f.bits[p*filterWords : (p+1)*filterWords]
-	return w[a>>6]&(1<<(a&63)) != 0 && w[b>>6]&(1<<(b&63)) != 0
+// candidates collects in g.cand the candidates of p for step step: its
+// neighbours and the points that list it, as they were at the start of the
+// step, each once, flagged new when either entry is. It returns the number
+// of new ones, which come first, at most maxNew of them, followed by at
+// most maxOld old ones; when there are more, those of smallest priority (a
+// hash of the pair and the step) are kept. The old ones are dropped when no
+// candidate is new. Entries of p sampled as new are flagged old in its
+// list, where they are found at their position at the start of the step
+// or further on (entries only move back), if they are still there.
+func (j *joiner) candidates(g *group, s *scratch, rev *reverse, p int, seed uint64, step, maxNew, maxOld int) int {
+	k := j.l.k
+	base := p * k
+	idx, flag := rev.idx[base:base+k], rev.flag[base:base+k]
+	rv := rev.of(p)
+	size := 1
+	for size < 2*(k+len(rv)) {
+		size <<= 1
+	}
+	if len(s.slot) < size {
+		s.slot = make([]int32, size)
+	}
+	slot := s.slot[:size]
+	mask := uint32(size - 1)
+	cand := g.cand[:0]
+	// add records q, or marks it new when it is there already.
+	add := func(q int32, entry int32, fresh bool) {
+		h := uint32(q) * 0x9e3779b1 >> 7 & mask
+		for slot[h] != 0 {
+			if c := &cand[slot[h]-1]; c.id == q {
+				c.fresh = c.fresh || fresh
+				if entry >= 0 {
+					c.entry = entry
+				}
+				return
+			}
+			h = (h + 1) & mask
+		}
+		cand = append(cand, candidate{id: q, entry: entry, fresh: fresh})
+		slot[h] = int32(len(cand))
+	}
+	for e, q := range idx {
+		if q >= 0 {
+			add(q, int32(e), flag[e] == 1)
+		}
+	}
+	for _, v := range rv {
+		add(int32(v>>1), -1, v&1 == 1)
+	}
+	clear(slot)
+	// New ones first, then old ones.
+	nNew := 0
+	for i := range cand {
+		if cand[i].fresh {
+			cand[i], cand[nNew] = cand[nNew], cand[i]
+			nNew++
+		}
+	}
+	if nNew == 0 {
+		g.cand = cand[:0]
+		return 0
+	}
+	keep := func(part []candidate, m int) []candidate {
+		if len(part) <= m {
+			return part
+		}
+		for i := range part {
+			part[i].key = uint64(pairPriority(seed, step, int32(p), part[i].id))<<32 | uint64(uint32(part[i].id))
+		}
+		selectSmallest(part, m)
+		return part[:m]
+	}
+	fresh := keep(cand[:nNew], maxNew)
+	old := keep(cand[nNew:], maxOld)
+	cur, curFlag := j.l.idx[base:base+k], j.l.flag[base:base+k]
+	for _, c := range fresh {
+		if c.entry < 0 || flag[c.entry] != 1 {
+			continue
+		}
+		for e := int(c.entry); e < k; e++ {
+			if cur[e] == c.id {
+				if curFlag[e] == 1 {
+					curFlag[e] = 0
+				}
+				break
+			}
+		}
+	}
+	n := copy(cand, fresh)
+	n += copy(cand[n:], old)
+	g.cand = cand[:n]
+	return len(fresh)
 }
 
 // pairPriority is a hash of the unordered pair {a, b} and the step, the same
@@ -252,115 +401,43 @@ func pairPriority(seed uint64, step int, a, b int32) uint32 {
 // points that have new ones, since only those are joined. It stops when a
 // step changes fewer than delta·N·k list entries or after maxSteps steps,
 // and reports each step to step(done).
+//
+// Points are joined in batches in order of id, each batch's offers applied
+// before the next batch is joined; candidates are drawn from the lists as
+// they stood at the start of the step.
 func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSteps int, delta float64, step func(int)) error {
 	n, k := j.x.Rows, j.l.k
-	fresh, old := newCandidates(n, maxNew), newCandidates(n, maxOld)
-	// scan calls f(p, q, e) for every entry e = (p, q) whose flag is want
-	// and for which p or q lies in [lo, hi). It stops early when ctx is
-	// done.
-	scan := func(lo, hi int, want uint8, f func(p, q int32, e int, pIn, qIn bool)) {
-		l, h := int32(lo), int32(hi)
-		for p := int32(0); p < int32(n); p++ {
-			if p%16384 == 0 && ctx.Err() != nil {
-				return
-			}
-			base := int(p) * k
-			pIn := p >= l && p < h
-			for e, q := range j.l.idx[base : base+k] {
-				if j.l.flag[base+e] != want || q < 0 {
-					continue
-				}
-				if qIn := q >= l && q < h; pIn || qIn {
-					f(p, q, base+e, pIn, qIn)
-				}
-			}
-		}
-	}
-	// sample fills to with a sample of the ids joined to each point of
-	// [lo, hi) by an entry flagged want, in either direction, for the
-	// points where wanted is true. For new entries it sets sampled[e] for
-	// the entries e of points in [lo, hi) whose id was sampled.
-	count := make([][]int32, j.threads)
-	sampled := make([]uint8, n*k)
-	sample := func(s, lo, hi int, want uint8, to *candidates, wanted func(p int32) bool, c []int32) {
-		clear(c)
-		scan(lo, hi, want, func(p, q int32, _ int, pIn, qIn bool) {
-			if pIn {
-				c[p-int32(lo)]++
-			}
-			if qIn {
-				c[q-int32(lo)]++
-			}
-		})
-		for p := lo; p < hi; p++ {
-			to.size[p] = 0
-			to.setShare(p, c[p-lo])
-			if !wanted(int32(p)) {
-				to.share[p] = 0
-			}
-		}
-		scan(lo, hi, want, func(p, q int32, e int, pIn, qIn bool) {
-			pr := pairPriority(seed, s, p, q)
-			if pIn && to.offer(int(p), q, pr) && want == 1 {
-				sampled[e] = 1
-			}
-			if qIn {
-				to.offer(int(q), p, pr)
-			}
-		})
-	}
-	all := func(int32) bool { return true }
-	members := newFilters(n)
+	rev := newReverse(n, n*k, j.threads)
 	for s := 0; s < maxSteps; s++ {
-		parallel.For(n, j.threads, func(lo, hi, blk int) {
-			if len(count[blk]) < hi-lo {
-				count[blk] = make([]int32, hi-lo)
-			}
-			c := count[blk][:hi-lo]
-			sample(s, lo, hi, 1, fresh, all, c)
-			sample(s, lo, hi, 0, old, func(p int32) bool { return fresh.size[p] > 0 }, c)
-		})
+		rev.build(j.l, j.threads)
 		if err := ctx.Err(); err != nil {
 			return err
 		}
-		// Entries sampled as new are old from now on (once every owner has
-		// read the flags). The filters take a picture of the lists.
-		parallel.For(n, j.threads, func(lo, hi, _ int) {
-			for e := lo * k; e < hi*k; e++ {
-				if sampled[e] == 1 {
-					j.l.flag[e], sampled[e] = 0, 0
-				}
+		// prepare finds the candidates of p and asks for their rows and
+		// lists to be fetched while the previous group is joined.
+		prepare := func(g *group, p, w int) {
+			g.nNew = j.candidates(g, j.work[w], rev, p, seed, s, maxNew, maxOld)
+			g.ids = g.ids[:0]
+			if g.nNew == 0 {
+				return
 			}
+			for _, c := range g.cand {
+				g.ids = append(g.ids, c.id)
+			}
+			prefetchRows(unsafe.Pointer(&j.x.Data[0]), g.ids, 4*j.x.Cols)
+			prefetchRows(unsafe.Pointer(&j.l.idx[0]), g.ids, 4*k)
+			prefetchRows(unsafe.Pointer(&j.thr[0]), g.ids, 4)
+		}
+		changed, err := j.run(ctx, n, pointBatch, func(lo, hi, w int, buf []update) []update {
+			sc := j.work[w]
+			cur, next := &sc.groups[0], &sc.groups[1]
+			prepare(cur, lo, w)
 			for p := lo; p < hi; p++ {
-				members.set(p, j.l.idx[p*k:(p+1)*k])
-			}
-		})
-		changed, err := j.run(ctx, n, pointBatch, func(p, blk int, buf []update) []update {
-			// Gather the valid new candidates, then the valid old ones.
-			ids := j.ids[blk][:0]
-			ids = append(ids, fresh.list(p)...)
-			nNew := len(ids)
-			ids = append(ids, old.list(p)...)
-			j.ids[blk] = ids
-			rows := j.gather(blk, ids)
-			dim := j.x.Cols
-			// Each new candidate meets the later new ones and all old ones.
-			for a := 0; a < nNew; a++ {
-				dist := j.dist[blk][:len(ids)-a-1]
-				sqDistRows(rows[a*dim:(a+1)*dim], rows[(a+1)*dim:], dist)
-				u := ids[a]
-				for b, d := range dist {
-					v := ids[a+1+b]
-					if v == u {
-						continue
-					}
-					if d <= j.thr[u] && !members.maybe(int(u), v) {
-						buf = append(buf, update{u, v, d})
-					}
-					if d <= j.thr[v] && !members.maybe(int(v), u) {
-						buf = append(buf, update{v, u, d})
-					}
+				if p+1 < hi {
+					prepare(next, p+1, w)
 				}
+				buf = j.localJoin(cur, w, buf)
+				cur, next = next, cur
 			}
 			return buf
 		})
@@ -373,4 +450,48 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 		}
 	}
 	return nil
+}
+
+// localJoin computes the distances between each new candidate of g and the
+// later ones, and appends to buf an offer for each end whose list the other
+// end would enter and does not hold yet.
+func (j *joiner) localJoin(g *group, w int, buf []update) []update {
+	ids, nNew := g.ids, g.nNew
+	if nNew == 0 {
+		return buf
+	}
+	sc := j.work[w]
+	if len(sc.thr) < len(ids) {
+		sc.dist = make([]float32, len(ids))
+		sc.thr = make([]float32, len(ids))
+		sc.below = make([]uint8, (len(ids)+3)/4)
+	}
+	thr := sc.thr[:len(ids)]
+	for i, id := range ids {
+		thr[i] = j.thr[id]
+	}
+	rows := j.gather(w, ids)
+	dim := j.x.Cols
+	// Each new candidate meets the later new ones and all old ones; only
+	// the pairs marked below may enter a list.
+	for a := 0; a < nNew; a++ {
+		u, tu := ids[a], thr[a]
+		vs, tv := ids[a+1:], thr[a+1:]
+		dist := sc.dist[:len(vs)]
+		below := sc.below[:(len(vs)+3)/4]
+		sqDistRowsBelow(rows[a*dim:(a+1)*dim], rows[(a+1)*dim:], dist, tu, tv, below)
+		for g, m := range below {
+			for ; m != 0; m &= m - 1 {
+				b := 4*g + bits.TrailingZeros8(m)
+				v, d := vs[b], dist[b]
+				if d <= tu && !j.l.has(int(u), v) {
+					buf = append(buf, update{u, v, d})
+				}
+				if d <= tv[b] && !j.l.has(int(v), u) {
+					buf = append(buf, update{v, u, d})
+				}
+			}
+		}
+	}
+	return buf
 }

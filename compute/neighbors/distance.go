@@ -28,6 +28,38 @@ func sqDistRows(q, rows, out []float32) {
 	}
 }
 
+// sqDistRowsBelow sets out[r] as sqDistRows does and sets bit r%4 of
+// below[r/4] when out[r] ≤ tq or out[r] ≤ thr[r], for every row r; below
+// must hold (len(out)+3)/4 bytes.
+func sqDistRowsBelow(q, rows, out []float32, tq float32, thr []float32, below []uint8) {
+	n, dim := len(out), len(q)
+	thr, below = thr[:n], below[:(n+3)/4]
+	if n == 0 {
+		return
+	}
+	if haveAVX2 && dim > 0 {
+		rows = rows[:n*dim]
+		sqDistRowsBelowAVX2(&q[0], &rows[0], dim, &out[0], n, tq, &thr[0], &below[0])
+		if n%4 == 0 {
+			return
+		}
+		below[n/4] = 0
+		for r := n &^ 3; r < n; r++ {
+			if out[r] <= tq || out[r] <= thr[r] {
+				below[r/4] |= 1 << (r % 4)
+			}
+		}
+		return
+	}
+	sqDistRows(q, rows, out)
+	clear(below)
+	for r, d := range out {
+		if d <= tq || d <= thr[r] {
+			below[r/4] |= 1 << (r % 4)
+		}
+	}
+}
+
 // sqDistGo is the portable kernel: four float32 lanes added in a fixed order.
 func sqDistGo(a, b []float32) float32 {
 	b = b[:len(a)]

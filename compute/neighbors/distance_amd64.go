@@ -21,3 +21,15 @@ func sqDistRowsAVX2(q, rows *float32, dim int, out *float32, n int)
 //
 //go:noescape
 func sqDistTileAVX2(q *float32, dim int, tile, thr, out *float32, mask *uint32)
+
+// sqDistRowsBelowAVX2 computes out as sqDistRowsAVX2 does and sets, for
+// each full group g of four rows, bit i of below[g] when out[4g+i] ≤ tq or
+// out[4g+i] ≤ thr[4g+i]; the last n mod 4 rows get their distances only.
+//
+//go:noescape
+func sqDistRowsBelowAVX2(q, rows *float32, dim int, out *float32, n int, tq float32, thr *float32, below *uint8)
+
+// containsAVX2 reports whether q is among the n ≥ 0 ids at ids.
+//
+//go:noescape
+func containsAVX2(ids *int32, n int, q int32) bool

@@ -152,6 +152,146 @@ done:
 	VZEROUPPER
 	RET
 
+// func sqDistRowsBelowAVX2(q, rows *float32, dim int, out *float32, n int, tq float32, thr *float32, below *uint8)
+//
+// sqDistRowsAVX2 with the same arithmetic, which also sets, for each full
+// group of four rows g, below[g] bit i when out[4g+i] ≤ tq or
+// out[4g+i] ≤ thr[4g+i]; the last n mod 4 rows get distances only.
+TEXT ·sqDistRowsBelowAVX2(SB), NOSPLIT, $0-64
+	MOVQ q+0(FP), SI
+	MOVQ rows+8(FP), DI
+	MOVQ dim+16(FP), BX
+	MOVQ out+24(FP), R8
+	MOVQ n+32(FP), R9
+	VBROADCASTSS tq+40(FP), X10
+
+	// Y9: mask of the last dim mod 8 lanes.
+	MOVQ    BX, CX
+	ANDQ    $7, CX
+	LEAQ    tailmask<>(SB), AX
+	MOVQ    $8, DX
+	SUBQ    CX, DX
+	VMOVDQU (AX)(DX*4), Y9
+
+	MOVQ BX, R10
+	SHLQ $2, R10 // row stride in bytes
+	MOVQ BX, R11
+	SHRQ $3, R11 // full blocks of 8 per row
+	MOVQ thr+48(FP), DX
+	MOVQ below+56(FP), BX // the tail test reads Y9, not dim, from here on
+
+bquad:
+	CMPQ   R9, $4
+	JL     bsingle
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+	MOVQ   SI, AX
+	MOVQ   DI, R12
+	LEAQ   (DI)(R10*2), R13
+	ADDQ   R10, R13 // R13: row 3; rows 1 and 2 are R12+R10, R12+2·R10
+	MOVQ   R11, CX
+
+bqloop:
+	TESTQ       CX, CX
+	JZ          bqtail
+	VMOVUPS     (AX), Y4
+	VSUBPS      (R12), Y4, Y5
+	VFMADD231PS Y5, Y5, Y0
+	VSUBPS      (R12)(R10*1), Y4, Y6
+	VFMADD231PS Y6, Y6, Y1
+	VSUBPS      (R12)(R10*2), Y4, Y7
+	VFMADD231PS Y7, Y7, Y2
+	VSUBPS      (R13), Y4, Y8
+	VFMADD231PS Y8, Y8, Y3
+	ADDQ        $32, AX
+	ADDQ        $32, R12
+	ADDQ        $32, R13
+	DECQ        CX
+	JMP         bqloop
+
+bqtail:
+	VPTEST      Y9, Y9
+	JZ          bqreduce
+	VMASKMOVPS  (AX), Y9, Y4
+	VMASKMOVPS  (R12), Y9, Y5
+	VSUBPS      Y5, Y4, Y5
+	VFMADD231PS Y5, Y5, Y0
+	LEAQ        (R12)(R10*1), AX // q's tail is in Y4 already
+	VMASKMOVPS  (AX), Y9, Y6
+	VSUBPS      Y6, Y4, Y6
+	VFMADD231PS Y6, Y6, Y1
+	LEAQ        (R12)(R10*2), AX
+	VMASKMOVPS  (AX), Y9, Y7
+	VSUBPS      Y7, Y4, Y7
+	VFMADD231PS Y7, Y7, Y2
+	VMASKMOVPS  (R13), Y9, Y8
+	VSUBPS      Y8, Y4, Y8
+	VFMADD231PS Y8, Y8, Y3
+
+bqreduce:
+	VHADDPS      Y1, Y0, Y4
+	VHADDPS      Y3, Y2, Y5
+	VHADDPS      Y5, Y4, Y4
+	VEXTRACTF128 $1, Y4, X5
+	VADDPS       X5, X4, X4
+	VMOVUPS      X4, (R8)
+	VCMPPS       $2, X10, X4, X5 // out ≤ tq
+	VMOVUPS      (DX), X6
+	VCMPPS       $2, X6, X4, X6  // out ≤ thr
+	VORPS        X5, X6, X6
+	VMOVMSKPS    X6, AX
+	MOVB         AX, (BX)
+	ADDQ         $1, BX
+	ADDQ         $16, DX
+	ADDQ         $16, R8
+	LEAQ         (DI)(R10*4), DI
+	SUBQ         $4, R9
+	JMP          bquad
+
+bsingle:
+	TESTQ  R9, R9
+	JZ     bdone
+	VXORPS Y0, Y0, Y0
+	MOVQ   SI, AX
+	MOVQ   DI, R12
+	MOVQ   R11, CX
+
+bsloop:
+	TESTQ       CX, CX
+	JZ          bstail
+	VMOVUPS     (AX), Y4
+	VSUBPS      (R12), Y4, Y5
+	VFMADD231PS Y5, Y5, Y0
+	ADDQ        $32, AX
+	ADDQ        $32, R12
+	DECQ        CX
+	JMP         bsloop
+
+bstail:
+	VPTEST      Y9, Y9
+	JZ          bsreduce
+	VMASKMOVPS  (AX), Y9, Y4
+	VMASKMOVPS  (R12), Y9, Y5
+	VSUBPS      Y5, Y4, Y5
+	VFMADD231PS Y5, Y5, Y0
+
+bsreduce:
+	VHADDPS      Y0, Y0, Y0
+	VHADDPS      Y0, Y0, Y0
+	VEXTRACTF128 $1, Y0, X1
+	VADDPS       X1, X0, X0
+	MOVSS        X0, (R8)
+	ADDQ         $4, R8
+	ADDQ         R10, DI
+	DECQ         R9
+	JMP          bsingle
+
+bdone:
+	VZEROUPPER
+	RET
+
 // func sqDistTileAVX2(q *float32, dim int, tile, thr, out *float32, mask *uint32)
 //
 // Four query rows (q, stride dim) against a tile of 16 reference rows stored
@@ -248,5 +388,59 @@ tloop:
 	SHLL         $8, R12
 	ORL          R12, DX
 	MOVL         DX, 12(R10)
+	VZEROUPPER
+	RET
+
+// func containsAVX2(ids *int32, n int, q int32) bool
+//
+// Compares q with every id, eight at a time, the last n mod 8 through a
+// masked load whose masked-out lanes are then ignored.
+TEXT ·containsAVX2(SB), NOSPLIT, $0-25
+	MOVQ         ids+0(FP), SI
+	MOVQ         n+8(FP), CX
+	MOVL         q+16(FP), AX
+	VMOVD        AX, X0
+	VPBROADCASTD X0, Y0
+	VPXOR        Y1, Y1, Y1
+
+cfour:
+	CMPQ      CX, $32
+	JL        cone
+	VPCMPEQD  (SI), Y0, Y2
+	VPCMPEQD  32(SI), Y0, Y3
+	VPCMPEQD  64(SI), Y0, Y4
+	VPCMPEQD  96(SI), Y0, Y5
+	VPOR      Y2, Y3, Y3
+	VPOR      Y4, Y5, Y5
+	VPOR      Y3, Y1, Y1
+	VPOR      Y5, Y1, Y1
+	ADDQ      $128, SI
+	SUBQ      $32, CX
+	JMP       cfour
+
+cone:
+	CMPQ     CX, $8
+	JL       ctail
+	VPCMPEQD (SI), Y0, Y2
+	VPOR     Y2, Y1, Y1
+	ADDQ     $32, SI
+	SUBQ     $8, CX
+	JMP      cone
+
+ctail:
+	TESTQ      CX, CX
+	JZ         cdone
+	LEAQ       tailmask<>(SB), AX
+	MOVQ       $8, DX
+	SUBQ       CX, DX
+	VMOVDQU    (AX)(DX*4), Y3
+	VPMASKMOVD (SI), Y3, Y2
+	VPCMPEQD   Y2, Y0, Y2
+	VPAND      Y3, Y2, Y2
+	VPOR       Y2, Y1, Y1
+
+cdone:
+	VPTEST     Y1, Y1
+	SETNE      ret+24(FP)
 	VZEROUPPER
 	RET

@@ -134,3 +134,94 @@ func TestSquaredDistances(t *testing.T) {
 		}
 	}
 }
+
+// TestBelowKernel checks sqDistRowsBelow (portable_amd64_test.go runs the
+// check on the portable path too): its distances equal sqDistRows's bit for
+// bit, and its bits mark exactly the rows whose distance does not exceed
+// the query's threshold or the row's own, for every dimension 1 … 70 and
+// every number of rows 0 … 13 (full groups of four and the rest).
+func TestBelowKernel(t *testing.T) { checkBelowKernel(t) }
+
+func checkBelowKernel(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	asm := haveAVX2
+	for dim := 1; dim <= 70; dim++ {
+		for n := 0; n <= 13; n++ {
+			rows := make([]float32, n*dim)
+			for i := range rows {
+				rows[i] = float32(rng.NormFloat64())
+			}
+			q := make([]float32, dim)
+			for i := range q {
+				q[i] = float32(rng.NormFloat64())
+			}
+			want := make([]float32, n)
+			sqDistRows(q, rows, want)
+			// Thresholds at, above and below the distances.
+			thr := make([]float32, n)
+			for r := range thr {
+				thr[r] = want[r] * float32(rng.IntN(3)) / 1.5
+				if rng.IntN(4) == 0 {
+					thr[r] = want[r]
+				}
+			}
+			tq := float32(2 * dim * rng.IntN(2))
+			if n > 0 && rng.IntN(3) == 0 {
+				tq = want[rng.IntN(n)]
+			}
+			out := make([]float32, n)
+			below := make([]uint8, (n+3)/4)
+			for i := range below {
+				below[i] = 0xff
+			}
+			sqDistRowsBelow(q, rows, out, tq, thr, below)
+			for r := 0; r < n; r++ {
+				if out[r] != want[r] {
+					t.Fatalf("asm %v, dim %d, row %d of %d: %g, want %g", asm, dim, r, n, out[r], want[r])
+				}
+				bit := below[r/4]>>(r%4)&1 == 1
+				if bit != (want[r] <= tq || want[r] <= thr[r]) {
+					t.Fatalf("asm %v, dim %d, row %d of %d: bit %v for %g against %g and %g", asm, dim, r, n, bit, want[r], tq, thr[r])
+				}
+			}
+			for r := n; r < len(below)*4; r++ {
+				if below[r/4]>>(r%4)&1 == 1 {
+					t.Fatalf("asm %v, dim %d, %d rows: bit %d set past the end", asm, dim, n, r)
+				}
+			}
+		}
+	}
+}
+
+// TestContains checks the list membership test (portable_amd64_test.go
+// runs the check on the portable path too) against a direct search, for
+// every length 1 … 100 (full blocks of 32 and 8 and the masked rest), with
+// the id at each position and absent, for the id 0 too (masked-out lanes
+// read as zero), and that the list before is not read.
+func TestContains(t *testing.T) { checkContains(t) }
+
+func checkContains(t *testing.T) {
+	for n := 1; n <= 100; n++ {
+		l := &lists{k: n, idx: make([]int32, 2*n)}
+		for i := range l.idx[:n] {
+			l.idx[i] = int32(1000 + i)
+		}
+		row := l.idx[n:]
+		for at := -1; at < n; at++ {
+			for _, q := range []int32{7, 0} {
+				for i := range row {
+					row[i] = int32(2000 + i)
+				}
+				if at >= 0 {
+					row[at] = q
+				}
+				if got := l.has(1, q); got != (at >= 0) {
+					t.Fatalf("AVX2 %v, %d ids, %d at %d: has = %v", haveAVX2, n, q, at, got)
+				}
+			}
+		}
+		if l.has(1, 1000+int32(n)-1) {
+			t.Fatalf("AVX2 %v, %d ids: found an id of the list before", haveAVX2, n)
+		}
+	}
+}

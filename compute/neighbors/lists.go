@@ -84,3 +84,17 @@ func (l *lists) insert(p int, q int32, d float32) bool {
 	}
 	return true
 }
+
+// has reports whether p's list holds q.
+func (l *lists) has(p int, q int32) bool {
+	ids := l.idx[p*l.k : (p+1)*l.k]
+	if haveAVX2 {
+		return containsAVX2(&ids[0], len(ids), q)
+	}
+	for _, id := range ids {
+		if id == q {
+			return true
+		}
+	}
+	return false
+}

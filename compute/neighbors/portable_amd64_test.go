@@ -32,3 +32,15 @@ func TestPortableKernels(t *testing.T) {
 		t.Fatalf("portable approximate search: recall %v, %v", r, err)
 	}
 }
+
+// TestPortableSmallKernels runs the checks of the thresholded distances and
+// of the membership test with the portable code on an AVX2 machine.
+func TestPortableSmallKernels(t *testing.T) {
+	if !haveAVX2 {
+		t.Skip("the portable kernels are the only ones here and are tested everywhere")
+	}
+	haveAVX2 = false
+	defer func() { haveAVX2 = true }()
+	checkBelowKernel(t)
+	checkContains(t)
+}
