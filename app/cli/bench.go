@@ -155,13 +155,13 @@ type synthData struct {
 }
 
 func benchKNN(ctx context.Context, w io.Writer, sizes []int, threads int, seed int64) error {
-	fmt.Fprintln(w, "k nearest neighbours (k = 90, 50-D Gaussian mixture; recall against exact search of 1,000 sampled cells)")
-	fmt.Fprintf(w, "%10s %12s %10s %8s %12s\n", "cells", "method", "time", "recall", "peak heap")
+	fmt.Fprintln(w, "k nearest neighbours (k = 90, 50-D Gaussian mixture; recall against exact search of 1,000 sampled cells, ± its standard error)")
+	fmt.Fprintf(w, "%10s %12s %10s %10s %17s %12s\n", "cells", "method", "time", "cpu time", "recall", "peak heap")
 	for _, n := range sizes {
 		runtime.GC()
 		d := benchData(n, seed)
 		var g *neighbors.Graph
-		start := time.Now()
+		start, cpu := time.Now(), cputime.Used()
 		peak, err := peakHeap(func() (err error) {
 			g, err = neighbors.Find(ctx, d.x, neighbors.Options{K: 90, Seed: seed, Threads: threads})
 			return err
@@ -169,13 +169,13 @@ func benchKNN(ctx context.Context, w io.Writer, sizes []int, threads int, seed i
 		if err != nil {
 			return err
 		}
-		elapsed := time.Since(start)
+		elapsed, cpu := time.Since(start), cputime.Used()-cpu
 		sample := quality.Sample(n, 1000, seed)
 		exact, err := neighbors.ExactFor(ctx, d.x, sample, neighbors.Options{K: 90, Threads: threads})
 		if err != nil {
 			return err
 		}
-		recall, err := neighbors.Recall(g, exact, sample)
+		recall, se, err := sampleRecall(g, exact, sample)
 		if err != nil {
 			return err
 		}
@@ -183,10 +183,33 @@ func benchKNN(ctx context.Context, w io.Writer, sizes []int, threads int, seed i
 		if n <= neighbors.ExactLimit {
 			method = "exact"
 		}
-		fmt.Fprintf(w, "%10d %12s %8.2f s %8.4f %12s\n", n, method, elapsed.Seconds(), recall, mib(peak))
+		fmt.Fprintf(w, "%10d %12s %8.2f s %8.2f s %8.4f ± %.4f %12s\n", n, method, elapsed.Seconds(), cpu.Seconds(), recall, se, mib(peak))
 	}
 	fmt.Fprintln(w)
 	return nil
+}
+
+// sampleRecall returns the recall of g on the sampled rows (as
+// neighbors.Recall) and its standard error, the standard deviation of the
+// rows' recalls divided by √rows.
+func sampleRecall(g, exact *neighbors.Graph, rows []int) (mean, se float64, err error) {
+	k := exact.K
+	var sum, sum2 float64
+	for r := range rows {
+		one := &neighbors.Graph{N: 1, K: k, Index: exact.Index[r*k : (r+1)*k], Dist: exact.Dist[r*k : (r+1)*k]}
+		v, err := neighbors.Recall(g, one, rows[r:r+1])
+		if err != nil {
+			return 0, 0, err
+		}
+		sum += v
+		sum2 += v * v
+	}
+	m := float64(len(rows))
+	mean = sum / m
+	if len(rows) > 1 {
+		se = math.Sqrt(max(sum2/m-mean*mean, 0) / (m - 1))
+	}
+	return mean, se, nil
 }
 
 func benchPCA(ctx context.Context, w io.Writer, threads int, seed int64) error {
