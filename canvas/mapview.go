@@ -50,6 +50,11 @@ type Map struct {
 	// OnSelection is called after a lasso changed the selection, with the
 	// number of selected cells.
 	OnSelection func(count int)
+	// OnDrawn, when set, is called on the UI goroutine after each frame in
+	// which the points were drawn, with the time the frame took from the
+	// start of drawing the points to the end of the window's paint (on a
+	// software renderer, most of a frame's cost).
+	OnDrawn func(cost time.Duration)
 
 	layout  []float32
 	colours []uint16
@@ -68,10 +73,18 @@ type Map struct {
 	glide      *fyne.Animation
 	pinned     bool
 	hasView    bool
+	moving     bool // a run moves the points: the view follows frame by frame
 
-	path  []fyne.Position // the lasso being drawn, in logical pixels
-	hover int
-	tipAt fyne.Position
+	// pointsGen counts the changes of what the points' image shows (layout,
+	// paint, style, selection, view); the renderer redraws the points only
+	// when it has not drawn this generation yet, not when only the lasso or
+	// the hover tip changed.
+	pointsGen uint64
+
+	path    []fyne.Position // the lasso being drawn, in logical pixels
+	pathGen uint64          // counts the changes of path
+	hover   int
+	tipAt   fyne.Position
 
 	grid      *spatial.Grid
 	gridStale bool
@@ -120,6 +133,17 @@ func (m *Map) SetLayout(layout []float32) {
 	m.layout = layout
 	m.gridStale = true
 	m.follow()
+	m.refreshPoints()
+}
+
+// SetMoving tells the map whether a run moves its points. While it does,
+// the view follows the layout frame by frame, each frame drawn once; when
+// the run stops, the view glides to the fitted view of the last layout.
+func (m *Map) SetMoving(moving bool) { m.moving = moving }
+
+// refreshPoints redraws the points and what lies over them.
+func (m *Map) refreshPoints() {
+	m.pointsGen++
 	m.Refresh()
 }
 
@@ -132,14 +156,14 @@ func (m *Map) SetPaint(colours []uint16, palette []color.NRGBA) {
 	m.colours, m.palette = colours, palette
 	m.updateDrawColours()
 	m.gridStale = true
-	m.Refresh()
+	m.refreshPoints()
 }
 
 // SetPointStyle changes the point radius (logical pixels) and opacity.
 func (m *Map) SetPointStyle(radius, opacity float64) {
 	m.style.Radius = math.Max(0.3, math.Min(radius, 12))
 	m.style.Opacity = math.Max(0.05, math.Min(opacity, 1))
-	m.Refresh()
+	m.refreshPoints()
 }
 
 // PointStyle returns the point radius and opacity.
@@ -173,7 +197,7 @@ func (m *Map) applySelection(sel []bool) {
 		}
 	}
 	m.updateDrawColours()
-	m.Refresh()
+	m.refreshPoints()
 	if m.OnSelection != nil {
 		m.OnSelection(m.selCount)
 	}
@@ -211,7 +235,7 @@ func (m *Map) ClearSelection() {
 func (m *Map) Fit() {
 	m.pinned = false
 	m.follow()
-	m.Refresh()
+	m.refreshPoints()
 }
 
 // Order returns the drawing order of the cells.
@@ -231,7 +255,7 @@ func (m *Map) SetView(v raster.View) {
 	m.stopGlide()
 	v.Width, v.Height = m.logicalSize()
 	m.view, m.hasView, m.pinned = v, true, true
-	m.Refresh()
+	m.refreshPoints()
 }
 
 // Resize sizes the widget; a pinned view keeps its centre and scale, a
@@ -240,7 +264,8 @@ func (m *Map) Resize(s fyne.Size) {
 	if s == m.Size() {
 		return
 	}
-	m.BaseWidget.Resize(s)
+	m.pointsGen++
+	m.BaseWidget.Resize(s) // lays the renderer out, which redraws the points
 	if m.pinned && m.hasView {
 		m.view.Width, m.view.Height = m.logicalSize()
 		return
@@ -336,7 +361,7 @@ func (m *Map) follow() {
 	if !ok {
 		return
 	}
-	if !m.hasView || m.view.Width != target.Width || m.view.Height != target.Height {
+	if !m.hasView || m.moving || m.view.Width != target.Width || m.view.Height != target.Height || nearView(m.view, target) {
 		m.stopGlide()
 		m.view, m.hasView = target, true
 		return
@@ -348,7 +373,7 @@ func (m *Map) follow() {
 				return
 			}
 			m.view = blendViews(m.viewFrom, m.viewTarget, float64(t))
-			m.Refresh()
+			m.refreshPoints()
 		})
 		m.glide.Curve = fyne.AnimationEaseOut
 	} else {
@@ -367,6 +392,15 @@ func (m *Map) stopGlide() {
 	}
 }
 
+// nearView reports whether the fitted view b differs from a by less than
+// half a pixel at the map's edges, so that gliding there would show
+// nothing.
+func nearView(a, b raster.View) bool {
+	half := math.Max(float64(b.Width), float64(b.Height)) / 2
+	return math.Abs(a.CenterX-b.CenterX)*b.Scale < 0.5 && math.Abs(a.CenterY-b.CenterY)*b.Scale < 0.5 &&
+		math.Abs(a.Scale/b.Scale-1)*half < 0.5
+}
+
 // blendViews interpolates centre linearly and scale geometrically.
 func blendViews(a, b raster.View, t float64) raster.View {
 	return raster.View{
@@ -383,7 +417,7 @@ func (m *Map) Dragged(e *fyne.DragEvent) {
 		m.stopGlide()
 		m.pinned = true
 		m.view = m.view.Pan(float64(e.Dragged.DX), float64(e.Dragged.DY))
-		m.Refresh()
+		m.refreshPoints()
 		return
 	}
 	p := e.Position
@@ -396,11 +430,13 @@ func (m *Map) Dragged(e *fyne.DragEvent) {
 		m.path = append(m.path, fyne.NewPos(p.X-e.Dragged.DX, p.Y-e.Dragged.DY))
 	}
 	m.path = append(m.path, p)
+	m.pathGen++
 	m.Refresh()
 }
 
 // DragEnd closes the lasso and applies it to the selection.
 func (m *Map) DragEnd() {
+	m.pathGen++
 	if m.tool == Move || len(m.path) < 3 {
 		m.path = m.path[:0]
 		m.Refresh()
@@ -413,6 +449,7 @@ func (m *Map) DragEnd() {
 	}
 	m.path = m.path[:0]
 	m.ApplyLasso(poly, m.tool == LassoSubtract)
+	m.Refresh()
 }
 
 // ApplyLasso adds the visible cells inside poly (x0,y0,x1,y1,… in data
@@ -449,7 +486,7 @@ func (m *Map) Scrolled(e *fyne.ScrollEvent) {
 	m.pinned = true
 	f := math.Pow(1.0015, float64(e.Scrolled.DY))
 	m.view = m.view.ZoomAt(float64(e.Position.X), float64(e.Position.Y), f)
-	m.Refresh()
+	m.refreshPoints()
 }
 
 // MouseIn starts hover tracking.
@@ -516,6 +553,8 @@ func (m *Map) CreateRenderer() fyne.WidgetRenderer {
 	r.tipText.TextSize = theme.CaptionTextSize()
 	r.tipBox.Hide()
 	r.tipText.Hide()
+	r.overlay.Hide()
+	r.pointsGen = m.pointsGen
 	return r
 }
 
@@ -530,12 +569,39 @@ type mapRenderer struct {
 
 	rend raster.Renderer
 	img  *image.RGBA
+
+	pointsGen, pathGen uint64 // the widget's generations last refreshed
 }
 
 func (r *mapRenderer) Layout(s fyne.Size) {
+	r.pointsGen = r.m.pointsGen // a new size redraws the points (Raster.Resize)
 	r.points.Resize(s)
 	r.overlay.Resize(s)
 	r.placeTip()
+}
+
+// Refresh redraws what changed: the points when the widget's pointsGen
+// moved on, the lasso when its path did (the lasso's layer is hidden while
+// there is none, so that the window does not upload an empty image over the
+// map with every frame), and the tip.
+func (r *mapRenderer) Refresh() {
+	m := r.m
+	r.placeTip()
+	if r.pointsGen != m.pointsGen {
+		r.pointsGen = m.pointsGen
+		r.points.Refresh()
+	}
+	if r.pathGen != m.pathGen {
+		r.pathGen = m.pathGen
+		if len(m.path) < 2 {
+			r.overlay.Hide()
+		} else {
+			r.overlay.Show()
+			r.overlay.Refresh()
+		}
+	}
+	r.tipBox.Refresh()
+	r.tipText.Refresh()
 }
 
 func (r *mapRenderer) MinSize() fyne.Size { return r.m.MinSize() }
@@ -545,14 +611,6 @@ func (r *mapRenderer) Objects() []fyne.CanvasObject {
 }
 
 func (r *mapRenderer) Destroy() {}
-
-func (r *mapRenderer) Refresh() {
-	r.placeTip()
-	r.points.Refresh()
-	r.overlay.Refresh()
-	r.tipBox.Refresh()
-	r.tipText.Refresh()
-}
 
 func (r *mapRenderer) placeTip() {
 	m := r.m
@@ -639,8 +697,16 @@ func (r *mapRenderer) drawPoints(w, h int) image.Image {
 	v := m.view
 	v.Scale *= s
 	v.Width, v.Height = w, h
+	start := time.Now()
 	if err := r.rend.Draw(r.img, m.layout, m.drawColours, m.drawPalette, m.order, v, st, 0); err != nil {
 		fyne.LogError("drawing the map", err)
+	}
+	if m.OnDrawn != nil {
+		drawn := time.Now()
+		cost := drawn.Sub(start)
+		// Queued from the paint, this runs after the window's frame has
+		// been painted and shown.
+		fyne.Do(func() { m.OnDrawn(cost + time.Since(drawn)) })
 	}
 	return r.img
 }

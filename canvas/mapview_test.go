@@ -6,8 +6,10 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+	"time"
 
 	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/driver/desktop"
 	"fyne.io/fyne/v2/test"
 
 	"lodestone/canvas/raster"
@@ -272,5 +274,124 @@ func TestResizeRefitsAFollowingView(t *testing.T) {
 	m.Fit()
 	if m.Pinned() {
 		t.Fatal("Fit left the view pinned")
+	}
+}
+
+// TestPointsRedrawOnlyWhenTheyChange checks which changes of the widget
+// redraw its points: the layout, paint, style, selection and view do; the
+// hover tip and a lasso being drawn do not (the points' image stays, and
+// the lasso's layer is shown only while there is a lasso).
+func TestPointsRedrawOnlyWhenTheyChange(t *testing.T) {
+	a := test.NewApp()
+	defer a.Quit()
+	m := NewMap()
+	w := test.NewWindow(m)
+	defer w.Close()
+	w.Resize(fyne.NewSize(300, 200))
+	m.SetLayout(randomLayout(800, 4))
+	m.SetPaint(make([]uint16, 800), []color.NRGBA{{R: 200, A: 255}})
+	w.Canvas().Capture()
+	r := test.WidgetRenderer(m).(*mapRenderer)
+	gen := m.pointsGen
+	if r.pointsGen != gen {
+		t.Fatalf("after a refresh the renderer has generation %d of %d", r.pointsGen, gen)
+	}
+	if r.overlay.Visible() {
+		t.Fatal("the lasso's layer is shown without a lasso")
+	}
+	// Hover over every cell in turn: only the tip changes.
+	m.HoverText = func(i int) string { return "cell" }
+	for k := 0; k < 20; k++ {
+		m.MouseMoved(&desktop.MouseEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(float32(10*k), float32(5*k))}})
+	}
+	// A lasso being drawn: only its layer changes.
+	m.SetTool(LassoAdd)
+	for k := 1; k < 10; k++ {
+		m.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(float32(20+10*k), float32(30+7*k))}, Dragged: fyne.NewDelta(10, 7)})
+	}
+	if m.pointsGen != gen || r.pointsGen != gen {
+		t.Fatalf("hovering and drawing a lasso moved the points' generation from %d to %d (renderer %d)", gen, m.pointsGen, r.pointsGen)
+	}
+	if !r.overlay.Visible() {
+		t.Fatal("the lasso being drawn is not shown")
+	}
+	m.DragEnd() // selects cells: the points change
+	if r.overlay.Visible() {
+		t.Fatal("the lasso's layer stays after the lasso closed")
+	}
+	changes := []struct {
+		what string
+		do   func()
+	}{
+		{"the selection", func() {}}, // DragEnd above
+		{"the layout", func() { m.SetLayout(randomLayout(800, 5)) }},
+		{"the paint", func() { m.SetPaint(make([]uint16, 800), []color.NRGBA{{B: 200, A: 255}}) }},
+		{"the style", func() { m.SetPointStyle(2, 0.5) }},
+		{"a pan", func() {
+			m.SetTool(Move)
+			m.Dragged(&fyne.DragEvent{Dragged: fyne.NewDelta(5, 0)})
+		}},
+		{"a zoom", func() {
+			m.Scrolled(&fyne.ScrollEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(50, 50)}, Scrolled: fyne.NewDelta(0, 40)})
+		}},
+		{"Fit", m.Fit},
+		{"a resize", func() { w.Resize(fyne.NewSize(320, 220)) }},
+	}
+	for _, c := range changes {
+		c.do()
+		if m.pointsGen == gen || r.pointsGen != m.pointsGen {
+			t.Fatalf("%s did not redraw the points: generation %d → %d, renderer %d", c.what, gen, m.pointsGen, r.pointsGen)
+		}
+		gen = m.pointsGen
+	}
+}
+
+// TestMovingViewFollowsEachFrame checks that while a run moves the points
+// the view is the fitted view of each new layout at once (each frame is
+// drawn once, without a glide between frames), and that a layout shown
+// while nothing moves is glided to.
+func TestMovingViewFollowsEachFrame(t *testing.T) {
+	a := test.NewApp()
+	defer a.Quit()
+	m := NewMap()
+	w := test.NewWindow(m)
+	defer w.Close()
+	w.Resize(fyne.NewSize(300, 200))
+	m.SetLayout(randomLayout(500, 6))
+	m.SetMoving(true)
+	for k := 1; k <= 3; k++ {
+		l := randomLayout(500, 6)
+		for i := range l {
+			l[i] = l[i]*float32(1+k) + float32(3*k)
+		}
+		m.SetLayout(l)
+		want, _ := m.fitted()
+		if m.View() != want || m.glide != nil {
+			t.Fatalf("frame %d: view %+v, want the fitted %+v at once (glide %v)", k, m.View(), want, m.glide)
+		}
+	}
+	m.SetMoving(false)
+	m.SetLayout(randomLayout(500, 7))
+	want, _ := m.fitted()
+	if m.glide == nil || m.viewTarget != want {
+		t.Fatalf("no glide to a layout shown while nothing moves (target %+v, want %+v)", m.viewTarget, want)
+	}
+}
+
+// TestOnDrawnReportsTheFrame checks that drawing the points reports a
+// frame with its cost.
+func TestOnDrawnReportsTheFrame(t *testing.T) {
+	a := test.NewApp()
+	defer a.Quit()
+	m := NewMap()
+	var costs []time.Duration
+	m.OnDrawn = func(d time.Duration) { costs = append(costs, d) }
+	w := test.NewWindow(m)
+	defer w.Close()
+	w.Resize(fyne.NewSize(300, 200))
+	m.SetLayout(randomLayout(20000, 8))
+	w.Canvas().Capture()
+	if len(costs) != 1 || costs[0] <= 0 {
+		t.Fatalf("one drawing reported %v", costs)
 	}
 }

@@ -70,6 +70,7 @@ func newAtlasView(u *ui, src source, d *atlas.Dataset, p *pipeline.Prepared) *at
 	v.paint = newPaintPanel(v.st, v.jobs, u, u.win)
 	v.mapP = newMapPanel(v.st, v.paint.keyObject(), func() { v.groups.fromSelection() })
 	v.run = newRunPanel(v.st, v.jobs, u)
+	v.mapP.mapView.OnDrawn = v.run.frameDrawn
 	v.groups = newGroupsPanel(v.st, u, u.win, v.mapP.selectCells,
 		func() { v.paint.paintBy(groupsChoice) }, func() { v.reveal(tabGroups) })
 	v.markers = newMarkersPanel(v.st, v.jobs, u, v.files, v.paint.showGene, v.plots)

@@ -122,6 +122,7 @@ func (m *mapPanel) showKey(show bool) {
 // showLayout draws the layout on screen; the first one chooses a point
 // style for the atlas's size.
 func (m *mapPanel) showLayout() {
+	m.mapView.SetMoving(m.st.run.Running)
 	m.mapView.SetLayout(m.st.layout)
 	if !m.styled && len(m.st.layout) > 0 {
 		m.styled = true

@@ -47,6 +47,9 @@ type runPanel struct {
 	perp         float64 // the perplexity of the affinities in use
 	affinityBusy bool    // affinities for a new perplexity are being computed
 	framePending atomic.Bool
+	pacer        *live.Pacer  // spaces the frames of a run (see live.FrameShare)
+	shownRun     atomic.Int64 // the run whose iterations are on screen (Status.Runs; 0 before its first)
+	buttonShows  string       // what the Stop/Continue button shows
 
 	dial       *lcanvas.Dial
 	grain      *grainControl
@@ -72,7 +75,7 @@ type runSnapshot struct {
 }
 
 func newRunPanel(st *atlasState, jobs *viewJobs, errs errorShower) *runPanel {
-	r := &runPanel{st: st, jobs: jobs, errs: errs, perp: st.prep.Settings.Perplexity}
+	r := &runPanel{st: st, jobs: jobs, errs: errs, perp: st.prep.Settings.Perplexity, pacer: live.NewPacer(st.cells())}
 	var opt live.Optimizer
 	if p := st.prep; p.P != nil {
 		r.optimizer = &live.TSNE{P: p.P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}
@@ -130,7 +133,7 @@ func (r *runPanel) startTicker() {
 			case <-ctx.Done():
 				return
 			case <-t.C:
-				r.jobs.do(r.showFrame)
+				r.jobs.do(r.showStatus)
 			}
 		}
 	})
@@ -151,9 +154,14 @@ func (r *runPanel) enable() {
 }
 
 // frameReady is called by the engine from its goroutine; it schedules one
-// redraw at a time on the UI goroutine.
+// frame at a time on the UI goroutine: at once for the first frame of a run
+// and when a run has ended, otherwise when the pacer says the next frame is
+// due, so that drawing takes at most a share of the optimiser's time.
 func (r *runPanel) frameReady() {
-	if r.framePending.CompareAndSwap(false, true) {
+	if !r.framePending.CompareAndSwap(false, true) {
+		return
+	}
+	show := func() {
 		fyne.Do(func() {
 			r.framePending.Store(false)
 			if !r.jobs.closed() {
@@ -161,19 +169,49 @@ func (r *runPanel) frameReady() {
 			}
 		})
 	}
+	_, st := r.engine.Latest()
+	if wait := r.pacer.Wait(time.Now()); wait > 0 && st.Running && int64(st.Runs) == r.shownRun.Load() {
+		time.AfterFunc(wait, show)
+		return
+	}
+	show()
 }
+
+// frameDrawn records what drawing a frame of the map cost.
+func (r *runPanel) frameDrawn(cost time.Duration) { r.pacer.Spend(cost) }
 
 // showFrame publishes the newest layout and the run's status.
 func (r *runPanel) showFrame() {
+	start := time.Now()
 	layout, st := r.engine.Latest()
 	if len(layout) == 0 {
 		layout = r.st.layout
 	}
+	r.pacer.Shown(start)
+	if st.Iteration > 0 {
+		r.shownRun.Store(int64(st.Runs))
+	}
 	r.st.setLayout(layout, st)
+	r.pacer.Spend(time.Since(start))
+}
+
+// showStatus refreshes the run's status (its elapsed time) and leaves the
+// map as it is: new layouts come through frameReady, paced.
+func (r *runPanel) showStatus() {
+	_, st := r.engine.Latest()
+	r.st.setLayout(r.st.layout, st)
 }
 
 // showRunning shows Stop while a run goes, Continue otherwise.
 func (r *runPanel) showRunning() {
+	want := "Continue"
+	if r.st.run.Running {
+		want = "Stop"
+	}
+	if r.buttonShows == want {
+		return // unchanged: no refresh of the button with every frame
+	}
+	r.buttonShows = want
 	if r.st.run.Running {
 		r.stopBtn.SetText("Stop")
 		r.stopBtn.SetIcon(theme.MediaStopIcon())
