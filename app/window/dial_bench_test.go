@@ -66,7 +66,7 @@ func setupDialBench(b *testing.B, n int) *dialBench {
 			b.Fatal(err)
 		}
 		opt := &live.TSNE{P: d.P, Seed: 1}
-		if d.layout, err = opt.Run(ctx, d.init, 1, embed.DefaultIterations, true, nil); err != nil {
+		if d.layout, err = opt.Run(ctx, d.init, live.RunOptions{Attraction: 1, Iterations: embed.DefaultIterations, Early: true}, nil); err != nil {
 			b.Fatal(err)
 		}
 		if err := d.write(path); err != nil {
