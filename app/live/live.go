@@ -34,8 +34,14 @@ type RunOptions struct {
 	// Tail is the kernel's tail α (embed.Params.Tail): 1 is t-SNE, and 0
 	// means 1.
 	Tail       float64
-	Iterations int  // iterations to run
+	Iterations int  // iterations to run (at most, with Settle)
 	Early      bool // begin with the early-exaggeration phase (a fresh run)
+	// Settle ends the run once the layout has settled (embed.Params.StopSettled),
+	// which makes Iterations a ceiling.
+	Settle bool
+	// FrameEvery is the least time between two frames (embed's
+	// snapshots); 0 means embed.DefaultSnapshotEvery.
+	FrameEvery time.Duration
 }
 
 // Optimizer is what an Engine drives: the t-SNE optimiser with its affinities
@@ -99,6 +105,10 @@ type Step struct {
 	// histories from before the tail could be set, means t-SNE's 1. A
 	// spectral step records it without depending on it.
 	Tail float64 `json:"tail,omitempty"`
+	// Settled reports that the step ended because its layout had settled
+	// (RunOptions.Settle), after Done of its Iterations. Replays run Done
+	// iterations either way.
+	Settled bool `json:"settled,omitempty"`
 }
 
 // TailOf returns the tail of the last step of history (1 when there is none
@@ -174,9 +184,10 @@ type Engine struct {
 	onFrame func()
 	history []Step
 
-	mu     sync.Mutex
-	tail   float64 // of the runs to come (SetTail)
-	layout []float32
+	mu         sync.Mutex
+	tail       float64       // of the runs to come (SetTail)
+	frameEvery time.Duration // of the runs to come (SetFrameEvery)
+	layout     []float32
 	status Status
 	gen    uint64
 	cancel context.CancelFunc
@@ -219,9 +230,9 @@ func (e *Engine) SetLayout(layout []float32, history []Step) {
 	e.history = append([]Step(nil), history...)
 	e.tail = TailOf(history)
 	e.status.Tail = e.tail
-	e.status.Iteration = 0
+	e.status.Iteration, e.status.Settled = 0, false
 	if n := len(history); n > 0 {
-		e.status.Iteration = history[n-1].Done
+		e.status.Iteration, e.status.Settled = history[n-1].Done, history[n-1].Settled
 	}
 	e.mu.Unlock()
 	e.notify()
@@ -233,9 +244,23 @@ func (e *Engine) History() []Step {
 	defer e.mu.Unlock()
 	h := append([]Step(nil), e.history...)
 	if n := len(h); n > 0 {
-		h[n-1].Done = e.status.Iteration
+		e.endStep(&h[n-1])
 	}
 	return h
+}
+
+// endStep records in s, the last step, how far the run on screen got.
+func (e *Engine) endStep(s *Step) {
+	s.Done = e.status.Iteration
+	s.Settled = s.Kind == Warm && e.status.Settled && !e.status.Running && s.Done > 0
+}
+
+// SetFrameEvery sets the least time between two frames of the runs started
+// from now on (RunOptions.FrameEvery); the window sets it from its pacer.
+func (e *Engine) SetFrameEvery(d time.Duration) {
+	e.mu.Lock()
+	e.frameEvery = d
+	e.mu.Unlock()
 }
 
 // SetOptimizer stops any run and drives opt from now on (for example after
@@ -268,9 +293,10 @@ func (e *Engine) Tail() float64 {
 	return e.tail
 }
 
-// Turn starts a warm run at the given attraction from the layout on screen:
-// iterations iterations without early exaggeration, with the tail set by
-// SetTail. An attraction of +Inf moves to the spectral layout instead.
+// Turn starts a warm run at the given attraction from the layout on screen,
+// without early exaggeration, with the tail set by SetTail: it ends once
+// the layout has settled, after at most iterations iterations. An
+// attraction of +Inf moves to the spectral layout instead.
 func (e *Engine) Turn(attraction float64, iterations int) {
 	e.start(attraction, iterations, false)
 }
@@ -317,9 +343,9 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 	gen := e.gen
 	from := e.layout
 	if n := len(e.history); n > 0 {
-		e.history[n-1].Done = e.status.Iteration
+		e.endStep(&e.history[n-1])
 	}
-	tail := e.tail
+	tail, frameEvery := e.tail, e.frameEvery
 	step := Step{Kind: Warm, Attraction: attraction, Iterations: iterations, Setting: e.setting, Tail: tail}
 	switch {
 	case math.IsInf(attraction, 1):
@@ -354,7 +380,8 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 		if math.IsInf(attraction, 1) {
 			err = e.toSpectral(ctx, opt, gen, from)
 		} else {
-			o := RunOptions{Attraction: attraction, Tail: tail, Iterations: iterations, Early: fresh}
+			o := RunOptions{Attraction: attraction, Tail: tail, Iterations: iterations, Early: fresh,
+				Settle: !fresh, FrameEvery: frameEvery}
 			_, err = opt.Run(ctx, from, o, func(f Frame) { e.publish(gen, f) })
 		}
 		e.finish(gen, err)

@@ -33,6 +33,10 @@ func (t *TSNE) Run(ctx context.Context, init []float32, o RunOptions, publish fu
 	}
 	p.Seed = t.Seed
 	p.Threads = t.Threads
+	p.StopSettled = o.Settle
+	if o.FrameEvery > 0 {
+		p.SnapshotEvery = o.FrameEvery
+	}
 	var pub func(embed.Snapshot)
 	if publish != nil {
 		pub = func(s embed.Snapshot) {

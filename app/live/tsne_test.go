@@ -49,7 +49,7 @@ func TestRapidTurnsOfTheRealOptimiser(t *testing.T) {
 	e.Turn(4, 100)
 	e.Wait()
 	got, st := e.Latest()
-	if st.Running || st.Err != nil || st.Iteration != 100 {
+	if st.Running || st.Err != nil || st.Iteration > 100 || st.Iteration < 100 && !st.Settled {
 		t.Fatalf("status after the last turn: %+v", st)
 	}
 	for _, v := range got {
@@ -65,6 +65,48 @@ func TestRapidTurnsOfTheRealOptimiser(t *testing.T) {
 		if math.Float32bits(got[i]) != math.Float32bits(replayed[i]) {
 			t.Fatalf("replayed layout differs at %d: %v vs %v", i, replayed[i], got[i])
 		}
+	}
+}
+
+// TestSettledTurnStopsEarlyAndReplays turns the dial of a finished map with
+// a generous ceiling: the run ends once the layout has settled, well before
+// the ceiling, the history records where, and replaying the history gives
+// the layout on screen bit for bit.
+func TestSettledTurnStopsEarlyAndReplays(t *testing.T) {
+	opt, init := realOptimizer(t)
+	e := New(opt, 10, init, nil)
+	e.Restart(1, embed.DefaultIterations)
+	e.Wait()
+	const ceiling = 5000
+	for _, a := range []float64{4, 1.5} { // raising (compacted), then lowering
+		e.Turn(a, ceiling)
+		e.Wait()
+		_, st := e.Latest()
+		if st.Running || st.Err != nil || !st.Settled || st.Iteration >= ceiling/5 {
+			t.Fatalf("turn to %v: status %+v; want settled within %d iterations", a, st, ceiling/5)
+		}
+		h := e.History()
+		last := h[len(h)-1]
+		if !last.Settled || last.Done != st.Iteration || last.Iterations != ceiling {
+			t.Fatalf("turn to %v recorded as %+v after %d iterations", a, last, st.Iteration)
+		}
+		t.Logf("turn to %v settled after %d of at most %d iterations", a, st.Iteration, ceiling)
+	}
+	got, _ := e.Latest()
+	replayed, err := Replay(context.Background(), init, e.History(), func(float64) (Optimizer, error) { return opt, nil })
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range got {
+		if math.Float32bits(got[i]) != math.Float32bits(replayed[i]) {
+			t.Fatalf("replayed layout differs at %d: %v vs %v", i, replayed[i], got[i])
+		}
+	}
+	// A fresh run goes the whole way.
+	e.Restart(1, 400)
+	e.Wait()
+	if _, st := e.Latest(); st.Iteration != 400 {
+		t.Fatalf("a fresh run of 400 iterations ended after %d", st.Iteration)
 	}
 }
 

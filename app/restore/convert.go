@@ -76,7 +76,7 @@ func History(h []live.Step) []session.Step {
 	out := make([]session.Step, len(h))
 	for i, s := range h {
 		out[i] = session.Step{Kind: string(s.Kind), Attraction: session.Attraction(s.Attraction), Iterations: s.Iterations,
-			Done: s.Done, Setting: s.Setting, Compact: s.Compact, Tail: s.Tail}
+			Done: s.Done, Setting: s.Setting, Compact: s.Compact, Tail: s.Tail, Settled: s.Settled}
 	}
 	return out
 }
@@ -86,7 +86,7 @@ func Steps(s *session.Session) []live.Step {
 	out := make([]live.Step, len(s.History))
 	for i, st := range s.History {
 		out[i] = live.Step{Kind: live.StepKind(st.Kind), Attraction: float64(st.Attraction), Iterations: st.Iterations,
-			Done: st.Done, Setting: st.Setting, Compact: st.Compact, Tail: st.Tail}
+			Done: st.Done, Setting: st.Setting, Compact: st.Compact, Tail: st.Tail, Settled: st.Settled}
 	}
 	return out
 }

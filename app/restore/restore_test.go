@@ -77,6 +77,43 @@ func TestRecomputeReproducesTheLayout(t *testing.T) {
 	recomputeEqualsStored(t, path)
 }
 
+// TestRecomputeReproducesASettledTurn turns the dial of a session's map as
+// the window does (a warm run that ends once the layout has settled), stores
+// the new map and its history in the session, and recomputes it from the
+// inputs: the replay runs the iterations the turn did and gives the stored
+// layout bit for bit.
+func TestRecomputeReproducesASettledTurn(t *testing.T) {
+	dir := smallAtlas(t)
+	path := filepath.Join(t.TempDir(), "map"+session.Extension)
+	run(t, append([]string{"embed", "--in", dir, "--session", path, "--iterations", "300"}, prepFlags...)...)
+	s, err := session.Read(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, _, err := restore.Prepare(context.Background(), s, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	e := live.New(&live.TSNE{P: p.P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}, p.Settings.Perplexity, s.Initial, nil)
+	e.SetLayout(s.Layout, restore.Steps(s))
+	e.Turn(5, 5000)
+	e.Wait()
+	layout, st := e.Latest()
+	h := e.History()
+	if last := h[len(h)-1]; !st.Settled || !last.Settled || last.Done != st.Iteration || last.Done >= 5000 {
+		t.Fatalf("the turn ended with status %+v, recorded as %+v", st, last)
+	}
+	s.Layout, s.History, s.Attraction = layout, restore.History(h), 5
+	turned := filepath.Join(t.TempDir(), "turned"+session.Extension)
+	if err := session.Write(turned, s); err != nil {
+		t.Fatal(err)
+	}
+	back := recomputeEqualsStored(t, turned)
+	if n := len(back.History); n != 2 || !back.History[1].Settled {
+		t.Fatalf("stored history %+v; want the settled turn last", back.History)
+	}
+}
+
 // TestRecomputeStartsFromTheStoredInitialLayout embeds a map, then continues
 // from it (embed --init prior.csv --session S): the session's history is a
 // warm run from the prior layout, which the inputs alone do not give, so the
@@ -135,7 +172,7 @@ func TestCaptureRoundTrip(t *testing.T) {
 	p := &pipeline.Prepared{Settings: set, CellIDs: []string{"a", "b", "c"}, Annotations: cols}
 	hist := []live.Step{
 		{Kind: live.Fresh, Attraction: 1, Iterations: 750, Done: 750, Setting: 30},
-		{Kind: live.Warm, Attraction: 6, Iterations: 500, Done: 321, Setting: 12, Compact: true},
+		{Kind: live.Warm, Attraction: 6, Iterations: 500, Done: 321, Setting: 12, Compact: true, Settled: true},
 		{Kind: live.Spectral, Attraction: math.Inf(1), Iterations: 15, Done: 15, Setting: 12},
 	}
 	layout := []float32{1, 2, 3, 4, 5, 6}

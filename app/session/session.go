@@ -125,6 +125,9 @@ type Step struct {
 	// Tail is the kernel's tail α of the run (live.Step.Tail); absent (0)
 	// in sessions from before the tail could be set, meaning t-SNE's 1.
 	Tail float64 `json:"tail,omitempty"`
+	// Settled reports that the run ended because its layout had settled,
+	// after Done of its Iterations (live.Step.Settled).
+	Settled bool `json:"settled,omitempty"`
 }
 
 // Attraction is a dial value that marshals +Inf as the string "inf".

@@ -223,6 +223,7 @@ func (r *runPanel) showRunning() {
 
 // turn reruns the optimiser from the layout on screen at attraction x.
 func (r *runPanel) turn(x float64) {
+	r.engine.SetFrameEvery(r.pacer.Interval())
 	r.engine.Turn(x, r.iterationsPerTurn())
 	r.showFrame()
 }
@@ -238,6 +239,7 @@ func (r *runPanel) restart() {
 	if !r.st.ready {
 		return
 	}
+	r.engine.SetFrameEvery(r.pacer.Interval())
 	r.engine.Restart(r.dial.Value, live.FreshIterations)
 	r.showFrame()
 }

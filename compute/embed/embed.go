@@ -71,6 +71,11 @@ type Params struct {
 	// SnapshotEvery is the least time between two snapshots; 0 means 33 ms,
 	// about 30 per second.
 	SnapshotEvery time.Duration
+	// StopSettled ends the run after the first iteration at which the
+	// layout has settled (see Snapshot.Settled): Iterations becomes a
+	// ceiling. The iterations done are those of a run without it, so a run
+	// of as many iterations gives the same layout, bit for bit.
+	StopSettled bool
 }
 
 // Defaults of Params.

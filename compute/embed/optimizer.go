@@ -134,10 +134,15 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 		if withKL {
 			kl, lastKL, lastKLAt = k, time.Now(), t
 		}
-		if snap {
+		settled := o.settled && t+1 >= settleAfter
+		end := o.p.StopSettled && settled
+		if publish != nil && (snap || end) {
 			publish(Snapshot{Layout: o.layout(), Iteration: t + 1, Iterations: total, KL: kl,
-				Attraction: o.p.Attraction, Settled: o.settled && t+1 >= settleAfter, Done: last})
+				Attraction: o.p.Attraction, Settled: settled, Done: last || end})
 			lastPublish = time.Now()
+		}
+		if end {
+			break
 		}
 	}
 	return o.layout(), nil
