@@ -188,10 +188,10 @@ type Engine struct {
 	tail       float64       // of the runs to come (SetTail)
 	frameEvery time.Duration // of the runs to come (SetFrameEvery)
 	layout     []float32
-	status Status
-	gen    uint64
-	cancel context.CancelFunc
-	done   chan struct{}
+	status     Status
+	gen        uint64
+	cancel     context.CancelFunc
+	done       chan struct{}
 }
 
 // New returns an engine showing initial until its first run. onFrame, when
