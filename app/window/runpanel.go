@@ -48,6 +48,7 @@ type runPanel struct {
 	affinityBusy bool    // affinities for a new perplexity are being computed
 	framePending atomic.Bool
 	pacer        *live.Pacer  // spaces the frames of a run (see live.FrameShare)
+	meter        *frameMeter  // what the window's work costs
 	shownRun     atomic.Int64 // the run whose iterations are on screen (Status.Runs; 0 before its first)
 	buttonShows  string       // what the Stop/Continue button shows
 
@@ -75,7 +76,7 @@ type runSnapshot struct {
 }
 
 func newRunPanel(st *atlasState, jobs *viewJobs, errs errorShower) *runPanel {
-	r := &runPanel{st: st, jobs: jobs, errs: errs, perp: st.prep.Settings.Perplexity, pacer: live.NewPacer(st.cells())}
+	r := &runPanel{st: st, jobs: jobs, errs: errs, perp: st.prep.Settings.Perplexity, pacer: live.NewPacer(st.cells()), meter: newFrameMeter()}
 	var opt live.Optimizer
 	if p := st.prep; p.P != nil {
 		r.optimizer = &live.TSNE{P: p.P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}
@@ -177,22 +178,33 @@ func (r *runPanel) frameReady() {
 	show()
 }
 
-// frameDrawn records what drawing a frame of the map cost.
-func (r *runPanel) frameDrawn(cost time.Duration) { r.pacer.Spend(cost) }
+// frameDrawn records what drawing a frame of the map cost, unless the
+// meter measures the UI's threads whole (which includes the drawing).
+func (r *runPanel) frameDrawn(cost time.Duration) {
+	if !r.meter.whole {
+		r.pacer.Spend(cost)
+	}
+}
 
-// showFrame publishes the newest layout and the run's status.
+// showFrame publishes the newest layout and the run's status. The window's
+// work since the previous frame is that frame's cost.
 func (r *runPanel) showFrame() {
 	start := time.Now()
+	if d, ok := r.meter.sinceLast(); ok {
+		r.pacer.Spend(d)
+	}
+	r.pacer.Shown(start)
 	layout, st := r.engine.Latest()
 	if len(layout) == 0 {
 		layout = r.st.layout
 	}
-	r.pacer.Shown(start)
 	if st.Iteration > 0 {
 		r.shownRun.Store(int64(st.Runs))
 	}
-	r.st.setLayout(layout, st)
-	r.pacer.Spend(time.Since(start))
+	cost := r.meter.section(func() { r.st.setLayout(layout, st) })
+	if !r.meter.whole {
+		r.pacer.Spend(cost)
+	}
 }
 
 // showStatus refreshes the run's status (its elapsed time) and leaves the

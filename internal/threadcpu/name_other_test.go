@@ -1,0 +1,7 @@
+//go:build !linux
+
+package threadcpu
+
+import "testing"
+
+func setName(t *testing.T, name string) {}
