@@ -45,7 +45,7 @@ func windowOptions(args []string, stderr io.Writer) (window.Options, error) {
 	fs := flag.NewFlagSet("lodestone", flag.ContinueOnError)
 	fs.SetOutput(io.Discard)
 	fs.BoolVar(&o.Example, "example", false, "open the bundled, invented example atlas")
-	selfTest := fs.Bool("selftest", false, "run the self-test on the example atlas and exit (0 when it passes)")
+	selfTest := fs.Bool("selftest", false, "run the self-test on the example atlas (or the atlas given) and exit (0 when it passes)")
 	fs.StringVar(&o.SelfTest, "selftest-out", "", "folder for the self-test's screenshots (default: a new temporary folder)")
 	fs.Float64Var(&o.SelfTestDial, "selftest-dial", 10, "the attraction the self-test turns the dial to")
 	fs.BoolVar(&o.SelfTestTour, "selftest-tour", false, "the self-test also finds markers and runs a sweep, saving screenshots")

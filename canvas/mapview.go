@@ -4,7 +4,6 @@ import (
 	"image"
 	"image/color"
 	"math"
-	"sort"
 	"time"
 
 	"fyne.io/fyne/v2"
@@ -345,13 +344,64 @@ func FitBox(layout []float32) (x0, x1, y0, y1 float64, ok bool) {
 	if len(xs) == 0 {
 		return 0, 0, 0, 0, false
 	}
-	sort.Float64s(xs)
-	sort.Float64s(ys)
-	q := func(s []float64, p float64) float64 { return s[min(len(s)-1, int(p*float64(len(s))))] }
-	x0, x1 = q(xs, 0.002), q(xs, 0.998)
-	y0, y1 = q(ys, 0.002), q(ys, 0.998)
+	x0, x1 = percentiles(xs, 0.002, 0.998)
+	y0, y1 = percentiles(ys, 0.002, 0.998)
 	dx, dy := (x1-x0)/4, (y1-y0)/4
 	return math.Max(minX, x0-dx), math.Min(maxX, x1+dx), math.Max(minY, y0-dy), math.Min(maxY, y1+dy), true
+}
+
+// percentiles returns the elements of s that would stand at positions
+// ⌊lo·len⌋ and ⌊hi·len⌋ (capped at the last) once sorted, lo ≤ hi, by
+// selection instead of sorting (a frame's view is fitted in linear time).
+// s is reordered.
+func percentiles(s []float64, lo, hi float64) (float64, float64) {
+	at := func(p float64) int { return min(len(s)-1, int(p*float64(len(s)))) }
+	i, j := at(lo), at(hi)
+	a := selectNth(s, i)
+	return a, selectNth(s[i:], j-i)
+}
+
+// selectNth reorders s so that s[k] is the element a sort would put there,
+// with no larger element before it and no smaller one after, and returns
+// it (Hoare's selection, with the median of three as the pivot).
+func selectNth(s []float64, k int) float64 {
+	lo, hi := 0, len(s)-1
+	for hi > lo {
+		mid := lo + (hi-lo)/2
+		if s[mid] < s[lo] {
+			s[mid], s[lo] = s[lo], s[mid]
+		}
+		if s[hi] < s[lo] {
+			s[hi], s[lo] = s[lo], s[hi]
+		}
+		if s[hi] < s[mid] {
+			s[hi], s[mid] = s[mid], s[hi]
+		}
+		pivot := s[mid]
+		i, j := lo, hi
+		for i <= j {
+			for s[i] < pivot {
+				i++
+			}
+			for s[j] > pivot {
+				j--
+			}
+			if i <= j {
+				s[i], s[j] = s[j], s[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return s[k]
+		}
+	}
+	return s[k]
 }
 
 // follow moves the view towards the fitted view: at once when there is no

@@ -5,6 +5,7 @@ import (
 	"image/color"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 	"time"
 
@@ -393,5 +394,26 @@ func TestOnDrawnReportsTheFrame(t *testing.T) {
 	w.Canvas().Capture()
 	if len(costs) != 1 || costs[0] <= 0 {
 		t.Fatalf("one drawing reported %v", costs)
+	}
+}
+
+// TestPercentilesAgreeWithSorting checks the selection FitBox uses against
+// a full sort, with ties, on many sizes.
+func TestPercentilesAgreeWithSorting(t *testing.T) {
+	r := rand.New(rand.NewPCG(3, 4))
+	for n := 1; n < 3000; n = n*3/2 + 1 {
+		s := make([]float64, n)
+		for i := range s {
+			s[i] = math.Round(r.NormFloat64() * 20) // many ties
+		}
+		sorted := slices.Clone(s)
+		slices.Sort(sorted)
+		at := func(p float64) int { return min(n-1, int(p*float64(n))) }
+		for _, p := range [][2]float64{{0.002, 0.998}, {0, 1}, {0.5, 0.5}, {0.1, 0.9}} {
+			a, b := percentiles(slices.Clone(s), p[0], p[1])
+			if a != sorted[at(p[0])] || b != sorted[at(p[1])] {
+				t.Fatalf("n = %d, %v: got %v, %v; sorting gives %v, %v", n, p, a, b, sorted[at(p[0])], sorted[at(p[1])])
+			}
+		}
 	}
 }

@@ -19,9 +19,10 @@ import (
 	"lodestone/compute/pipeline"
 )
 
-// statusEvery is how often the run's status is refreshed while nothing
-// else redraws it (the elapsed time of a run).
-const statusEvery = 250 * time.Millisecond
+// statusEvery is how often the run's status is refreshed while a run goes
+// and no frame has shown it for as long (the elapsed time of a run that
+// shows no frames, such as the spectral layout's computation).
+const statusEvery = time.Second
 
 // errorShower shows an error in a dialog; the window stays usable.
 type errorShower interface {
@@ -49,6 +50,8 @@ type runPanel struct {
 	framePending atomic.Bool
 	pacer        *live.Pacer  // spaces the frames of a run (see live.FrameShare)
 	meter        *frameMeter  // what the window's work costs
+	framesShown  int          // frames shown since the view opened
+	lastShown    time.Time    // when the last frame or status was shown
 	shownRun     atomic.Int64 // the run whose iterations are on screen (Status.Runs; 0 before its first)
 	buttonShows  string       // what the Stop/Continue button shows
 
@@ -194,6 +197,7 @@ func (r *runPanel) showFrame() {
 		r.pacer.Spend(d)
 	}
 	r.pacer.Shown(start)
+	r.lastShown = start
 	layout, st := r.engine.Latest()
 	if len(layout) == 0 {
 		layout = r.st.layout
@@ -201,16 +205,22 @@ func (r *runPanel) showFrame() {
 	if st.Iteration > 0 {
 		r.shownRun.Store(int64(st.Runs))
 	}
+	r.framesShown++
 	cost := r.meter.section(func() { r.st.setLayout(layout, st) })
 	if !r.meter.whole {
 		r.pacer.Spend(cost)
 	}
 }
 
-// showStatus refreshes the run's status (its elapsed time) and leaves the
-// map as it is: new layouts come through frameReady, paced.
+// showStatus refreshes the status of a run that has shown nothing for
+// statusEvery (its elapsed time) and leaves the map as it is: new layouts
+// come through frameReady, paced. Nothing is redrawn while no run goes.
 func (r *runPanel) showStatus() {
 	_, st := r.engine.Latest()
+	if !st.Running || time.Since(r.lastShown) < statusEvery {
+		return
+	}
+	r.lastShown = time.Now()
 	r.st.setLayout(r.st.layout, st)
 }
 

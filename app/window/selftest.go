@@ -125,8 +125,12 @@ func (t *selfTest) runEnded(v *atlasView, runs int) {
 	if st.Err != nil {
 		t.fail(st.Err)
 	}
-	fmt.Fprintf(os.Stderr, "self-test: run %d ended after %d iterations in %.1f s (KL %.3f, settled %v)\n",
-		st.Runs, st.Iteration, st.Elapsed.Seconds(), st.KL, st.Settled)
+	var frames int
+	var cost time.Duration
+	t.ui(func() { frames, cost = v.run.framesShown, v.run.pacer.Cost() })
+	fmt.Fprintf(os.Stderr, "self-test: run %d ended after %d iterations in %.1f s (%.1f a second; KL %.3f, settled %v); %d frames shown in all, costing %.1f ms each of late\n",
+		st.Runs, st.Iteration, st.Elapsed.Seconds(), float64(st.Iteration)/st.Elapsed.Seconds(), st.KL, st.Settled,
+		frames, float64(cost.Microseconds())/1000)
 	time.Sleep(600 * time.Millisecond) // the view glides to the final layout
 }
 
@@ -138,8 +142,13 @@ func (t *selfTest) script() {
 	if target == 0 {
 		target = 10
 	}
-	fmt.Fprintln(os.Stderr, "self-test: opening the example atlas")
-	t.ui(t.u.openExample)
+	if path := t.u.opts.Path; path != "" {
+		fmt.Fprintln(os.Stderr, "self-test: opening", path)
+		t.ui(func() { t.u.openPath(path) })
+	} else {
+		fmt.Fprintln(os.Stderr, "self-test: opening the example atlas")
+		t.ui(t.u.openExample)
+	}
 	var v *atlasView
 	t.waitFor("the atlas view", func() bool { v = t.u.atlas; return v != nil })
 	t.ui(func() {
@@ -147,8 +156,14 @@ func (t *selfTest) script() {
 	})
 	t.runEnded(v, 1)
 	t.capture(v, SelfTestFirst)
+	first := t.watchFirstFrame(v, 2)
+	turned := time.Now()
 	t.ui(func() { v.run.turnTo(target) })
 	t.runEnded(v, 2)
+	if at := first(); !at.IsZero() {
+		fmt.Fprintf(os.Stderr, "self-test: the first new frame after the turn was drawn %.0f ms after it\n",
+			float64(at.Sub(turned).Microseconds())/1000)
+	}
 	t.capture(v, SelfTestTurned)
 	if !t.u.opts.SelfTestTour {
 		return
@@ -190,6 +205,29 @@ func (t *selfTest) script() {
 	})
 	t.waitFor("the sweep", func() bool { return !v.sweep.running() && len(v.sweep.results) > 0 })
 	t.shot("sweep.png")
+}
+
+// watchFirstFrame returns a function that reports when the map first drew
+// a frame of run number run with an iteration done (zero before).
+func (t *selfTest) watchFirstFrame(v *atlasView, run int) func() time.Time {
+	var at time.Time
+	t.ui(func() {
+		m := v.mapP.mapView
+		drawn := m.OnDrawn
+		m.OnDrawn = func(cost time.Duration) {
+			if drawn != nil {
+				drawn(cost)
+			}
+			if at.IsZero() && v.st.run.Runs == run && v.st.run.Iteration > 0 {
+				at = time.Now()
+			}
+		}
+	})
+	return func() time.Time {
+		var a time.Time
+		t.ui(func() { a = at })
+		return a
+	}
 }
 
 // capture saves a screenshot of the window (name) and the map as drawn

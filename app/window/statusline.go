@@ -84,16 +84,26 @@ func runStage(ready bool, r live.Status) string {
 
 func (s *statusLine) showRun() {
 	r := s.st.run
-	s.stage.SetText(runStage(s.st.ready, r))
+	setText(s.stage, runStage(s.st.ready, r))
 	if r.Iterations > 0 {
-		s.progress.SetValue(float64(r.Iteration) / float64(r.Iterations))
+		if v := float64(r.Iteration) / float64(r.Iterations); v != s.progress.Value {
+			s.progress.SetValue(v)
+		}
 	}
-	s.elapsed.SetText(fmt.Sprintf("%.1f s", r.Elapsed.Seconds()))
+	setText(s.elapsed, fmt.Sprintf("%.1f s", r.Elapsed.Seconds()))
 	kl := "—"
 	if !math.IsNaN(r.KL) {
 		kl = fmt.Sprintf("%.3f", r.KL)
 	}
-	s.runInfo.SetText(fmt.Sprintf("iteration %d/%d · KL %s", r.Iteration, r.Iterations, kl))
+	setText(s.runInfo, fmt.Sprintf("iteration %d/%d · KL %s", r.Iteration, r.Iterations, kl))
+}
+
+// setText changes a label's text when it differs: each change lays the
+// window out and paints it again.
+func setText(l *widget.Label, text string) {
+	if l.Text != text {
+		l.SetText(text)
+	}
 }
 
 // showScores shows the scores of the map on screen; while the map moves

@@ -29,7 +29,7 @@ import (
 type Options struct {
 	Path         string  // a file, folder or session to open at once
 	Example      bool    // open the bundled example atlas at once
-	SelfTest     string  // run the self-test, saving screenshots into this folder
+	SelfTest     string  // run the self-test, saving screenshots into this folder; on Path when given, else the example
 	SelfTestDial float64 // the dial value the self-test turns to (10 when 0)
 	SelfTestTour bool    // the self-test also shows markers and a sweep, with screenshots
 	Threads      int     // goroutines for computing; 0 means all processors
