@@ -167,8 +167,14 @@ type turnResult struct {
 // frame the window shows ("window": the real atlas view on Fyne's software
 // test painter, which paints the whole window per frame) and without any
 // drawing ("engine").
-func BenchmarkDialTurn200k(b *testing.B) {
-	d := setupDialBench(b, 200000)
+func BenchmarkDialTurn200k(b *testing.B) { benchmarkDialTurn(b, 200000) }
+
+// BenchmarkDialTurn1M is BenchmarkDialTurn200k with 1,000,000 cells (its
+// map takes half an hour to make the first time, and 3 GB).
+func BenchmarkDialTurn1M(b *testing.B) { benchmarkDialTurn(b, 1000000) }
+
+func benchmarkDialTurn(b *testing.B, n int) {
+	d := setupDialBench(b, n)
 	history := []live.Step{{Kind: live.Fresh, Attraction: 1, Iterations: embed.DefaultIterations, Done: embed.DefaultIterations, Setting: 30}}
 	b.Run("engine", func(b *testing.B) {
 		var res []turnResult

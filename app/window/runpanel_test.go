@@ -1,0 +1,104 @@
+package window
+
+import (
+	"context"
+	"math"
+	"runtime"
+	"testing"
+	"time"
+
+	"lodestone/app/live"
+	"lodestone/internal/threadcpu"
+)
+
+// TestRapidTurnsThroughTheFramePump turns the dial 30 times while frames
+// come in, as a user spinning it does (run with -race: the engine's
+// goroutine, the pacer's timers and the UI goroutine meet in the frame
+// pump). Afterwards the last turn ends settled, the status line says so,
+// the map shows the engine's layout, and the history replays to it bit for
+// bit.
+func TestRapidTurnsThroughTheFramePump(t *testing.T) {
+	u := newTestUI(t, chooserAnswering())
+	v := openFixture(t, u)
+	values := []float64{2, 4, 1, 10, 30, 0.5, 6}
+	for i := 0; i < 30; i++ {
+		onUI(func() { v.run.turnTo(values[i%len(values)]) })
+		time.Sleep(time.Duration(i%4) * time.Millisecond)
+	}
+	onUI(func() { v.run.turnTo(4) })
+	waitForRun(t, v, 32)
+	var shown []float32
+	var st live.Status
+	var stage string
+	onUI(func() { shown, st, stage = v.st.layout, v.st.run, v.status.stage.Text })
+	layout, est := v.run.engine.Latest()
+	if !sameLayout(shown, layout) || !sameLayout(v.mapP.mapView.Layout(), layout) {
+		t.Fatal("the map does not show the engine's last layout")
+	}
+	if !st.Settled || est.Iteration >= v.run.iterationsPerTurn() || stage != "settled" {
+		t.Fatalf("the last turn: status %+v, stage %q; want settled before %d iterations", st, stage, v.run.iterationsPerTurn())
+	}
+	p := v.st.prep
+	replayed, err := live.Replay(context.Background(), v.run.engine.Initial(), v.run.engine.History(),
+		func(float64) (live.Optimizer, error) { return &live.TSNE{P: p.P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}, nil })
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range layout {
+		if math.Float32bits(layout[i]) != math.Float32bits(replayed[i]) {
+			t.Fatalf("the replayed history differs from the map at %d: %v, shown %v", i, replayed[i], layout[i])
+		}
+	}
+}
+
+// TestFramesArePaced checks the frame pump's pacing: when frames cost
+// much (here each frame spins for 30 ms, as drawing a large atlas takes),
+// a run shows its first frame at once and then a frame no more often than
+// every cost / live.FrameShare, while the engine runs unhindered.
+func TestFramesArePaced(t *testing.T) {
+	u := newTestUI(t, chooserAnswering())
+	v := openFixture(t, u)
+	const frameCost = 30 * time.Millisecond
+	onUI(func() {
+		v.st.on(topicFrame, func() { burn(frameCost) })
+		v.run.restart() // a fresh run: no settling, 750 iterations
+	})
+	waitFor(t, "the first frame of the run", 10*time.Second, func() bool { return v.st.run.Runs == 2 && v.st.run.Iteration > 0 })
+	var before int
+	var start time.Time
+	onUI(func() { before, start = v.run.framesShown, time.Now() })
+	waitForRun(t, v, 2)
+	var frames int
+	onUI(func() { frames = v.run.framesShown - before })
+	elapsed := time.Since(start)
+	cost, interval := v.run.pacer.Cost(), v.run.pacer.Interval()
+	if cost < frameCost*3/4 || interval < time.Duration(float64(cost)/live.FrameShare)*9/10 {
+		t.Fatalf("frames measured at %v each, %v apart; each spun for %v", cost, interval, frameCost)
+	}
+	// At most one frame an interval (the measured cost rose from the
+	// fixture's small one in the first frames), and the last on ending.
+	if most := 3 + int(elapsed/interval); frames > most {
+		t.Fatalf("%d frames in %v with frames %v apart; want at most %d", frames, elapsed, interval, most)
+	}
+	t.Logf("%d frames in %v, each measured at %v, %v apart", frames, elapsed, cost, interval)
+}
+
+// burn keeps the processor busy for d of the calling thread's processor
+// time (of wall time where threads cannot be measured), as costly work
+// would on a loaded machine.
+func burn(d time.Duration) {
+	runtime.LockOSThread()
+	defer runtime.UnlockOSThread()
+	id, ok := threadcpu.Self()
+	start, ok2 := threadcpu.Used(id)
+	wall := time.Now()
+	for {
+		if ok && ok2 {
+			if now, _ := threadcpu.Used(id); now-start >= d {
+				return
+			}
+		} else if time.Since(wall) >= d {
+			return
+		}
+	}
+}
