@@ -40,7 +40,9 @@ func TestRapidTurnsThroughTheFramePump(t *testing.T) {
 	}
 	p := v.st.prep
 	replayed, err := live.Replay(context.Background(), v.run.engine.Initial(), v.run.engine.History(),
-		func(float64) (live.Optimizer, error) { return &live.TSNE{P: p.P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}, nil })
+		func(float64) (live.Optimizer, error) {
+			return &live.TSNE{P: p.P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}, nil
+		})
 	if err != nil {
 		t.Fatal(err)
 	}
