@@ -115,16 +115,24 @@ type Snapshot struct {
 	// possible, without one) and for the spectral layout.
 	KL         float64
 	Attraction float64 // the attraction of the run (Params.Attraction)
-	// Settled reports that the mean step of the last iteration was below
-	// 1e-3 of the layout's extent (the longer side of its bounding box), from
+	// Settled reports that the layout has settled (see SettledMotion), from
 	// the 30th iteration on (before, momentum is still building up).
 	Settled bool
 	Done    bool // the last snapshot of a run that finished
 }
 
-// SettledStep is the mean step length, relative to the layout's extent, below
-// which a layout counts as settled.
-const SettledStep = 1e-3
+// SettledMotion is the motion below which a layout counts as settled. Every
+// 10 iterations the optimiser measures how far the layout's shape moved in
+// the last 10 iterations, on average over the points, in units of its
+// root-mean-square radius:
+//
+//	m(t) = (1/N) Σ_i |ŷ_i(t) − ŷ_i(t−10)|,   ŷ_i = (y_i − ȳ) / rms(y),
+//
+// so that neither a drift of the whole map nor a uniform growth (which a
+// view fitted to the map does not show) counts. The layout counts as
+// settled from the first measurement with m below SettledMotion until the
+// next measurement.
+const SettledMotion = 0.005
 
 // initialStd is the standard deviation of a random or rescaled initial
 // layout (common practice: small enough that the first iterations are

@@ -23,6 +23,10 @@ const stepCap = 0.5
 // iterations while momentum builds up.
 const settleAfter = 30
 
+// settleEvery is the number of iterations between two measurements of the
+// layout's motion (see SettledMotion).
+const settleEvery = 10
+
 // klEvery is the least time between two KL estimates of the snapshots, and
 // klEveryIterations the least number of iterations: where an iteration
 // takes most of a second (a million points), the estimate's logarithms
@@ -60,7 +64,8 @@ type optimizer struct {
 	boxes   [][4]float64 // per block bounding boxes
 	bounds  [4]float64   // xmin, xmax, ymin, ymax
 	rms     float64      // root-mean-square distance from the centre
-	settled bool
+	shape   []float32    // the layout's shape (y / rms) at the last measurement of its motion
+	settled bool         // the last measurement found the layout settled
 }
 
 func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
@@ -134,6 +139,9 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 		if withKL {
 			kl, lastKL, lastKLAt = k, time.Now(), t
 		}
+		if (t+1)%settleEvery == 0 {
+			o.measureMotion()
+		}
 		settled := o.settled && t+1 >= settleAfter
 		end := o.p.StopSettled && settled
 		if publish != nil && (snap || end) {
@@ -195,7 +203,7 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	att, invZ, maxStep := rho/o.a.sum, 1/z, stepCap*o.rms
 	clear(o.sums)
 	parallel.For(o.n, threads, func(lo, hi, block int) {
-		var sx, sy, step float64
+		var sx, sy float64
 		for i := lo; i < hi; i++ {
 			var u [2]float64
 			for c := 0; c < 2; c++ {
@@ -213,27 +221,56 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 			l := math.Sqrt(u[0]*u[0] + u[1]*u[1])
 			if l > maxStep {
 				u[0], u[1] = u[0]*maxStep/l, u[1]*maxStep/l
-				l = maxStep
 			}
 			o.upd[2*i], o.upd[2*i+1] = u[0], u[1]
 			o.y[2*i] += u[0]
 			o.y[2*i+1] += u[1]
 			sx += o.y[2*i]
 			sy += o.y[2*i+1]
-			step += l
 		}
-		o.sums[block] = [4]float64{sx, sy, step}
+		o.sums[block] = [4]float64{sx, sy}
 	})
-	var sx, sy, step float64
+	var sx, sy float64
 	for _, s := range o.sums {
 		sx += s[0]
 		sy += s[1]
-		step += s[2]
 	}
 	o.centre(sx/float64(o.n), sy/float64(o.n))
-	extent := max(o.bounds[1]-o.bounds[0], o.bounds[3]-o.bounds[2])
-	o.settled = step/float64(o.n) < SettledStep*extent
 	return kl, true
+}
+
+// measureMotion measures how far the layout's shape moved since the last
+// measurement, settleEvery iterations before, and records whether it
+// counts as settled (see SettledMotion). The layout is centred; its shape
+// is y / rms.
+func (o *optimizer) measureMotion() {
+	scale := 1 / o.rms
+	if o.rms == 0 {
+		scale = 1
+	}
+	first := o.shape == nil
+	if first {
+		o.shape = make([]float32, len(o.y))
+	}
+	clear(o.sums)
+	parallel.For(o.n, o.p.Threads, func(lo, hi, block int) {
+		var d float64
+		for i := lo; i < hi; i++ {
+			x, y := float32(o.y[2*i]*scale), float32(o.y[2*i+1]*scale)
+			dx, dy := float64(x-o.shape[2*i]), float64(y-o.shape[2*i+1])
+			d += math.Sqrt(dx*dx + dy*dy)
+			o.shape[2*i], o.shape[2*i+1] = x, y
+		}
+		o.sums[block][0] = d
+	})
+	if first {
+		return
+	}
+	var d float64
+	for _, s := range o.sums {
+		d += s[0]
+	}
+	o.settled = d/float64(o.n) < SettledMotion
 }
 
 // centre subtracts (mx, my) from every point, and updates the bounding box
