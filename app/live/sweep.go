@@ -3,6 +3,7 @@ package live
 import (
 	"context"
 	"math"
+	"time"
 )
 
 // SweepMap is one map of a sweep: its attraction and tail, its layout, and
@@ -46,7 +47,8 @@ func SweepTails(ctx context.Context, opt Optimizer, base []float32, history []St
 
 // SweepPoints computes a map at each setting of points, each run warm from
 // the previous map (the first from base, the map that history leads to),
-// the way the controls move the map: iterations iterations per map,
+// the way the controls move the map: a run that ends once the layout has
+// settled, after at most iterations iterations (RunOptions.Settle),
 // starting from the compacted layout when the attraction rises, and the
 // spectral layout for +Inf. setting is recorded in each step. before, when
 // not nil, is called with each map's index before it is computed; each is
@@ -73,13 +75,15 @@ func SweepPoints(ctx context.Context, opt Optimizer, base []float32, history []S
 			layout, err = opt.Spectral(ctx, prev)
 			step = Step{Kind: Spectral, Attraction: a, Iterations: SpectralGlide, Done: SpectralGlide, Setting: setting, Tail: tail}
 		} else {
-			step = Step{Kind: Warm, Attraction: a, Iterations: iterations, Done: iterations, Setting: setting, Tail: tail}
+			step = Step{Kind: Warm, Attraction: a, Iterations: iterations, Setting: setting, Tail: tail}
 			from := prev
 			if raises(steps, a) {
 				step.Compact = true
 				from = Compact(prev)
 			}
-			layout, err = opt.Run(ctx, from, RunOptions{Attraction: a, Tail: tail, Iterations: iterations}, nil)
+			// Only the last frame is wanted: how far the run went.
+			o := RunOptions{Attraction: a, Tail: tail, Iterations: iterations, Settle: true, FrameEvery: time.Duration(math.MaxInt64)}
+			layout, err = opt.Run(ctx, from, o, func(f Frame) { step.Done, step.Settled = f.Iteration, f.Settled })
 		}
 		if err != nil {
 			return err
