@@ -8,8 +8,9 @@ import (
 	"lodestone/compute/sparse"
 )
 
-// TSNE is the Optimizer of the window: t-SNE on fixed affinities P, with
-// the spectral layout of P computed once and kept.
+// TSNE is the Optimizer of the window: t-SNE on fixed affinities P, checked
+// once, with the spectral layout of P computed once and kept. P must not be
+// modified once a run has started.
 type TSNE struct {
 	P       *sparse.CSR
 	Seed    int64
@@ -18,6 +19,8 @@ type TSNE struct {
 	mu       sync.Mutex
 	spectral []float32
 	info     *embed.SpectralInfo
+	checkMu  sync.Mutex     // guards checked (mu is held through the spectral layout's computation)
+	checked  *embed.Checked // P, checked once for every run
 }
 
 // Run optimises with embed.Run; see Optimizer. publish may be nil.
@@ -43,7 +46,26 @@ func (t *TSNE) Run(ctx context.Context, init []float32, o RunOptions, publish fu
 			publish(Frame{Layout: s.Layout, Iteration: s.Iteration, Iterations: s.Iterations, KL: s.KL, Settled: s.Settled})
 		}
 	}
-	return embed.Run(ctx, t.P, init, p, pub)
+	c, err := t.check()
+	if err != nil {
+		return nil, err
+	}
+	return embed.RunChecked(ctx, c, init, p, pub)
+}
+
+// check returns P checked for the optimiser, checking it on the first call
+// only: a turn of the dial then starts without a pass over P.
+func (t *TSNE) check() (*embed.Checked, error) {
+	t.checkMu.Lock()
+	defer t.checkMu.Unlock()
+	if t.checked == nil {
+		c, err := embed.CheckAffinities(t.P, t.Threads)
+		if err != nil {
+			return nil, err
+		}
+		t.checked = c
+	}
+	return t.checked, nil
 }
 
 // Spectral returns the Laplacian eigenmap of P turned and scaled like like;

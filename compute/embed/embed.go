@@ -186,10 +186,50 @@ func Run(ctx context.Context, P *sparse.CSR, init []float32, p Params, publish f
 	if err != nil {
 		return nil, err
 	}
+	return run(ctx, a, init, p, publish)
+}
+
+// Checked is an affinity matrix that CheckAffinities found fit for Run, with
+// the sums the optimiser needs: a caller that runs the optimiser again and
+// again on the same P (the window, with every turn of the dial) checks it
+// once and saves each run a pass over P.
+type Checked struct {
+	p   *sparse.CSR
+	sum float64
+}
+
+// CheckAffinities checks P as Run does (threads < 1: all processors). P must
+// not be modified afterwards while the result is used.
+func CheckAffinities(P *sparse.CSR, threads int) (*Checked, error) {
+	a, err := checkAffinity(P, -1, parallel.Threads(threads))
+	if err != nil {
+		return nil, err
+	}
+	return &Checked{p: a.CSR, sum: a.sum}, nil
+}
+
+// RunChecked is Run on affinities checked by CheckAffinities; it gives the
+// same layout as Run on the same P, bit for bit.
+func RunChecked(ctx context.Context, c *Checked, init []float32, p Params, publish func(Snapshot)) ([]float32, error) {
+	if err := p.check(); err != nil {
+		return nil, err
+	}
+	if init != nil && len(init) != 2*c.p.Rows {
+		return nil, &LayoutError{What: "initial layout", Point: -1, Err: ErrShape}
+	}
+	return run(ctx, &affinities{CSR: c.p, sum: c.sum}, init, p, publish)
+}
+
+// run optimises on checked affinities; see Run.
+func run(ctx context.Context, a *affinities, init []float32, p Params, publish func(Snapshot)) ([]float32, error) {
+	P := a.CSR
 	if math.IsInf(p.Attraction, 1) {
 		return runSpectral(ctx, P, init, p, publish)
 	}
-	var y []float64
+	var (
+		y   []float64
+		err error
+	)
 	if init != nil {
 		if y, err = toFloat64(init, "initial layout"); err != nil {
 			return nil, err
