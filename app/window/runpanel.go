@@ -54,6 +54,9 @@ type runPanel struct {
 	lastShown    time.Time    // when the last frame or status was shown
 	shownRun     atomic.Int64 // the run whose iterations are on screen (Status.Runs; 0 before its first)
 	buttonShows  string       // what the Stop/Continue button shows
+	turnedTo     float64      // the attraction of the last run started
+	resting      bool         // a turn waits for the needle to rest (turnWhenResting)
+	restGen      int          // counts turns, so that a waiting one knows it was overtaken
 
 	dial       *lcanvas.Dial
 	grain      *grainControl
@@ -88,8 +91,14 @@ func newRunPanel(st *atlasState, jobs *viewJobs, errs errorShower) *runPanel {
 	r.engine = live.New(opt, r.perp, st.prep.Init, r.frameReady)
 
 	r.dial = lcanvas.NewDial(1)
-	r.dial.OnChanged = func(x float64) {
+	r.turnedTo = r.dial.Value
+	r.dial.OnChanged = func(x float64) { // with each move of a drag, and before OnChangeEnded
 		if r.st.ready {
+			r.turnWhenResting(x)
+		}
+	}
+	r.dial.OnChangeEnded = func(x float64) { // released, tapped, wheel or key
+		if r.st.ready && (x != r.turnedTo || r.resting) {
 			r.turn(x)
 		}
 	}
@@ -243,17 +252,42 @@ func (r *runPanel) showRunning() {
 	}
 }
 
+// dialRest is how long the needle must rest during a drag before the map
+// turns to it. A drag reports every move of the pointer; on a large atlas
+// a run started with each would be cancelled before it showed anything,
+// and only keep the processors from the run that counts.
+const dialRest = 100 * time.Millisecond
+
+// turnWhenResting turns to x once the needle has rested at it for
+// dialRest, unless a later change or turn comes first.
+func (r *runPanel) turnWhenResting(x float64) {
+	r.restGen++
+	gen := r.restGen
+	r.resting = true
+	time.AfterFunc(dialRest, func() {
+		r.jobs.do(func() {
+			if r.restGen == gen {
+				r.turn(x)
+			}
+		})
+	})
+}
+
 // turn reruns the optimiser from the layout on screen at attraction x.
 func (r *runPanel) turn(x float64) {
+	r.restGen++
+	r.resting, r.turnedTo = false, x
 	r.engine.SetFrameEvery(r.pacer.Interval())
 	r.engine.Turn(x, r.iterationsPerTurn())
 	r.showFrame()
 }
 
-// turnTo moves the dial to x and turns, as a user's drag of the needle does.
+// turnTo moves the dial to x and turns, as a user's drag and release of
+// the needle does.
 func (r *runPanel) turnTo(x float64) {
 	r.dial.SetValue(x)
 	r.dial.OnChanged(x)
+	r.dial.OnChangeEnded(x)
 }
 
 // restart starts a fresh run from the initial layout.
@@ -261,6 +295,8 @@ func (r *runPanel) restart() {
 	if !r.st.ready {
 		return
 	}
+	r.restGen++
+	r.resting, r.turnedTo = false, r.dial.Value
 	r.engine.SetFrameEvery(r.pacer.Interval())
 	r.engine.Restart(r.dial.Value, live.FreshIterations)
 	r.showFrame()
@@ -306,6 +342,8 @@ func (r *runPanel) show(layout []float32, history []live.Step, attraction float6
 	r.engine.SetLayout(layout, history)
 	r.dial.SetValue(attraction)
 	r.grain.set(live.TailOf(history))
+	r.restGen++
+	r.resting, r.turnedTo = false, attraction
 	if n := len(history); n > 0 {
 		r.setPerplexity(history[n-1].Setting)
 	}

@@ -7,6 +7,8 @@ import (
 	"testing"
 	"time"
 
+	"fyne.io/fyne/v2"
+
 	"lodestone/app/live"
 	"lodestone/internal/threadcpu"
 )
@@ -83,6 +85,51 @@ func TestFramesArePaced(t *testing.T) {
 		t.Fatalf("%d frames in %v with frames %v apart; want at most %d", frames, elapsed, interval, most)
 	}
 	t.Logf("%d frames in %v, each measured at %v, %v apart", frames, elapsed, cost, interval)
+}
+
+// TestDialDragTurnsWhenTheNeedleRests drags the dial's needle across its
+// face as a user does: the moves of the drag start no run (each would be
+// cancelled by the next); the map turns once the needle rests, or when it
+// is released, once.
+func TestDialDragTurnsWhenTheNeedleRests(t *testing.T) {
+	u := newTestUI(t, chooserAnswering())
+	v := openFixture(t, u)
+	runs := func() int { _, st := v.run.engine.Latest(); return st.Runs }
+	drag := func(k int) {
+		d := v.run.dial
+		c := fyne.NewPos(d.Size().Width/2, d.Size().Height/2)
+		// Around the face from the left towards the top.
+		p := c.Add(fyne.NewPos(-60+float32(4*k), -float32(3*k)))
+		d.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: p}, Dragged: fyne.NewDelta(4, -3)})
+	}
+	before := runs()
+	onUI(func() {
+		for k := 0; k < 12; k++ {
+			drag(k)
+		}
+	})
+	if got := runs(); got != before {
+		t.Fatalf("a drag's moves started %d runs", got-before)
+	}
+	onUI(v.run.dial.DragEnd)
+	if got := runs(); got != before+1 {
+		t.Fatalf("releasing the needle started %d runs, want 1", got-before)
+	}
+	var turned float64
+	onUI(func() { turned = v.st.run.Attraction })
+	if turned != v.run.dial.Value {
+		t.Fatalf("the run is at %v, the needle at %v", turned, v.run.dial.Value)
+	}
+	// A drag that rests: the map turns after the rest, and the release
+	// at the same place does not turn it again.
+	before = runs()
+	onUI(func() { drag(20) })
+	waitFor(t, "the turn after the needle rested", 5*time.Second, func() bool { return runs() == before+1 })
+	onUI(v.run.dial.DragEnd)
+	time.Sleep(2 * dialRest)
+	if got := runs(); got != before+1 {
+		t.Fatalf("a rested drag and its release started %d runs, want 1", got-before)
+	}
 }
 
 // burn keeps the processor busy for d of the calling thread's processor
