@@ -80,9 +80,10 @@ test)
 	go vet ./...
 	go test -count=1 -timeout 30m ./...
 	# The engine ↔ window bridge and everything else that crosses goroutines.
-	go test -count=1 -race -short ./compute/parallel/... ./app/live/... ./app/session/... ./canvas/raster/... ./canvas/spatial/...
-	# The atlas view's background jobs, closed while each runs.
-	go test -count=1 -race -short -run 'TestClosingTheViewEndsEveryJob|TestFidelityIsMarkedWhileTheMapMoves' ./app/window
+	go test -count=1 -race -short ./compute/parallel/... ./app/live/... ./app/session/... ./canvas ./canvas/raster/... ./canvas/spatial/... ./internal/threadcpu
+	# The atlas view's background jobs, closed while each runs; the frames
+	# handed from the optimiser to the map.
+	go test -count=1 -race -short -run 'TestClosingTheViewEndsEveryJob|TestFidelityIsMarkedWhileTheMapMoves|TestRapidTurnsThroughTheFramePump|TestFramesArePaced|TestDialDragTurnsWhenTheNeedleRests' ./app/window
 	run_fuzz_briefly
 	if [ -f packaging/build.sh ]; then sh packaging/build.sh --check; fi
 	echo "dev.sh: all tests passed"
