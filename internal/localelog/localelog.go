@@ -1,5 +1,8 @@
-// Package localelog keeps a spurious toolkit complaint off the error
-// stream.
+// Package localelog keeps two spurious toolkit complaints about the locale
+// off the error stream: the window toolkit's about the C locale (below) and,
+// on Linux, the file dialogs' toolkit's about a locale that the C library
+// lacks (setlocale_linux.c). Both come before main runs, on every start,
+// headless commands included.
 //
 // Under LANG=C.UTF-8 (or C.<codeset>, POSIX.<codeset>), the default of
 // Debian's containers and servers, the toolkit's translation package reads
