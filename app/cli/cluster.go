@@ -29,6 +29,7 @@ func runCluster(args []string, stdout, stderr io.Writer) error {
 	if out == "" {
 		return usagef("--out is required")
 	}
+	pf.neighbors = *k
 	ctx, stop := interruptible()
 	defer stop()
 	b := newBar(stderr, *quiet)

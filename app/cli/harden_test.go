@@ -285,6 +285,9 @@ func TestTooFewCellsNamesTheSetting(t *testing.T) {
 	os.WriteFile(p, []byte("cell,PC1,PC2\nc1,1,2\nc2,3,1\nc3,0,0\n"), 0o644)
 	wantRefused(t, dir, []string{"a map needs at least 10 cells", "the table has 3", "the perplexity (30) would have to fall below 3"},
 		"embed", "--in", p, "--out", filepath.Join(dir, "x.csv"))
+	// Clustering has no perplexity: its message names the graph's neighbours.
+	wantRefused(t, dir, []string{"a neighbour graph needs at least 10 cells", "the table has 3", "each has at most 2 neighbours, and the graph asks for 15"},
+		"cluster", "--in", p, "--out", filepath.Join(dir, "x.csv"))
 }
 
 func TestDamagedSessionsAndAnnotationsAreNotSilent(t *testing.T) {

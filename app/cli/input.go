@@ -164,6 +164,7 @@ type prepFlags struct {
 	seed                int64
 	metric              string
 	init                pipeline.Init // set by the command; empty means the default
+	neighbors           int           // set by a command whose graph has a fixed k (cluster's --k); 0: from the perplexity
 }
 
 func (f *prepFlags) register(fs *flags) {
@@ -198,6 +199,7 @@ func (f *prepFlags) settings() (pipeline.Settings, error) {
 	if f.init != "" {
 		s.Init = f.init
 	}
+	s.Neighbors = f.neighbors
 	switch strings.ToLower(f.metric) {
 	case "euclidean":
 		s.Metric = neighbors.Euclidean

@@ -203,6 +203,14 @@ func Features(ctx context.Context, d *atlas.Dataset, s Settings, report func(sta
 		if res.QC != nil {
 			have = fmt.Sprintf("%d passed quality control (%s)", n, res.QC.Summary())
 		}
+		if s.Neighbors > 0 { // a graph of fixed k (clustering): no perplexity involved
+			asks := ""
+			if s.Neighbors > n-1 {
+				asks = fmt.Sprintf(", and the graph asks for %d", s.Neighbors)
+			}
+			return nil, fmt.Errorf("pipeline: %w: a neighbour graph needs at least %d cells, and %s: each has at most %d neighbours%s",
+				ErrTooFewCells, MinCells, have, max(n-1, 0), asks)
+		}
 		return nil, fmt.Errorf("pipeline: %w: a map needs at least %d cells, and %s: with fewer, the perplexity (%g) would have to fall below %d, a third of each cell's %d neighbours",
 			ErrTooFewCells, MinCells, have, s.Perplexity, MinPerplexity, MinCells-1)
 	}
