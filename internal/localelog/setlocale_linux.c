@@ -1,3 +1,5 @@
+//go:build cgo
+
 // The file dialogs' toolkit (GTK, initialised by github.com/sqweek/dialog's
 // init function) calls setlocale(LC_ALL, "") in gtk_init_check and, when the
 // C library has no such locale, writes

@@ -1,3 +1,5 @@
+//go:build cgo
+
 package localelog
 
 // The constructor in setlocale_linux.c keeps GTK's warning about a locale
