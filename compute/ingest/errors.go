@@ -77,10 +77,13 @@ func errorf(file string, line, col int, sentinel error, format string, args ...a
 // readError turns an error from reading the underlying (possibly compressed)
 // stream into a ParseError at the given line: a gzip stream that stops early
 // becomes ErrTruncated, damaged compressed data ErrCorrupt; bytes after the
-// end of the compressed data keep their ErrTrailingData.
+// end of the compressed data keep their ErrTrailingData and concern the
+// file, not a line of the text (which was read in full).
 func readError(file string, line int, err error) error {
 	var corrupt flate.CorruptInputError
 	switch {
+	case errors.Is(err, ErrTrailingData):
+		return &ParseError{File: file, Err: err}
 	case errors.Is(err, io.ErrUnexpectedEOF):
 		return &ParseError{File: file, Line: line, Err: fmt.Errorf("%w (%w)", ErrTruncated, err)}
 	case errors.Is(err, gzip.ErrChecksum), errors.Is(err, gzip.ErrHeader), errors.As(err, &corrupt):

@@ -111,7 +111,7 @@ func (g *gzipMembers) trailing() error {
 	if nonZero == 0 {
 		return io.EOF
 	}
-	return fmt.Errorf("%w: %d bytes that are not gzip data follow the end of the compressed stream", ErrTrailingData, n)
+	return fmt.Errorf("%w: %d bytes that are not gzip data follow the end of the compressed stream (the compressed text before them is whole: remove them, or compress the file again)", ErrTrailingData, n)
 }
 
 // asyncReader reads its source on its own goroutine into a ring of chunks.
