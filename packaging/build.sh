@@ -8,6 +8,10 @@
 #
 #   sh packaging/build.sh           build the packages
 #   sh packaging/build.sh --check   build them, then check them (a few minutes more)
+#   sh packaging/build.sh --check --linux
+#                                   only the Linux packages, built and checked
+#                                   (what `dev.sh test` runs: the Windows
+#                                   program's cross-build takes several minutes)
 #
 # Run it on Linux x86-64 from any folder of a git checkout. It needs Go, a C
 # compiler with the GLFW/GTK headers (see packaging/dev.sh), and the Debian
@@ -27,18 +31,21 @@ ICON_SIZES="16 24 32 48 64 128 256 512"
 SYSO=$ROOT/lodestone_windows_amd64.syso
 
 CHECK=false
-case "${1:-}" in
-"") ;;
---check) CHECK=true ;;
--h | --help)
-	sed -n '2,/^set -eu/p' "$0" | sed -e '$d' -e 's/^# \{0,1\}//'
-	exit 0
-	;;
-*)
-	echo "usage: sh packaging/build.sh [--check]" >&2
-	exit 2
-	;;
-esac
+WINDOWS=true
+for arg in "$@"; do
+	case $arg in
+	--check) CHECK=true ;;
+	--linux) WINDOWS=false ;;
+	-h | --help)
+		sed -n '2,/^set -eu/p' "$0" | sed -e '$d' -e 's/^# \{0,1\}//'
+		exit 0
+		;;
+	*)
+		echo "usage: sh packaging/build.sh [--check] [--linux]" >&2
+		exit 2
+		;;
+	esac
+done
 
 say() { echo "build.sh: $*"; }
 die() {
@@ -89,8 +96,10 @@ need dpkg-deb dpkg
 need dpkg-shlibdeps dpkg-dev
 need xz xz-utils
 need zip zip
-need x86_64-w64-mingw32-gcc gcc-mingw-w64-x86-64
-need x86_64-w64-mingw32-windres binutils-mingw-w64-x86-64
+if $WINDOWS; then
+	need x86_64-w64-mingw32-gcc gcc-mingw-w64-x86-64
+	need x86_64-w64-mingw32-windres binutils-mingw-w64-x86-64
+fi
 need file file
 if $CHECK; then
 	need Xvfb xvfb
@@ -251,34 +260,38 @@ TARBALL=$DIST/$name.tar.xz
 
 # ---- Windows --------------------------------------------------------------
 
-say "building the Windows program (the first build compiles GLFW: several minutes)"
-win=$WORK/windows
-mkdir -p "$win"
-ICON=$ROOT/assets/icon.ico MANIFEST=$ROOT/packaging/windows/lodestone.exe.manifest
-export ICON MANIFEST
-fill packaging/windows/lodestone.rc.in >"$win/lodestone.rc"
-# The _windows_amd64 suffix makes go build link the resources only into
-# the Windows program; cleanup removes the file again.
-x86_64-w64-mingw32-windres -O coff -i "$win/lodestone.rc" -o "$SYSO"
-CC=x86_64-w64-mingw32-gcc CGO_ENABLED=1 GOOS=windows GOARCH=amd64 \
-	go build -trimpath -ldflags "-H=windowsgui $LDFLAGS" -o "$win/lodestone.exe" .
-rm -f "$SYSO"
-licences windows "$win/THIRD-PARTY-LICENSES.txt"
-wname=lodestone-$VERSION-windows-x86_64
-wdir=$WORK/zip/$wname
-mkdir -p "$wdir"
-cp "$win/lodestone.exe" "$wdir/"
-# Text files with Windows line ends, for Notepad.
-fill packaging/windows/README.txt | sed -e 's/$/\r/' >"$wdir/README.txt"
-sed -e 's/$/\r/' assets/LICENSES.md >"$wdir/LICENSES.md"
-sed -e 's/$/\r/' "$win/THIRD-PARTY-LICENSES.txt" >"$wdir/THIRD-PARTY-LICENSES.txt"
-find "$WORK/zip" -exec touch -d "@$SOURCE_DATE_EPOCH" {} +
-ZIP=$DIST/$wname.zip
-(cd "$WORK/zip" && find "$wname" | LC_ALL=C sort | zip -q -X -D "$ZIP" -@)
+if $WINDOWS; then
+	say "building the Windows program (the first build compiles GLFW: several minutes)"
+	win=$WORK/windows
+	mkdir -p "$win"
+	ICON=$ROOT/assets/icon.ico MANIFEST=$ROOT/packaging/windows/lodestone.exe.manifest
+	export ICON MANIFEST
+	fill packaging/windows/lodestone.rc.in >"$win/lodestone.rc"
+	# The _windows_amd64 suffix makes go build link the resources only into
+	# the Windows program; cleanup removes the file again.
+	x86_64-w64-mingw32-windres -O coff -i "$win/lodestone.rc" -o "$SYSO"
+	CC=x86_64-w64-mingw32-gcc CGO_ENABLED=1 GOOS=windows GOARCH=amd64 \
+		go build -trimpath -ldflags "-H=windowsgui $LDFLAGS" -o "$win/lodestone.exe" .
+	rm -f "$SYSO"
+	licences windows "$win/THIRD-PARTY-LICENSES.txt"
+	wname=lodestone-$VERSION-windows-x86_64
+	wdir=$WORK/zip/$wname
+	mkdir -p "$wdir"
+	cp "$win/lodestone.exe" "$wdir/"
+	# Text files with Windows line ends, for Notepad.
+	fill packaging/windows/README.txt | sed -e 's/$/\r/' >"$wdir/README.txt"
+	sed -e 's/$/\r/' assets/LICENSES.md >"$wdir/LICENSES.md"
+	sed -e 's/$/\r/' "$win/THIRD-PARTY-LICENSES.txt" >"$wdir/THIRD-PARTY-LICENSES.txt"
+	find "$WORK/zip" -exec touch -d "@$SOURCE_DATE_EPOCH" {} +
+	ZIP=$DIST/$wname.zip
+	(cd "$WORK/zip" && find "$wname" | LC_ALL=C sort | zip -q -X -D "$ZIP" -@)
+fi
 
-(cd "$DIST" && sha256sum -- *.deb *.tar.xz *.zip >SHA256SUMS)
+PACKAGES="*.deb *.tar.xz"
+if $WINDOWS; then PACKAGES="$PACKAGES *.zip"; fi
+(cd "$DIST" && sha256sum -- $PACKAGES >SHA256SUMS)
 say "built:"
-(cd "$DIST" && ls -l -- *.deb *.tar.xz *.zip | sed 's/^/  /')
+(cd "$DIST" && ls -l -- $PACKAGES | sed 's/^/  /')
 
 $CHECK || exit 0
 
@@ -399,34 +412,36 @@ left=$(cd "$T/user" && find . -type f ! -path './.local/share/mime/*' ! -name mi
 [ -z "$left" ] || fail "uninstall.sh left files behind: $left"
 ok "tarball: $(wc -l <"$T/tarlist") entries; install.sh and uninstall.sh work in a scratch home"
 
-# The Windows program: a 64-bit GUI executable with its resources, needing
-# only libraries every Windows has.
-filetype=$(file -b "$win/lodestone.exe")
-case $filetype in
-*"PE32+ executable"*"(GUI)"*"x86-64"*) ;;
-*) fail "lodestone.exe is \"$filetype\", want a PE32+ executable (GUI) x86-64" ;;
-esac
-# Its resources, read back by windres: the icon group, the version and the
-# manifest.
-x86_64-w64-mingw32-windres -i "$win/lodestone.exe" -O rc -o "$T/resources.rc" || fail "windres cannot read the resources of lodestone.exe"
-icons=$(od -An -tu2 -j4 -N2 assets/icon.ico | tr -d ' ') # the image count in the icon file's header
-grep -q "RT_GROUP_ICON" "$T/resources.rc" || fail "lodestone.exe has no icon"
-grep -q "Has $icons elements" "$T/resources.rc" || fail "lodestone.exe's icon does not hold the $icons sizes of assets/icon.ico"
-grep -qF "VALUE \"ProductVersion\", \"$VERSION\"" "$T/resources.rc" || fail "lodestone.exe carries no version resource for $VERSION"
-grep -q "RT_MANIFEST" "$T/resources.rc" || fail "lodestone.exe has no manifest"
-dlls=$(x86_64-w64-mingw32-objdump -p "$win/lodestone.exe" | sed -n 's/^[[:space:]]*DLL Name: //p' | tr 'A-Z' 'a-z' | sort -u)
-for d in $dlls; do
-	case $d in
-	advapi32.dll | comdlg32.dll | gdi32.dll | kernel32.dll | msvcrt.dll | ole32.dll | opengl32.dll | shell32.dll | user32.dll | \
-		winmm.dll | ws2_32.dll | comctl32.dll | dwmapi.dll | imm32.dll | oleaut32.dll | shlwapi.dll | uxtheme.dll | version.dll | \
-		api-ms-win-*.dll | ntdll.dll | bcryptprimitives.dll | powrprof.dll | setupapi.dll | hid.dll | crypt32.dll | secur32.dll) ;;
-	*) fail "lodestone.exe needs $d, which Windows does not ship" ;;
+if $WINDOWS; then
+	# The Windows program: a 64-bit GUI executable with its resources, needing
+	# only libraries every Windows has.
+	filetype=$(file -b "$win/lodestone.exe")
+	case $filetype in
+	*"PE32+ executable"*"(GUI)"*"x86-64"*) ;;
+	*) fail "lodestone.exe is \"$filetype\", want a PE32+ executable (GUI) x86-64" ;;
 	esac
-done
-zip -sf "$ZIP" >"$T/ziplist" || fail "cannot list $ZIP"
-for p in lodestone.exe README.txt LICENSES.md THIRD-PARTY-LICENSES.txt; do
-	grep -q "^ *$wname/$p\$" "$T/ziplist" || fail "the zip lacks $wname/$p"
-done
-ok "lodestone.exe: $filetype; icon, version $VERSION and manifest; imports $(echo $dlls | tr ' ' ',')"
+	# Its resources, read back by windres: the icon group, the version and the
+	# manifest.
+	x86_64-w64-mingw32-windres -i "$win/lodestone.exe" -O rc -o "$T/resources.rc" || fail "windres cannot read the resources of lodestone.exe"
+	icons=$(od -An -tu2 -j4 -N2 assets/icon.ico | tr -d ' ') # the image count in the icon file's header
+	grep -q "RT_GROUP_ICON" "$T/resources.rc" || fail "lodestone.exe has no icon"
+	grep -q "Has $icons elements" "$T/resources.rc" || fail "lodestone.exe's icon does not hold the $icons sizes of assets/icon.ico"
+	grep -qF "VALUE \"ProductVersion\", \"$VERSION\"" "$T/resources.rc" || fail "lodestone.exe carries no version resource for $VERSION"
+	grep -q "RT_MANIFEST" "$T/resources.rc" || fail "lodestone.exe has no manifest"
+	dlls=$(x86_64-w64-mingw32-objdump -p "$win/lodestone.exe" | sed -n 's/^[[:space:]]*DLL Name: //p' | tr 'A-Z' 'a-z' | sort -u)
+	for d in $dlls; do
+		case $d in
+		advapi32.dll | comdlg32.dll | gdi32.dll | kernel32.dll | msvcrt.dll | ole32.dll | opengl32.dll | shell32.dll | user32.dll | \
+			winmm.dll | ws2_32.dll | comctl32.dll | dwmapi.dll | imm32.dll | oleaut32.dll | shlwapi.dll | uxtheme.dll | version.dll | \
+			api-ms-win-*.dll | ntdll.dll | bcryptprimitives.dll | powrprof.dll | setupapi.dll | hid.dll | crypt32.dll | secur32.dll) ;;
+		*) fail "lodestone.exe needs $d, which Windows does not ship" ;;
+		esac
+	done
+	zip -sf "$ZIP" >"$T/ziplist" || fail "cannot list $ZIP"
+	for p in lodestone.exe README.txt LICENSES.md THIRD-PARTY-LICENSES.txt; do
+		grep -q "^ *$wname/$p\$" "$T/ziplist" || fail "the zip lacks $wname/$p"
+	done
+	ok "lodestone.exe: $filetype; icon, version $VERSION and manifest; imports $(echo $dlls | tr ' ' ',')"
+fi
 
 say "all package checks passed"

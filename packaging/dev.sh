@@ -52,6 +52,9 @@ ensure_go() {
 	PATH="$HOME/.local/go/bin:$PATH"; export PATH
 }
 
+# stage NAME: a line saying that a stage of the tests starts, and when.
+stage() { echo "dev.sh: $(date -u +%H:%M:%S) $1"; }
+
 run_fuzz_briefly() {
 	# Each fuzz target for a fixed number of inputs from its committed seed
 	# corpus. A count rather than a duration: with a duration, Go 1.26's
@@ -77,15 +80,26 @@ test)
 	install_pkgs $BUILD_PKGS $TEST_PKGS
 	ensure_go
 	export LANG=C.UTF-8 LANGUAGE=en GSETTINGS_BACKEND=memory
+	# -trimpath everywhere, as the packages are built: the tests, the
+	# real-window test's program and the package build share compiled
+	# packages (GLFW's C code is compiled once).
+	export GOFLAGS="${GOFLAGS:+$GOFLAGS }-trimpath"
+	stage "go vet"
 	go vet ./...
+	stage "go test"
 	go test -count=1 -timeout 30m ./...
+	stage "go test -race"
 	# The engine ↔ window bridge and everything else that crosses goroutines.
 	go test -count=1 -race -short ./compute/parallel/... ./app/live/... ./app/session/... ./canvas ./canvas/raster/... ./canvas/spatial/... ./internal/threadcpu
 	# The atlas view's background jobs, closed while each runs; the frames
 	# handed from the optimiser to the map.
 	go test -count=1 -race -short -run 'TestClosingTheViewEndsEveryJob|TestFidelityIsMarkedWhileTheMapMoves|TestRapidTurnsThroughTheFramePump|TestFramesArePaced|TestDialDragTurnsWhenTheNeedleRests' ./app/window
+	stage "fuzzing"
 	run_fuzz_briefly
-	if [ -f packaging/build.sh ]; then sh packaging/build.sh --check; fi
+	# The Linux packages, installed in a scratch root and run; the Windows
+	# program's cross-build is checked by `sh packaging/build.sh --check`.
+	stage "packages"
+	if [ -f packaging/build.sh ]; then sh packaging/build.sh --check --linux; fi
 	echo "dev.sh: all tests passed"
 	;;
 *)
