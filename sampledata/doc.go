@@ -14,7 +14,10 @@
 //	keelcord   keel-thread → keel-cord                  (cells that stiffen it)
 //
 // Cells are sampled on days 2, 4, 6, 8 and 10 and sequenced in two runs
-// ("run 1", "run 2"). Progenitors are found on every day, fewer on later
+// ("run 1", "run 2"). Run 2 was handled differently: its cells carry a
+// handling response and a different capture of each gene, so that a map of
+// the raw atlas shows every state twice, once per run, until the runs are
+// integrated (the batch column names them). Progenitors are found on every day, fewer on later
 // days; committed cells are further along their lineage on later days.
 // About 1.2 % of the cells are damaged: few detected genes (fewer than
 // QCMinGenes) and a high share of mitochondrial-like counts.
@@ -36,10 +39,12 @@
 //
 //	μ_cg = L_c (1 − f_c) · a_bg exp(Σ_s A_s(t_c) λ_sg) / Σ_h a_bh exp(Σ_s A_s(t_c) λ_sh)
 //
-// where L_c is the cell's log-normal library size (its median differs
-// slightly between runs), f_c its log-normal share of mitochondrial-like
-// counts (about 3 %), a_bg the gene's abundance in run b (run 2 multiplies it
-// by a per-gene log-normal factor with log-sd 0.15, the batch effect), A_s(t)
+// where L_c is the cell's log-normal library size (its median is lower in
+// run 2, which captured fewer molecules), f_c its log-normal share of
+// mitochondrial-like counts (about 3 %), a_bg the gene's abundance in run b
+// (run 2 multiplies it by a per-gene log-normal capture factor with log-sd
+// 0.25, and raises a set of 40 handling genes by log fold changes of 1.5–2.5
+// in every state: the batch effect), A_s(t)
 // the activity of programme s at maturation t and λ_sg the gene's log fold
 // change in that programme (1.5–3 for state programmes). The twelve
 // mitochondrial-like genes, named with MitoPrefix, share L_c f_c between

@@ -32,8 +32,9 @@ const (
 	progressEveryCells = 1024
 )
 
-// libraryMedian is the median library size of healthy cells in each run.
-var libraryMedian = [2]float64{1500, 1700}
+// libraryMedian is the median library size of healthy cells in each run:
+// run 2 captured fewer molecules per cell.
+var libraryMedian = [2]float64{1700, 1300}
 
 // Limits of Options.
 const (
@@ -87,8 +88,13 @@ type Truth struct {
 	// (variance μ + μ²/r).
 	Dispersion []float64
 	// BatchFactor is, per gene, the factor by which run 2 multiplies its
-	// relative abundance (1 for mitochondrial-like genes).
+	// relative abundance (1 for mitochondrial-like genes): a log-normal
+	// capture factor, times the handling fold change for HandlingGenes.
 	BatchFactor []float64
+	// HandlingGenes are raised in run 2 only, in every state (a response to
+	// its handling): with the capture factors and run 2's smaller
+	// libraries, the batch effect between the runs.
+	HandlingGenes []int
 
 	// LowQuality lists the damaged cells (ascending): few detected genes
 	// (fewer than QCMinGenes) and a high mitochondrial-like share.
@@ -298,6 +304,7 @@ func (m *geneModel) truth(lab *cellLabels) *Truth {
 		LineageProgrammes: make(map[string][]int, len(paths)),
 		MaturationGenes:   slices.Clone(m.programmes[slotMaturation]),
 		Housekeeping:      slices.Clone(m.housekeeping),
+		HandlingGenes:     slices.Clone(m.handling),
 		LogFold:           m.logFold,
 		Dispersion:        m.size,
 		BatchFactor:       m.factor,

@@ -487,15 +487,35 @@ func TestTimeCourse(t *testing.T) {
 
 func TestBatchEffect(t *testing.T) {
 	d, truth := medium(t)
-	// The per-gene factor of run 2 is log-normal: its log has sd
-	// batchFactorSD, whose sample sd has standard error s/√(2n).
-	var logF []float64
+	// The capture factor of run 2 is log-normal: its log has sd
+	// captureFactorSD, whose sample sd has standard error s/√(2n). The
+	// handling genes get a fold change in [handlingFoldMin, handlingFoldMax)
+	// on top.
+	handling := map[int]bool{}
+	for _, g := range truth.HandlingGenes {
+		handling[g] = true
+	}
+	if want := scaled(handlingGenes, d.Features(), minRampGenes); len(handling) != want {
+		t.Errorf("%d handling genes, want %d", len(handling), want)
+	}
+	var logF, logH []float64
 	for _, g := range seq(d.Features() - mitoGenes) {
+		if handling[g] {
+			logH = append(logH, math.Log(truth.BatchFactor[g]))
+			continue
+		}
 		logF = append(logF, math.Log(truth.BatchFactor[g]))
 	}
 	_, sd, _, _ := sampleStats(logF)
-	if n := float64(len(logF)); math.Abs(sd-batchFactorSD) > 5*batchFactorSD/math.Sqrt(2*n) {
-		t.Errorf("log batch factor sd %.4f, want %.4f", sd, batchFactorSD)
+	if n := float64(len(logF)); math.Abs(sd-captureFactorSD) > 5*captureFactorSD/math.Sqrt(2*n) {
+		t.Errorf("log capture factor sd %.4f, want %.4f", sd, captureFactorSD)
+	}
+	// Each handling gene's log factor is its fold plus a capture log
+	// factor: at least handlingFoldMin − 5 capture sds.
+	for i, v := range logH {
+		if v < handlingFoldMin-5*captureFactorSD || v > handlingFoldMax+5*captureFactorSD {
+			t.Errorf("handling gene %d: log factor %.3f outside [%.2f, %.2f] ± 5 sd", truth.HandlingGenes[i], v, handlingFoldMin, handlingFoldMax)
+		}
 	}
 	// Runs are independent of states, so for well-expressed genes the log
 	// ratio of the runs' mean normalised expression follows log factor (up

@@ -21,15 +21,18 @@ const (
 	programmeMax          = 60   // largest state programme at the default size
 	rampGenes             = 25   // genes rising along each lineage, default size
 	maturationGenes       = 20   // genes rising with maturation in every lineage
+	handlingGenes         = 40   // genes raised in run 2 only (its handling response), default size
 	minProgrammeGenes     = 4    // floor of a state programme at small sizes
 	minRampGenes          = 2    // floor of a ramp at small sizes
 )
 
 // Gene parameters.
 const (
-	foldMin, foldMax         = 1.5, 3.0  // range of a state programme gene's log fold change
-	rampFoldMin, rampFoldMax = 1.0, 2.0  // range of a ramp gene's log fold change
-	batchFactorSD            = 0.15      // sd of the log of run 2's per-gene factor
+	foldMin, foldMax         = 1.5, 3.0 // range of a state programme gene's log fold change
+	rampFoldMin, rampFoldMax = 1.0, 2.0 // range of a ramp gene's log fold change
+	captureFactorSD          = 0.25     // sd of the log of run 2's per-gene capture factor
+	handlingFoldMin          = 1.5      // range of a handling gene's log fold change in run 2
+	handlingFoldMax          = 2.5
 	housekeepingCountShare   = 0.50      // share of nuclear counts in housekeeping genes when programmes are off
 	minSize, maxSize         = 0.25, 100 // range of the negative binomial size r
 	backgroundSD             = 2.8       // sd of the log abundance of background genes
@@ -66,6 +69,7 @@ type geneModel struct {
 
 	programmes   [slotCount][]int // genes of each slot, ascending
 	housekeeping []int
+	handling     []int // genes raised in run 2 only, ascending
 }
 
 // scaled returns n scaled from the default gene count to genes, at least lo.
@@ -109,6 +113,7 @@ func newGeneModel(seed int64, genes int) *geneModel {
 		m.programmes[slotRamp0+l] = take(scaled(rampGenes, genes, minRampGenes))
 	}
 	m.programmes[slotMaturation] = take(scaled(maturationGenes, genes, minRampGenes))
+	m.handling = take(scaled(handlingGenes, genes, minRampGenes))
 
 	// Log abundances: background genes spread widely around a low median,
 	// programme genes low until their programme switches on, housekeeping
@@ -132,6 +137,10 @@ func newGeneModel(seed int64, genes int) *geneModel {
 			m.logFold[g] = lo + s.uniform()*(hi-lo)
 			logAb[g] = programmeLogBase + programmeLogSD*s.normal()
 		}
+	}
+	// Handling genes are expressed like programme genes, in every state.
+	for _, g := range m.handling {
+		logAb[g] = programmeLogBase + programmeLogSD*s.normal()
 	}
 	var other float64
 	isHK := make([]bool, m.nuclear)
@@ -169,13 +178,17 @@ func newGeneModel(seed int64, genes int) *geneModel {
 		m.size[g] = math.Round(4*r) / 4
 	}
 
-	// Run 2 multiplies each nuclear gene by a log-normal factor.
+	// Run 2 multiplies each nuclear gene by a log-normal capture factor,
+	// and its handling genes by a fold change on top: the batch effect.
 	m.factor = make([]float64, genes)
 	for g := range m.factor {
 		m.factor[g] = 1
 		if g < m.nuclear {
-			m.factor[g] = math.Exp(batchFactorSD * s.normal())
+			m.factor[g] = math.Exp(captureFactorSD * s.normal())
 		}
+	}
+	for _, g := range m.handling {
+		m.factor[g] *= math.Exp(handlingFoldMin + s.uniform()*(handlingFoldMax-handlingFoldMin))
 	}
 	for b := range m.abundance {
 		m.abundance[b] = make([]float64, m.nuclear)

@@ -48,7 +48,14 @@ var bounds = map[string]bound{
 	"height":     {lo: 16, hi: 10000, zero: "the preset's"},
 	"dpi":        {lo: 10, hi: 4800, zero: "the preset's"},
 
-	"bench.genes":   {lo: 100, hi: 100000, zero: "20,000 up to 200,000 cells, 30,000 above"},
+	"bench.genes": {lo: 100, hi: 100000, zero: "20,000 up to 200,000 cells, 30,000 above"},
+
+	"integrate-clusters":   {lo: 1, hi: 10000, zero: "min(100, cells/30)"},
+	"integrate-sigma":      {lo: 0, hi: 10, loOpen: true},
+	"integrate-rounds":     {lo: 1, hi: 1000},
+	"integrate-iterations": {lo: 1, hi: 1000},
+	"integrate-tolerance":  {lo: 0, hi: 0.5, loOpen: true},
+
 	"example.cells": {lo: 1, hi: 2000000},
 	"example.genes": {lo: 100, hi: 100000},
 }

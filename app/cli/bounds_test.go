@@ -159,13 +159,15 @@ func TestEveryInputErrorExitsTwo(t *testing.T) {
 		"inconsistent shape":                       true, // prep.ErrShape: a dataset built wrongly
 		"malformed sparse matrix":                  true, // prep.ErrMalformed
 		"dataset holds neither counts nor a table": true, // prep.ErrNoMatrix
+		"lengths do not match":                     true, // integrate.ErrShape: components built wrongly
+		"value is NaN or infinite":                 true, // integrate.ErrNotFinite: components computed wrongly
 	}
 	classified := map[string]bool{}
 	for _, e := range inputErrors {
 		classified[e.Error()] = true
 	}
 	seen := 0
-	for _, dir := range []string{"../../compute/ingest", "../../compute/prep", "../../compute/pipeline", "../session", "../restore", "../../sampledata", "../../internal/atomicfile"} {
+	for _, dir := range []string{"../../compute/ingest", "../../compute/prep", "../../compute/pipeline", "../../compute/integrate", "../session", "../restore", "../../sampledata", "../../internal/atomicfile"} {
 		pkgs, err := parser.ParseDir(token.NewFileSet(), dir, nil, 0)
 		if err != nil {
 			t.Fatal(err)

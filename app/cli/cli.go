@@ -15,6 +15,7 @@ import (
 	"lodestone/app/restore"
 	"lodestone/app/session"
 	"lodestone/compute/ingest"
+	"lodestone/compute/integrate"
 	"lodestone/compute/pipeline"
 	"lodestone/compute/prep"
 	"lodestone/internal/atomicfile"
@@ -40,6 +41,8 @@ var inputErrors = []error{
 	ingest.ErrLabelRole, ingest.ErrNoMatch, ingest.ErrAmbiguous, ingest.ErrNothingToRead, ingest.ErrNotRegular,
 	prep.ErrNotFinite, prep.ErrNegative, prep.ErrTooFewCells, prep.ErrTooFewGenes, prep.ErrOption,
 	pipeline.ErrSetting, sampledata.ErrOption,
+	integrate.ErrNoColumn, integrate.ErrRepeated, integrate.ErrNotCategorical, integrate.ErrMissing,
+	integrate.ErrOneBatch, integrate.ErrSmallBatch, integrate.ErrParam,
 	session.ErrNotSession, session.ErrVersion, session.ErrMissing, session.ErrCorrupt, restore.ErrNoInputs,
 }
 

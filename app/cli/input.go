@@ -165,6 +165,7 @@ type prepFlags struct {
 	metric              string
 	init                pipeline.Init // set by the command; empty means the default
 	neighbors           int           // set by a command whose graph has a fixed k (cluster's --k); 0: from the perplexity
+	integ               integrateFlags
 }
 
 func (f *prepFlags) register(fs *flags) {
@@ -179,6 +180,7 @@ func (f *prepFlags) register(fs *flags) {
 	fs.IntVar(&f.minGenes, "min-genes", d.Prep.QC.MinGenes, "quality control: keep cells with at least this many detected genes")
 	fs.IntVar(&f.minCells, "min-cells", d.Prep.QC.MinCells, "quality control: keep genes detected in at least this many cells")
 	fs.Float64Var(&f.maxMito, "max-mito", 1, "quality control: keep cells with at most this fraction of mitochondrial counts (1: off)")
+	f.integ.register(fs)
 }
 
 // given reports whether the flag name was given on the command line.
@@ -207,6 +209,9 @@ func (f *prepFlags) settings() (pipeline.Settings, error) {
 		s.Metric = neighbors.Cosine
 	default:
 		return s, usagef("--metric %q: want euclidean or cosine", f.metric)
+	}
+	if err := f.integ.apply(&s); err != nil {
+		return s, err
 	}
 	return s, s.Validate()
 }

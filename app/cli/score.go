@@ -16,7 +16,7 @@ func init() {
 }
 
 func runScore(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("score", "--in PATH [--meta FILE] --layout layout.csv [--label COLUMN] [--k 15] [flags]", stderr)
+	fs := newFlags("score", "--in PATH [--meta FILE] --layout layout.csv [--label COLUMN] [--mixing COLUMN] [--k 15] [flags]", stderr)
 	var in inputFlags
 	var pf prepFlags
 	in.register(fs)
@@ -26,6 +26,7 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 	label := fs.String("label", "", "a categorical annotation column: also score how well the map's neighbours predict it")
 	fo := fidelityFlags(fs)
 	tail := fs.Float64("tail", 1, "also print the map's KL divergence for the kernel of this tail α (1: t-SNE), which needs the affinities (the neighbour search runs)")
+	mixing := fs.String("mixing", "", "a categorical column naming samples: also score how mixed they are in the map and in the components (default: the first --integrate column)")
 	quiet := fs.Bool("quiet", true, "print no progress")
 	if err := fs.parse(args); err != nil {
 		return err
@@ -82,7 +83,29 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 		}
 		fmt.Fprintf(stdout, "kl_divergence %.6f\n", kl)
 	}
+	if in := p.Settings.Integrate; *mixing == "" && in.On() {
+		*mixing = in.Columns[0]
+	}
+	if *mixing != "" {
+		m, err := pipeline.Mixing(ctx, p, layout, *mixing, *label, fo.mixingOptions(pf.seed, pf.threads))
+		if err != nil {
+			return err
+		}
+		printMixing(stdout, m)
+	}
 	return nil
+}
+
+// printMixing prints the mixing scores as score does: the samples' mixing
+// (0 apart, 1 as mixed as chance) in the map and in the components, and the
+// types' when a type column was given.
+func printMixing(w io.Writer, m pipeline.MixingScores) {
+	fmt.Fprintf(w, "sample_mixing_map %.6f\n", m.Map.Batch)
+	fmt.Fprintf(w, "sample_mixing_components %.6f\n", m.Space.Batch)
+	if m.Types != "" {
+		fmt.Fprintf(w, "type_mixing_map %.6f\n", m.Map.Types)
+		fmt.Fprintf(w, "type_mixing_components %.6f\n", m.Space.Types)
+	}
 }
 
 // fidelityOpts holds the flags that set how maps are scored, shared by the
@@ -111,6 +134,12 @@ func (f fidelityOpts) check() error {
 // atlas's seed, as the window draws it.
 func (f fidelityOpts) options(seed int64, threads int, labels []int32) quality.FidelityOptions {
 	return quality.FidelityOptions{Sample: *f.sample, Seed: seed, K: *f.k, Threads: threads, Labels: labels}
+}
+
+// mixingOptions returns the options of the mixing scores: the same sample
+// as the fidelity scores, neighbourhoods of the default perplexity.
+func (f fidelityOpts) mixingOptions(seed int64, threads int) quality.MixingOptions {
+	return quality.MixingOptions{Sample: *f.sample, Seed: seed, Threads: threads}
 }
 
 func column(cols []atlas.Column, name string) *atlas.Column {

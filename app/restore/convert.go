@@ -26,7 +26,18 @@ func Settings(p pipeline.Settings) session.Settings {
 		PowerIterations: p.Prep.PCA.PowerIterations, Standardize: p.Prep.PCA.Standardize,
 		Perplexity: p.Perplexity, Neighbors: p.Neighbors, Metric: metricName(p.Metric), Method: methodName(p.Method),
 		Uniform: p.Uniform, Init: string(p.Init), Seed: p.Seed, Threads: p.Threads,
+		Integrate: integration(p.Integrate),
 	}
+}
+
+// integration returns the stored form of an integration; nil when it is
+// off.
+func integration(in pipeline.Integration) *session.Integration {
+	if !in.On() {
+		return nil
+	}
+	return &session.Integration{Columns: in.Columns, Theta: in.Theta, Lambda: in.Lambda, Clusters: in.Clusters,
+		Sigma: in.Sigma, Rounds: in.Rounds, Iterations: in.Iterations, Tolerance: in.Tolerance}
 }
 
 // Pipeline returns stored settings as pipeline settings; it fails, wrapping
@@ -40,6 +51,13 @@ func Pipeline(s session.Settings) (pipeline.Settings, error) {
 	p.Prep.PCA.PowerIterations, p.Prep.PCA.Standardize = s.PowerIterations, s.Standardize
 	p.Perplexity, p.Neighbors, p.Uniform = s.Perplexity, s.Neighbors, s.Uniform
 	p.Init, p.Seed, p.Threads = pipeline.Init(s.Init), s.Seed, s.Threads
+	if in := s.Integrate; in != nil {
+		if len(in.Columns) == 0 {
+			return p, fmt.Errorf("%w: an integration without batch columns", session.ErrCorrupt)
+		}
+		p.Integrate = pipeline.Integration{Columns: in.Columns, Theta: in.Theta, Lambda: in.Lambda, Clusters: in.Clusters,
+			Sigma: in.Sigma, Rounds: in.Rounds, Iterations: in.Iterations, Tolerance: in.Tolerance}
+	}
 	var ok bool
 	if p.Metric, ok = metrics[s.Metric]; !ok {
 		return p, fmt.Errorf("%w: unknown metric %q", session.ErrCorrupt, s.Metric)

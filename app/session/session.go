@@ -111,6 +111,22 @@ type Settings struct {
 	Init            string  `json:"init"`
 	Seed            int64   `json:"seed"`
 	Threads         int     `json:"threads"`
+	// Integrate, when present, is the integration of samples the
+	// components were corrected with; sessions without it have none.
+	Integrate *Integration `json:"integrate,omitempty"`
+}
+
+// Integration is the stored form of the integration of samples (Harmony):
+// the batch columns and every parameter, as used (defaults resolved).
+type Integration struct {
+	Columns    []string  `json:"columns"`
+	Theta      []float64 `json:"theta"`  // per column
+	Lambda     []float64 `json:"lambda"` // per column
+	Clusters   int       `json:"clusters"`
+	Sigma      float64   `json:"sigma"`
+	Rounds     int       `json:"rounds"`
+	Iterations int       `json:"iterations"`
+	Tolerance  float64   `json:"tolerance"`
 }
 
 // Step is one run of the history (see live.Step), with the attraction

@@ -40,6 +40,8 @@ const (
 // Sentinel errors wrapped by the errors of this package; test with
 // errors.Is.
 var (
+	ErrNoColumn       = errors.New("does not exist")
+	ErrRepeated       = errors.New("is named twice")
 	ErrNotCategorical = errors.New("is not a categorical column")
 	ErrMissing        = errors.New("has cells without a value")
 	ErrOneBatch       = errors.New("has only one value among the cells: there is nothing to integrate")
@@ -58,7 +60,7 @@ type BatchError struct {
 }
 
 func (e *BatchError) Error() string {
-	s := fmt.Sprintf("batch column %q %v", e.Column, e.Err)
+	s := fmt.Sprintf("column %q %v", e.Column, e.Err)
 	if e.Detail != "" {
 		s += " (" + e.Detail + ")"
 	}
@@ -172,12 +174,9 @@ func DefaultClusters(n int) int {
 	return max(1, min(MaxClustersDefault, int(math.Round(float64(n)/CellsPerCluster))))
 }
 
-// withDefaults returns o with its zero fields replaced by the defaults for n
-// cells, or an error naming a field out of range.
-func (o Options) withDefaults(n int) (Options, error) {
-	if o.Clusters == 0 {
-		o.Clusters = DefaultClusters(n)
-	}
+// WithDefaults returns o with its zero fields replaced by the defaults,
+// except Clusters, whose default depends on the number of cells.
+func (o Options) WithDefaults() Options {
 	if o.Sigma == 0 {
 		o.Sigma = DefaultSigma
 	}
@@ -196,6 +195,16 @@ func (o Options) withDefaults(n int) (Options, error) {
 	if o.BlockShare == 0 {
 		o.BlockShare = DefaultBlockShare
 	}
+	return o
+}
+
+// withDefaults returns o with its zero fields replaced by the defaults for n
+// cells, or an error naming a field out of range.
+func (o Options) withDefaults(n int) (Options, error) {
+	if o.Clusters == 0 {
+		o.Clusters = DefaultClusters(n)
+	}
+	o = o.WithDefaults()
 	bad := func(name string, v any, want string) error {
 		return fmt.Errorf("integrate: %w: %s = %v (want %s)", ErrParam, name, v, want)
 	}

@@ -39,6 +39,7 @@ var Stages = []struct{ Name, Label string }{
 	{"normalize", "normalisation"},
 	{"genes", "gene selection"},
 	{"pca", "principal components"},
+	{StageIntegrate, "integrating samples"},
 	{StageNeighbors, "nearest neighbours"},
 	{StageAffinities, "affinities"},
 	{StageInit, "initial layout"},
@@ -63,8 +64,14 @@ type Settings struct {
 	Method     neighbors.Method // exact or approximate search (Auto chooses by size)
 	Uniform    bool             // uniform kNN affinities instead of perplexity-calibrated ones
 	Init       Init             // how the first layout is made
-	Seed       int64            // seeds PCA, the neighbour search and the optimiser
+	Seed       int64            // seeds PCA, integration, the neighbour search and the optimiser
 	Threads    int              // goroutines; 0 means all processors
+	// Integrate, when on, corrects the principal components for the
+	// batches named by annotation columns (Harmony) before the neighbour
+	// graph: the graph, the map, clusters and fidelity scores then use the
+	// corrected components; expression (gene paint, markers) stays as
+	// measured.
+	Integrate Integration
 }
 
 // Default returns the settings of a new analysis: prep's defaults, perplexity
@@ -151,12 +158,16 @@ type Prepared struct {
 	// as it is read), or the values of a wide numeric table. It is nil for a
 	// narrow table (features used as they are).
 	Expression *sparse.View
-	Features   *atlas.Dense     // the space neighbours are found in
-	Graph      *neighbors.Graph // GraphK neighbours of every cell
-	P          *sparse.CSR      // symmetric affinities summing to 1
-	Init       []float32        // the layout fresh runs start from
-	Prep       *prep.Result     // reports of quality control, gene selection and PCA
-	Notes      []string         // where the preparation differs from what was asked
+	Features   *atlas.Dense // the space neighbours are found in (corrected when integrated)
+	// Uncorrected holds the principal components before integration, and
+	// Integrated how the integration went; both nil without integration.
+	Uncorrected *atlas.Dense
+	Integrated  *IntegrationReport
+	Graph       *neighbors.Graph // GraphK neighbours of every cell
+	P           *sparse.CSR      // symmetric affinities summing to 1
+	Init        []float32        // the layout fresh runs start from
+	Prep        *prep.Result     // reports of quality control, gene selection and PCA
+	Notes       []string         // where the preparation differs from what was asked
 }
 
 // Cells returns the number of kept cells.
@@ -184,6 +195,9 @@ func Features(ctx context.Context, d *atlas.Dataset, s Settings, report func(sta
 		report = func(string, int64, int64) {}
 	}
 	if err := s.Validate(); err != nil {
+		return nil, err
+	}
+	if err := CheckIntegration(d, s.Integrate); err != nil {
 		return nil, err
 	}
 	po := s.Prep
@@ -242,6 +256,11 @@ func Features(ctx context.Context, d *atlas.Dataset, s Settings, report func(sta
 		}
 		out.GeneIDs, out.GeneSymbols = d.GeneIDs, d.GeneSymbols
 	}
+	if s.Integrate.On() {
+		if err := integrateFeatures(ctx, out, s, report); err != nil {
+			return nil, err
+		}
+	}
 	return out, nil
 }
 
@@ -252,7 +271,6 @@ func Graph(ctx context.Context, out *Prepared, report func(stage string, done, t
 		report = func(string, int64, int64) {}
 	}
 	s := out.Settings
-	res := out.Prep
 	n := out.Cells()
 	k := s.GraphK(n)
 	if k < 1 {
@@ -261,7 +279,7 @@ func Graph(ctx context.Context, out *Prepared, report func(stage string, done, t
 	if want := int(math.Ceil(3 * s.Perplexity)); s.Neighbors <= 0 && k < want {
 		out.Notes = append(out.Notes, fmt.Sprintf("only %d neighbours per cell are available (perplexity %g asks for %d)", k, s.Perplexity, want))
 	}
-	g, err := neighbors.Find(ctx, res.Features, neighbors.Options{
+	g, err := neighbors.Find(ctx, out.Features, neighbors.Options{
 		K: k, Metric: s.Metric, Method: s.Method, Seed: s.Seed, Threads: s.Threads,
 		Progress: func(done, total int64) { report(StageNeighbors, done, total) },
 	})
