@@ -228,7 +228,7 @@ func TestQualityControlReportsAndRefuses(t *testing.T) {
 	wantRefused(t, filepath.Dir(out), []string{"a map needs at least 10 cells", "passed quality control", "cells with fewer than 200 detected genes", "perplexity"},
 		"embed", "--in", dir, "--out", out, "--min-genes", "200")
 	// A perplexity the cells cannot meet, named.
-	wantRefused(t, filepath.Dir(out), []string{"--perplexity 20", "51 cells passed quality control", "below a third of them (17)"},
+	wantRefused(t, filepath.Dir(out), []string{"--perplexity 20", "46 cells passed quality control", "below a third of them (15.33)"},
 		"embed", "--in", dir, "--out", out, "--min-genes", "185", "--perplexity", "20", "--pcs", "5", "--genes", "50")
 	// More components than the atlas allows.
 	wantRefused(t, filepath.Dir(out), []string{"--pcs 300", "1200 cells and 200 highly variable genes", "at most 199"},
