@@ -26,7 +26,7 @@ import (
 )
 
 func init() {
-	register("bench", "time the stages on generated data: kNN, PCA, the embedding, the whole run from counts", runBench)
+	register("bench", "time the stages on generated data: kNN, PCA, the embedding, the integration of samples, the whole run from counts", runBench)
 }
 
 // maxBenchCells bounds the atlases bench generates (about 1 GB of
@@ -34,9 +34,9 @@ func init() {
 const maxBenchCells = 5000000
 
 func runBench(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("bench", "[--sizes 10000,70000,250000,1000000] [--sections knn,pca,embed,counts] [--data DIR]", stderr)
+	fs := newFlags("bench", "[--sizes 10000,70000,250000,1000000] [--sections knn,pca,embed,integrate,counts] [--data DIR]", stderr)
 	sizesFlag := fs.String("sizes", "10000,70000,250000,1000000", "numbers of cells, comma-separated")
-	sectionsFlag := fs.String("sections", "knn,pca,embed", "what to time: knn, pca, embed, counts (the whole run from counts on disk)")
+	sectionsFlag := fs.String("sections", "knn,pca,embed,integrate", "what to time: knn, pca, embed, integrate (of samples), counts (the whole run from counts on disk)")
 	data := fs.String("data", filepath.Join(os.TempDir(), "lodestone-bench-counts"), "counts section: folder for the generated atlases, written once and reused")
 	genes := fs.Int("genes", 0, "counts section: genes of the generated atlases")
 	gz := fs.Bool("gzip", false, "counts section: read the counts gzip-compressed")
@@ -59,8 +59,8 @@ func runBench(args []string, stdout, stderr io.Writer) error {
 	sections := map[string]bool{}
 	for _, s := range strings.Split(*sectionsFlag, ",") {
 		s = strings.TrimSpace(s)
-		if s != "knn" && s != "pca" && s != "embed" && s != "counts" {
-			return usagef("--sections: unknown section %q (want knn, pca, embed, counts)", s)
+		if s != "knn" && s != "pca" && s != "embed" && s != "integrate" && s != "counts" {
+			return usagef("--sections: unknown section %q (want knn, pca, embed, integrate, counts)", s)
 		}
 		sections[s] = true
 	}
@@ -83,6 +83,11 @@ func runBench(args []string, stdout, stderr io.Writer) error {
 	}
 	if sections["embed"] {
 		if err := benchEmbed(ctx, stdout, sizes, *iterations, *threads, *seed); err != nil {
+			return err
+		}
+	}
+	if sections["integrate"] {
+		if err := benchIntegrate(ctx, stdout, sizes, *threads, *seed); err != nil {
 			return err
 		}
 	}

@@ -25,6 +25,9 @@ const chunkRows = 4096
 const (
 	streamLayout = 0x5eed_c0de_0000_0001 // centres, weights, frames
 	streamRows   = 0x5eed_c0de_0001_0000 // + chunk number: the rows
+	// streamBatches draws BatchMixture's offsets, and (xored into the
+	// seed) its batches.
+	streamBatches = 0x5eed_c0de_0002_0000
 )
 
 // newRand returns the PCG generator of stream for seed.
@@ -106,6 +109,40 @@ func GaussianMixture(n, dim, clusters int, seed int64) (*atlas.Dense, []int32) {
 		}
 	})
 	return x, labels
+}
+
+// BatchMixture returns n points in dim dimensions from GaussianMixture's
+// mixture of types clusters (its centres, spreads and weights for the same
+// seed), each point also seen in one of batches batches that shifts it by
+// the batch's offset, with each point's type and batch:
+//
+//	δ_b ~ N(0, (shift/√dim)² I)   (two offsets about shift·√2 apart)
+//	batch_i uniform,  x_i = μ_type + σ_type · z_i + δ_batch
+//
+// With shift ≥ 6 the batches lie further apart than the types (about 5.7),
+// so neighbours are found within a point's own batch first: the task of a
+// batch integration. Sizes below their minimum are raised as by
+// GaussianMixture; batches to 1.
+func BatchMixture(n, dim, types, batches int, shift float64, seed int64) (x *atlas.Dense, typ, batch []int32) {
+	x, typ = GaussianMixture(n, dim, types, seed)
+	dim, batches = max(dim, 1), max(batches, 1)
+	rng := newRand(seed, streamBatches)
+	offsets := make([]float32, batches*dim)
+	for i := range offsets {
+		offsets[i] = float32(shift / math.Sqrt(float64(dim)) * rng.NormFloat64())
+	}
+	batch = make([]int32, x.Rows)
+	fillChunks(x.Rows, seed^streamBatches, func(lo, hi int, r *rand.Rand) {
+		for i := lo; i < hi; i++ {
+			b := r.IntN(batches)
+			batch[i] = int32(b)
+			row := x.Row(i)
+			for j, v := range offsets[b*dim : (b+1)*dim] {
+				row[j] += v
+			}
+		}
+	})
+	return x, typ, batch
 }
 
 // nearestCentre returns the smallest Euclidean distance from mu to the

@@ -208,3 +208,61 @@ func TestBranchingPathSmallDim(t *testing.T) {
 		t.Fatal("same seed gave different points on 1 and all processors")
 	}
 }
+
+// TestBatchMixture checks BatchMixture against its definition: the same
+// types and points as GaussianMixture for the seed, each moved by one
+// offset per batch (the difference is constant within a batch, up to
+// float32 rounding), batches about equally frequent (binomial, 5 standard
+// deviations), offsets of about shift in length, and the same points for
+// any number of processors.
+func TestBatchMixture(t *testing.T) {
+	const n, dim, types, batches, shift = 20000, 12, 4, 3, 6.0
+	x, typ, batch := BatchMixture(n, dim, types, batches, shift, 5)
+	base, lab := GaussianMixture(n, dim, types, 5)
+	if !slices.Equal(typ, lab) {
+		t.Fatal("types differ from GaussianMixture's")
+	}
+	offset := make([][]float64, batches)
+	count := make([]float64, batches)
+	for i := 0; i < n; i++ {
+		b := batch[i]
+		if b < 0 || int(b) >= batches {
+			t.Fatalf("batch %d out of range", b)
+		}
+		count[b]++
+		d := make([]float64, dim)
+		for j := range d {
+			d[j] = float64(x.At(i, j) - base.At(i, j))
+		}
+		if offset[b] == nil {
+			offset[b] = d
+			continue
+		}
+		for j := range d {
+			if math.Abs(d[j]-offset[b][j]) > 1e-5*(1+math.Abs(float64(base.At(i, j)))) {
+				t.Fatalf("point %d: shift %v differs from its batch's %v", i, d, offset[b])
+			}
+		}
+	}
+	p := 1.0 / batches
+	for b, c := range count {
+		if math.Abs(c-n*p) > 5*math.Sqrt(n*p*(1-p)) {
+			t.Errorf("batch %d has %v points of %d", b, c, n)
+		}
+		var s float64
+		for _, v := range offset[b] {
+			s += v * v
+		}
+		// ‖δ‖² / (shift²/dim) is χ² with dim degrees of freedom: within
+		// [dim/4, 3·dim] for all practical purposes.
+		if r := s / (shift * shift / dim); r < dim/4.0 || r > 3*dim {
+			t.Errorf("batch %d: offset length %.3f for shift %v", b, math.Sqrt(s), shift)
+		}
+	}
+	prev := runtime.GOMAXPROCS(1)
+	y, _, batch1 := BatchMixture(n, dim, types, batches, shift, 5)
+	runtime.GOMAXPROCS(prev)
+	if !slices.Equal(x.Data, y.Data) || !slices.Equal(batch, batch1) {
+		t.Fatal("same seed gave different points on 1 and all processors")
+	}
+}
