@@ -218,7 +218,25 @@ func (e *Engine) Latest() ([]float32, Status) {
 }
 
 // Initial returns the layout fresh runs start from.
-func (e *Engine) Initial() []float32 { return e.initial }
+func (e *Engine) Initial() []float32 {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	return e.initial
+}
+
+// Reset stops any run and starts over on another preparation of the atlas
+// (its samples integrated, say): opt from now on, with setting recorded in
+// the history, and initial as the layout fresh runs start from and the
+// layout on screen, reached by no step yet.
+func (e *Engine) Reset(opt Optimizer, setting float64, initial []float32) {
+	e.mu.Lock()
+	e.stopLocked()
+	e.opt, e.setting, e.initial, e.layout = opt, setting, initial, initial
+	e.history = nil
+	e.status.Iteration = 0
+	e.mu.Unlock()
+	e.notify()
+}
 
 // SetLayout stops any run and shows layout, reached by the given history
 // (for example both read from a session); the runs that follow use the

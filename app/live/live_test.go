@@ -207,3 +207,28 @@ func TestCompactKeepsShape(t *testing.T) {
 		}
 	}
 }
+
+// TestResetStartsOver checks that Reset stops the run in flight and makes a
+// new optimiser, initial layout and empty history current: the layout on
+// screen is the new initial one, and the next fresh run starts from it with
+// the new optimiser, recording the new setting.
+func TestResetStartsOver(t *testing.T) {
+	first, second := &drift{}, &drift{}
+	e := New(first, 30, []float32{0, 0}, nil)
+	e.Turn(1, 100000)
+	e.Reset(second, 12, []float32{5, 5})
+	e.Wait()
+	got, st := e.Latest()
+	if got[0] != 5 || st.Running || st.Iteration != 0 || len(e.History()) != 0 || e.Initial()[0] != 5 {
+		t.Fatalf("after Reset: layout %v, status %+v, history %v", got, st, e.History())
+	}
+	e.Restart(1, 3)
+	e.Wait()
+	got, _ = e.Latest()
+	if got[0] != 8 || len(second.starts) != 1 || second.starts[0][0] != 5 {
+		t.Fatalf("fresh run after Reset: layout %v, starts %v", got, second.starts)
+	}
+	if h := e.History(); len(h) != 1 || h[0].Kind != Fresh || h[0].Setting != 12 {
+		t.Fatalf("history after Reset and a fresh run: %+v", h)
+	}
+}

@@ -620,6 +620,13 @@ var viewButtons = []struct {
 		})
 		dialogSays(t, v.u, "not a dial value")
 	}},
+	{"Integrate the samples", func(v *atlasView) *widget.Button { return v.samples.button }, func(_ *testing.T, _ *ui, v *atlasView, _ *fakeChooser) {
+		onUI(func() { v.samples.samples.SetSelected(sampledata.ColumnBatch) })
+	}, func(t *testing.T, _ *ui, v *atlasView, _ *fakeChooser) {
+		// TestIntegrateTheSamples follows the integration through.
+		waitFor(t, "the integrated atlas", 120*time.Second, func() bool { return v.st.prep.Integrated != nil && !v.samples.busy })
+		waitForRun(t, v, 2)
+	}},
 }
 
 // oneGroup makes a group of the first 40 cells and chooses it.

@@ -14,17 +14,18 @@ import (
 
 // atlasPanel summarises the open atlas: its size, its annotation columns
 // and their kinds, how the annotation table matched, and what quality
-// control, gene selection and PCA did. It follows the atlas state.
+// control, gene selection, PCA and integration did; above the summary, the
+// samples' controls (samplesPanel). It follows the atlas state.
 type atlasPanel struct {
 	st   *atlasState
 	text *widget.RichText
 	box  fyne.CanvasObject
 }
 
-func newAtlasPanel(st *atlasState) *atlasPanel {
+func newAtlasPanel(st *atlasState, samples *samplesPanel) *atlasPanel {
 	a := &atlasPanel{st: st, text: widget.NewRichText()}
 	a.text.Wrapping = fyne.TextWrapWord
-	a.box = container.NewVScroll(a.text)
+	a.box = container.NewVScroll(container.NewVBox(samples.content(), widget.NewSeparator(), a.text))
 	a.show()
 	st.on(topicAtlas, a.show)
 	st.on(topicColumns, a.show)
@@ -97,6 +98,9 @@ func atlasSummary(name string, d *atlas.Dataset, p *pipeline.Prepared) string {
 			fmt.Fprintf(&b, "\n**PCA**: %d components explain %.1f%% of the variance of the selected genes\n",
 				len(pca.ExplainedVarianceRatio), 100*sum)
 		}
+	}
+	if p.Settings.Integrate.On() {
+		fmt.Fprintf(&b, "\n**Integration**: %s\n", integrationState(p))
 	}
 	s := p.Settings
 	if p.Graph != nil {

@@ -46,6 +46,7 @@ type atlasView struct {
 	groups  *groupsPanel
 	markers *markersPanel
 	sweep   *sweepPanel
+	samples *samplesPanel
 	summary *atlasPanel
 	status  *statusLine
 	scorer  *mapScorer
@@ -75,7 +76,8 @@ func newAtlasView(u *ui, src source, d *atlas.Dataset, p *pipeline.Prepared) *at
 		func() { v.paint.paintBy(groupsChoice) }, func() { v.reveal(tabGroups) })
 	v.markers = newMarkersPanel(v.st, v.jobs, u, v.files, v.paint.showGene, v.plots)
 	v.sweep = newSweepPanel(v.st, v.jobs, u, v.run)
-	v.summary = newAtlasPanel(v.st)
+	v.samples = newSamplesPanel(v.st, v.jobs, u, v.reprepared)
+	v.summary = newAtlasPanel(v.st, v.samples)
 	v.status = newStatusLine(v.st, v.jobs)
 	v.scorer = newMapScorer(v.st, v.jobs)
 	v.export = &exporter{st: v.st, view: v.mapP.mapView, files: v.files, errs: u, win: u.win}
@@ -94,6 +96,15 @@ func newAtlasView(u *ui, src source, d *atlas.Dataset, p *pipeline.Prepared) *at
 
 // content returns the view's widgets.
 func (v *atlasView) content() fyne.CanvasObject { return v.root }
+
+// reprepared shows the atlas prepared again with other settings (its
+// samples integrated or not): the same cells, annotation columns, groups
+// and paint, new components, graph and affinities, and a fresh run from
+// the new initial layout.
+func (v *atlasView) reprepared(p *pipeline.Prepared) {
+	v.st.attach(v.st.data, p)
+	v.run.reset(p)
+}
 
 // reveal brings a tab of the instrument column to the front.
 func (v *atlasView) reveal(name string) {

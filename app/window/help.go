@@ -49,4 +49,26 @@ is global: it compares all distances between the sampled cells in the data with 
 (1 when the map keeps them up to scale, near 0 when the two are unrelated). The largest distances
 weigh most in it, so **a few far cells can dominate dCor**: one remote group can raise or lower it
 whatever the map does with the rest. Read it as a check on the large scale, beside the local scores.
+
+## Several samples
+
+An atlas that pools donors, runs or protocols may show each cell state once per sample: technical
+differences (depth, chemistry, handling) shift whole samples, and the map then shows samples
+where you look for states. Paint by the sample column to see it. In the Atlas tab, name that
+column (*samples are in column*): the status line then says how mixed the samples are among each
+cell's neighbours — 0 when every cell's neighbours come from its own sample, 1 when they are as
+mixed as if the samples had been shuffled (the local inverse Simpson's index of Korsunsky et al.
+2019) — in the map and in the components. Name a cell-type column too to see how well types stay
+apart (0 is the goal).
+
+*Integrate the samples* corrects the principal components by Harmony (Korsunsky et al. 2019):
+cells are grouped into soft clusters that are pushed to hold every sample in its usual share, and
+within each cluster each sample's shift is removed. The strength θ sets how hard the clusters are
+pushed to mix. The neighbours, the map, Leiden clusters and fidelity then use the corrected
+components; marker genes and gene paint stay on the measured expression.
+
+**Integration can hide real differences between samples.** It cannot tell a technical shift from
+biology that differs between samples: a state present in one donor only (a disease state, a
+treated sample) may be drawn into the states the others share. Check a finding with and without
+integration, and in each sample on its own.
 `

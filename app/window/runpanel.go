@@ -358,6 +358,16 @@ func (r *runPanel) attach(opt *live.TSNE, perplexity float64) {
 	r.showFrame()
 }
 
+// reset drives the optimiser of another preparation of the atlas from its
+// initial layout, with an empty history, and starts a fresh run at the
+// dial's value.
+func (r *runPanel) reset(p *pipeline.Prepared) {
+	r.optimizer = &live.TSNE{P: p.P, Seed: p.Settings.Seed, Threads: p.Settings.Threads}
+	r.setPerplexity(p.Settings.Perplexity)
+	r.engine.Reset(r.optimizer, p.Settings.Perplexity, p.Init)
+	r.restart()
+}
+
 func (r *runPanel) setPerplexity(p float64) {
 	r.perp = p
 	r.perplexity.SetText(strconv.FormatFloat(p, 'g', 4, 64))

@@ -26,9 +26,10 @@ import (
 // screenshot, turns the dial to Options.SelfTestDial, waits for the rerun
 // to end, saves a second screenshot, checks that the map is not blank, and
 // quits with status 0 (or 1 on any failure). With Options.SelfTestTour it
-// goes on to rank the markers of a state, open their expression plot, make
-// a group, show the Atlas tab and run a short sweep, saving a screenshot of
-// each (some are the README's).
+// goes on to name the example's runs as its samples and integrate them,
+// rank the markers of a state, open their expression plot, make a group,
+// show the Atlas tab and run a short sweep, saving a screenshot of each
+// (some are the README's).
 
 // selfTestLimit is how long the self-test may take before it fails.
 const selfTestLimit = 10 * time.Minute
@@ -168,6 +169,23 @@ func (t *selfTest) script() {
 	if !t.u.opts.SelfTestTour {
 		return
 	}
+
+	// The example's two runs: apart, then integrated (the status line
+	// scores their mixing in both).
+	t.ui(func() {
+		v.paint.paintBy("batch")
+		v.reveal(tabAtlas)
+		v.samples.samples.SetSelected("batch")
+	})
+	t.waitFor("the runs' mixing", func() bool { return v.st.scoresCurrent() && strings.Contains(v.status.scores.Text, "samples mixed") })
+	t.shot("samples-apart.png")
+	t.ui(func() { v.samples.button.OnTapped() })
+	t.waitFor("the integrated atlas", func() bool { return v.st.prep.Integrated != nil && !v.samples.busy })
+	t.runEnded(v, 3)
+	t.waitFor("the integrated map's mixing", func() bool {
+		return v.st.scoresCurrent() && strings.Contains(v.status.scores.Text, "samples mixed")
+	})
+	t.shot("samples-integrated.png")
 
 	t.ui(func() {
 		v.paint.paintBy("state")

@@ -23,6 +23,7 @@ const (
 	topicRun                    // the run's status changed (started, advanced, stopped)
 	topicScores                 // the scores of the map on screen changed
 	topicNote                   // a short message for the status line
+	topicSamples                // the columns that name samples and cell types changed
 	topicCount
 )
 
@@ -53,6 +54,9 @@ type atlasState struct {
 	scores  mapScores
 	scoring bool // the map on screen is being scored
 	note    string
+
+	samples string // the column that names the samples ("" none): their mixing is scored
+	types   string // the column that names cell types ("" none): their mixing is scored
 
 	subs [topicCount][]func()
 }
@@ -166,6 +170,16 @@ func (s *atlasState) setScoring(on bool) {
 // which no run moves.
 func (s *atlasState) scoresCurrent() bool {
 	return s.scores.layout != nil && sameLayout(s.scores.layout, s.layout) && !s.run.Running
+}
+
+// setSamples records the columns that name the samples and the cell types
+// ("" for none).
+func (s *atlasState) setSamples(samples, types string) {
+	if samples == s.samples && types == s.types {
+		return
+	}
+	s.samples, s.types = samples, types
+	s.emit(topicSamples)
 }
 
 // tell shows a short message in the status line.

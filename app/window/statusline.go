@@ -186,7 +186,18 @@ func newMapScorer(st *atlasState, jobs *viewJobs) *mapScorer {
 	m := &mapScorer{st: st, jobs: jobs, kinds: []scoreKind{fidelityScore}}
 	st.on(topicRun, m.update)
 	st.on(topicAtlas, m.update)
+	st.on(topicSamples, m.rescore)
 	return m
+}
+
+// rescore scores the map on screen again (the scores asked for changed).
+func (m *mapScorer) rescore() {
+	if m.pending != nil {
+		m.cancel()
+		m.pending, m.cancel = nil, nil
+	}
+	m.st.setScores(mapScores{})
+	m.update()
 }
 
 // update starts scoring the map on screen when it stands still and has no
@@ -207,6 +218,9 @@ func (m *mapScorer) update() {
 	m.st.setScoring(true)
 	p := m.st.prep
 	kinds := m.kinds
+	if m.st.samples != "" {
+		kinds = append(kinds[:len(kinds):len(kinds)], mixingScore(m.st.samples, m.st.types))
+	}
 	m.jobs.goCtx(ctx, func(ctx context.Context) {
 		defer cancel()
 		parts := make([]string, 0, len(kinds))
