@@ -13,6 +13,7 @@ import (
 // shared by every command that prepares an atlas.
 type integrateFlags struct {
 	columns, theta, lambda string
+	genes                  string
 	clusters               int
 	sigma, tolerance       float64
 	rounds, iterations     int
@@ -22,6 +23,7 @@ func (f *integrateFlags) register(fs *flags) {
 	fs.StringVar(&f.columns, "integrate", "", "correct the principal components for the samples named by this annotation column (Harmony); several columns comma-separated, e.g. donor,protocol")
 	fs.StringVar(&f.theta, "integrate-theta", "", "diversity penalty θ of each --integrate column, comma-separated (default "+ftoa(integrate.DefaultTheta)+"): larger values mix samples harder")
 	fs.StringVar(&f.lambda, "integrate-lambda", "", "ridge penalty λ of each --integrate column, comma-separated (default "+ftoa(integrate.DefaultLambda)+"): larger values correct less")
+	fs.StringVar(&f.genes, "integrate-genes", "within", "with --integrate, select the highly variable genes within each sample of the first column and combine them (within), or on all cells (pooled)")
 	fs.IntVar(&f.clusters, "integrate-clusters", 0, "clusters of the integration (0: min(100, cells/30))")
 	fs.Float64Var(&f.sigma, "integrate-sigma", integrate.DefaultSigma, "width σ of the integration's soft clusters")
 	fs.IntVar(&f.rounds, "integrate-rounds", integrate.DefaultRounds, "rounds of clustering and correction, at most")
@@ -53,6 +55,13 @@ func (f *integrateFlags) apply(s *pipeline.Settings) error {
 	}
 	if in.Lambda, err = perColumn("--integrate-lambda", f.lambda, len(in.Columns)); err != nil {
 		return err
+	}
+	switch f.genes {
+	case "within":
+	case "pooled":
+		in.PooledGenes = true
+	default:
+		return usagef("--integrate-genes %q: want within or pooled", f.genes)
 	}
 	in.Clusters, in.Sigma, in.Rounds, in.Iterations, in.Tolerance = f.clusters, f.sigma, f.rounds, f.iterations, f.tolerance
 	s.Integrate = in

@@ -61,6 +61,7 @@ func TestIntegrateFlagErrors(t *testing.T) {
 		{[]string{"--integrate", "batch", "--integrate-lambda", "0"}, "not a positive number"},
 		{[]string{"--integrate-theta", "2"}, "need --integrate"},
 		{[]string{"--integrate", "batch", "--integrate-sigma", "-1"}, "--integrate-sigma"},
+		{[]string{"--integrate", "batch", "--integrate-genes", "some"}, `--integrate-genes "some": want within or pooled`},
 	} {
 		for _, cmd := range [][]string{
 			{"embed", "--in", dir, "--meta", meta, "--out", layout},

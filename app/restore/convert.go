@@ -37,7 +37,7 @@ func integration(in pipeline.Integration) *session.Integration {
 		return nil
 	}
 	return &session.Integration{Columns: in.Columns, Theta: in.Theta, Lambda: in.Lambda, Clusters: in.Clusters,
-		Sigma: in.Sigma, Rounds: in.Rounds, Iterations: in.Iterations, Tolerance: in.Tolerance}
+		Sigma: in.Sigma, Rounds: in.Rounds, Iterations: in.Iterations, Tolerance: in.Tolerance, PooledGenes: in.PooledGenes}
 }
 
 // Pipeline returns stored settings as pipeline settings; it fails, wrapping
@@ -56,7 +56,7 @@ func Pipeline(s session.Settings) (pipeline.Settings, error) {
 			return p, fmt.Errorf("%w: an integration without batch columns", session.ErrCorrupt)
 		}
 		p.Integrate = pipeline.Integration{Columns: in.Columns, Theta: in.Theta, Lambda: in.Lambda, Clusters: in.Clusters,
-			Sigma: in.Sigma, Rounds: in.Rounds, Iterations: in.Iterations, Tolerance: in.Tolerance}
+			Sigma: in.Sigma, Rounds: in.Rounds, Iterations: in.Iterations, Tolerance: in.Tolerance, PooledGenes: in.PooledGenes}
 	}
 	var ok bool
 	if p.Metric, ok = metrics[s.Metric]; !ok {

@@ -33,7 +33,7 @@ func TestRecomputeWithIntegration(t *testing.T) {
 func TestIntegrationSettingsRoundTrip(t *testing.T) {
 	set := pipeline.Default()
 	set.Integrate = pipeline.Integration{Columns: []string{"donor", "protocol"}, Theta: []float64{3, 1.5}, Lambda: []float64{0.5, 2},
-		Clusters: 40, Sigma: 0.2, Rounds: 7, Iterations: 15, Tolerance: 1e-3}
+		Clusters: 40, Sigma: 0.2, Rounds: 7, Iterations: 15, Tolerance: 1e-3, PooledGenes: true}
 	p := &pipeline.Prepared{Settings: set, CellIDs: []string{"a", "b"}}
 	s := restore.Capture(restore.Map{Prepared: p, Origin: restore.Origin{Path: "x"}, Initial: []float32{0, 0, 1, 1}, Layout: []float32{0, 0, 1, 1}})
 	path := filepath.Join(t.TempDir(), "m"+session.Extension)

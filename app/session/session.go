@@ -127,6 +127,9 @@ type Integration struct {
 	Rounds     int       `json:"rounds"`
 	Iterations int       `json:"iterations"`
 	Tolerance  float64   `json:"tolerance"`
+	// PooledGenes: the genes were selected on all cells pooled, not
+	// within each batch of the first column.
+	PooledGenes bool `json:"pooled_genes,omitempty"`
 }
 
 // Step is one run of the history (see live.Step), with the attraction

@@ -88,7 +88,11 @@ func atlasSummary(name string, d *atlas.Dataset, p *pipeline.Prepared) string {
 			}
 		}
 		if g := r.Genes; g != nil {
-			fmt.Fprintf(&b, "\n**Genes**: %d highly variable genes selected (normalised dispersion, Zheng et al. 2017)\n", len(g.Genes))
+			within := ""
+			if g.Batches > 0 {
+				within = fmt.Sprintf(" within each of %d samples of %s, combined", g.Batches, p.Settings.Integrate.Columns[0])
+			}
+			fmt.Fprintf(&b, "\n**Genes**: %d highly variable genes selected%s (normalised dispersion, Zheng et al. 2017)\n", len(g.Genes), within)
 		}
 		if pca := r.PCA; pca != nil {
 			sum := 0.0

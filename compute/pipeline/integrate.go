@@ -33,6 +33,21 @@ type Integration struct {
 	Rounds     int
 	Iterations int
 	Tolerance  float64
+	// PooledGenes selects the highly variable genes on all cells pooled.
+	// By default, when integrating, they are selected within each batch of
+	// the first column and combined (prep.SelectGenesWithin), so that genes
+	// that differ only between batches do not drive the components.
+	PooledGenes bool
+}
+
+// geneBatches returns the batch codes of d's cells for the gene selection
+// within batches (the first column's), or nil when the genes are pooled.
+// The column was checked by CheckIntegration.
+func (in Integration) geneBatches(d *atlas.Dataset) []int32 {
+	if !in.On() || in.PooledGenes {
+		return nil
+	}
+	return findColumn(d.Annotations, in.Columns[0]).Codes
 }
 
 // On reports whether the integration is asked for.
@@ -104,7 +119,8 @@ func integrateFeatures(ctx context.Context, out *Prepared, s Settings, report fu
 	out.Features = res.Corrected
 	// Record the parameters as used, defaults resolved, so that a session
 	// replays them even if the defaults change.
-	used := Integration{Columns: in.Columns, Clusters: res.Clusters, Sigma: o.Sigma, Rounds: o.Rounds, Iterations: o.Iterations, Tolerance: o.Tolerance}
+	used := Integration{Columns: in.Columns, Clusters: res.Clusters, Sigma: o.Sigma, Rounds: o.Rounds, Iterations: o.Iterations,
+		Tolerance: o.Tolerance, PooledGenes: in.PooledGenes}
 	for _, cv := range covs {
 		used.Theta = append(used.Theta, cv.Theta)
 		used.Lambda = append(used.Lambda, cv.Lambda)

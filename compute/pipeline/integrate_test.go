@@ -76,6 +76,47 @@ func TestExampleRunsIntegrate(t *testing.T) {
 	}
 }
 
+// TestGenesWithinRuns checks the gene selection made when integrating the
+// example's runs: within each run and combined, it takes fewer of the
+// handling genes (raised in run 2 only, a technical difference) than the
+// selection on all cells pooled, as without integration.
+func TestGenesWithinRuns(t *testing.T) {
+	opt := sampledata.DefaultOptions()
+	opt.Cells = 3000
+	d, truth, err := sampledata.Generate(context.Background(), opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	handling := map[int]bool{}
+	for _, g := range truth.HandlingGenes {
+		handling[g] = true
+	}
+	selected := map[bool]int{}
+	for _, pooled := range []bool{false, true} {
+		s := Default()
+		s.Prep.PCA.Components = 20
+		s.Prep.Genes = 500 // of 2,000: a real choice
+		s.Integrate = Integration{Columns: []string{sampledata.ColumnBatch}, PooledGenes: pooled}
+		p, err := Features(context.Background(), d, s, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		g := p.Prep.Genes
+		if want := map[bool]int{false: 2, true: 0}[pooled]; g.Batches != want || p.Settings.Integrate.PooledGenes != pooled {
+			t.Errorf("pooled %v: genes selected within %d batches (want %d)", pooled, g.Batches, want)
+		}
+		for _, j := range g.Genes {
+			if handling[p.Prep.KeptGenes[j]] {
+				selected[pooled]++
+			}
+		}
+	}
+	t.Logf("handling genes among the 500 selected: %d pooled, %d within runs (of %d)", selected[true], selected[false], len(handling))
+	if selected[false] >= selected[true] {
+		t.Errorf("%d handling genes selected within runs, %d pooled", selected[false], selected[true])
+	}
+}
+
 // otherRun returns the share of graph neighbours from the other batch.
 func otherRun(p *Prepared, batch []int32) float64 {
 	other := 0

@@ -201,6 +201,7 @@ func Features(ctx context.Context, d *atlas.Dataset, s Settings, report func(sta
 		return nil, err
 	}
 	po := s.Prep
+	po.GeneBatches = s.Integrate.geneBatches(d)
 	po.Threads = s.Threads
 	po.PCA.Seed = s.Seed
 	po.Progress = report

@@ -39,6 +39,11 @@ type GeneSelection struct {
 	Ranked []bool
 	// Notes says where the selection differs from what was asked.
 	Notes []string
+	// Batches is the number of batches the genes were selected within and
+	// InBatches, per gene, how many of them selected it (SelectGenesWithin);
+	// 0 and nil for a selection on all cells pooled.
+	Batches   int
+	InBatches []int
 }
 
 // SelectGenes selects the n most highly variable genes (columns) of norm, a

@@ -30,6 +30,10 @@ type Options struct {
 	// DefaultGenes.
 	Genes int
 	PCA   PCAOptions // principal component analysis
+	// GeneBatches, when not nil, holds a batch code (≥ 0) for every cell
+	// of the input: the highly variable genes are then selected within each
+	// batch and combined (SelectGenesWithin) instead of on all cells.
+	GeneBatches []int32
 	// Threads, when not zero, is the number of goroutines of every stage,
 	// overriding QC.Threads and PCA.Threads.
 	Threads int
@@ -181,7 +185,19 @@ func prepareCounts(ctx context.Context, d *atlas.Dataset, opt Options, threads i
 	if err != nil {
 		return nil, err
 	}
-	sel, err := SelectGenesView(ctx, norm, opt.Genes, threads, report("genes"))
+	var sel *GeneSelection
+	if opt.GeneBatches != nil {
+		if len(opt.GeneBatches) != d.Cells() {
+			return nil, errAt(stage, -1, -1, ErrShape, "%d batch codes for %d cells", len(opt.GeneBatches), d.Cells())
+		}
+		kept := make([]int32, len(keepCells))
+		for i, c := range keepCells {
+			kept[i] = opt.GeneBatches[c]
+		}
+		sel, err = SelectGenesWithinView(ctx, norm, kept, opt.Genes, threads, report("genes"))
+	} else {
+		sel, err = SelectGenesView(ctx, norm, opt.Genes, threads, report("genes"))
+	}
 	if err != nil {
 		return nil, err
 	}
