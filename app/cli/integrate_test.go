@@ -94,7 +94,7 @@ func TestIntegratedScores(t *testing.T) {
 			flags = append(flags, "--integrate", "batch")
 		}
 		layout := filepath.Join(t.TempDir(), "layout.csv")
-		args := append([]string{"embed", "--in", dir, "--out", layout, "--iterations", "300", "--quiet"}, flags...)
+		args := append([]string{"embed", "--in", dir, "--out", layout, "--iterations", "400", "--quiet"}, flags...)
 		if code, _, errs := run(t, args...); code != ExitOK {
 			t.Fatalf("embed: %s", errs)
 		}
