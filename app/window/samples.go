@@ -43,6 +43,7 @@ type samplesPanel struct {
 	theta   *widget.Entry
 	button  *widget.Button
 	state   *widget.Label
+	mixing  *widget.Label // the mixing scores of the map on screen
 	box     fyne.CanvasObject
 	busy    bool
 }
@@ -56,6 +57,8 @@ func newSamplesPanel(st *atlasState, jobs *viewJobs, errs errorShower, reset fun
 	s.button = widget.NewButton("Integrate the samples", s.toggle)
 	s.state = widget.NewLabel("")
 	s.state.Wrapping = fyne.TextWrapWord
+	s.mixing = widget.NewLabel("")
+	s.mixing.Wrapping = fyne.TextWrapWord
 	note := widget.NewLabel(integrationNote)
 	note.Wrapping = fyne.TextWrapWord
 	note.Importance = widget.LowImportance
@@ -64,7 +67,7 @@ func newSamplesPanel(st *atlasState, jobs *viewJobs, errs errorShower, reset fun
 		widget.NewLabel("cell types in column"), s.types,
 		widget.NewLabel("strength θ"), s.theta)
 	s.box = container.NewVBox(widget.NewLabelWithStyle("Samples", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
-		form, s.button, s.state, note)
+		form, s.button, s.state, s.mixing, note)
 	if in := st.prep.Settings.Integrate; in.On() {
 		st.samples = in.Columns[0]
 		if len(in.Theta) > 0 {
@@ -74,7 +77,27 @@ func newSamplesPanel(st *atlasState, jobs *viewJobs, errs errorShower, reset fun
 	s.fill()
 	st.on(topicAtlas, s.fill)
 	st.on(topicColumns, s.fill)
+	st.on(topicScores, s.showMixing)
+	st.on(topicRun, s.showMixing)
 	return s
+}
+
+// showMixing shows the mixing scores of the map on screen, marked as the
+// previous map's while a run moves it.
+func (s *samplesPanel) showMixing() {
+	text := ""
+	switch m := s.st.scores.mixing; {
+	case s.st.samples == "":
+	case m == nil:
+		text = "Mixing: scored when the map stands still."
+	case s.st.scoresCurrent():
+		text = mixingDetail(*m)
+	default:
+		text = "Previous map's: " + mixingDetail(*m)
+	}
+	if s.mixing.Text != text {
+		s.mixing.SetText(text)
+	}
 }
 
 // content returns the panel's widgets.
@@ -234,19 +257,21 @@ func mixingOptions(p *pipeline.Prepared) quality.MixingOptions {
 	return quality.MixingOptions{Seed: p.Settings.Seed, Threads: p.Settings.Threads}
 }
 
-// mixingScore returns the status line's score of how mixed the samples
-// named by the column samples are in the map and in the components, and
-// how mixed the types are when types names a column.
-func mixingScore(samples, types string) scoreKind {
-	return func(ctx context.Context, p *pipeline.Prepared, layout []float32) (string, error) {
-		m, err := pipeline.Mixing(ctx, p, layout, samples, types, mixingOptions(p))
-		if err != nil {
-			return "", err
-		}
-		text := fmt.Sprintf("samples mixed %.2f (map), %.2f (components)", m.Map.Batch, m.Space.Batch)
-		if types != "" {
-			text += fmt.Sprintf(" · types mixed %.2f", m.Map.Types)
-		}
-		return text, nil
+// mixingText is the status line's short form of the mixing scores: the
+// map's, the one the user looks at.
+func mixingText(m pipeline.MixingScores) string {
+	text := fmt.Sprintf("samples mixed %.2f", m.Map.Batch)
+	if m.Types != "" {
+		text += fmt.Sprintf(" · types %.2f", m.Map.Types)
 	}
+	return text
+}
+
+// mixingDetail is the Atlas tab's full form of the mixing scores.
+func mixingDetail(m pipeline.MixingScores) string {
+	text := fmt.Sprintf("Samples (%s) mixed: %.2f in the map, %.2f in the components", m.Column, m.Map.Batch, m.Space.Batch)
+	if m.Types != "" {
+		text += fmt.Sprintf("; types (%s) mixed: %.2f in the map, %.2f in the components", m.Types, m.Map.Types, m.Space.Types)
+	}
+	return text + fmt.Sprintf(" (0: apart, 1: as mixed as chance; %d cells, perplexity %g).", m.Map.Cells, m.Map.Perplexity)
 }

@@ -17,10 +17,10 @@ import (
 	"lodestone/sampledata"
 )
 
-// mixedSamples reads "samples mixed X (map)" from the status line's scores
-// (NaN when absent).
+// mixedSamples reads "samples mixed X" from the status line's scores (NaN
+// when absent).
 func mixedSamples(text string) float64 {
-	m := regexp.MustCompile(`samples mixed ([0-9.]+) \(map\)`).FindStringSubmatch(text)
+	m := regexp.MustCompile(`samples mixed ([0-9.]+)`).FindStringSubmatch(text)
 	if m == nil {
 		return math.NaN()
 	}
@@ -54,8 +54,12 @@ func TestIntegrateTheSamples(t *testing.T) {
 		return v.st.scoresCurrent() && !math.IsNaN(before)
 	})
 	onUI(func() {
-		if !regexp.MustCompile(`types mixed [0-9.]+`).MatchString(v.status.scores.Text) {
+		if !regexp.MustCompile(`samples mixed [0-9.]+ · types [0-9.]+$`).MatchString(v.status.scores.Text) {
 			t.Errorf("status line %q: no type mixing", v.status.scores.Text)
+		}
+		// The Atlas tab gives both spaces.
+		if !regexp.MustCompile(`^Samples \(batch\) mixed: [0-9.]+ in the map, [0-9.]+ in the components; types \(state\) mixed: [0-9.]+ in the map, [0-9.]+ in the components`).MatchString(v.samples.mixing.Text) {
+			t.Errorf("Atlas tab: %q", v.samples.mixing.Text)
 		}
 		if v.samples.state.Text != "The components are not integrated." {
 			t.Errorf("state %q", v.samples.state.Text)

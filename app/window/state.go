@@ -67,6 +67,9 @@ type mapScores struct {
 	layout []float32 // the map scored (nil: none yet)
 	text   string    // the scores as the status line writes them
 	err    error     // why scoring failed
+	// mixing holds the samples' (and types') mixing in the map and in the
+	// components when a column names the samples; nil otherwise.
+	mixing *pipeline.MixingScores
 }
 
 // newAtlasState returns the state of an atlas; p may be partial (a session's

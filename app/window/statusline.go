@@ -117,12 +117,16 @@ func (s *statusLine) showScores() {
 	}
 }
 
-// scoresText writes the scores for the status line: current scores plainly,
-// scores of an earlier map marked as such and dimmed.
+// scoresText writes the scores for the status line: current scores plainly
+// (with the samples' mixing in the map when it was scored), scores of an
+// earlier map marked as such and dimmed (without the mixing, to keep the
+// line short while a run's progress shares it).
 func scoresText(sc mapScores, current, scoring bool) (string, widget.Importance) {
 	switch {
 	case current && sc.err != nil:
 		return "fidelity: " + sc.err.Error(), widget.WarningImportance
+	case current && sc.mixing != nil:
+		return "fidelity: " + sc.text + " · " + mixingText(*sc.mixing), widget.MediumImportance
 	case current:
 		return "fidelity: " + sc.text, widget.MediumImportance
 	case sc.layout != nil && sc.err == nil:
@@ -218,12 +222,10 @@ func (m *mapScorer) update() {
 	m.st.setScoring(true)
 	p := m.st.prep
 	kinds := m.kinds
-	if m.st.samples != "" {
-		kinds = append(kinds[:len(kinds):len(kinds)], mixingScore(m.st.samples, m.st.types))
-	}
+	samples, types := m.st.samples, m.st.types
 	m.jobs.goCtx(ctx, func(ctx context.Context) {
 		defer cancel()
-		parts := make([]string, 0, len(kinds))
+		parts := make([]string, 0, len(kinds)+1)
 		var err error
 		for _, k := range kinds {
 			var s string
@@ -231,6 +233,15 @@ func (m *mapScorer) update() {
 				break
 			}
 			parts = append(parts, s)
+		}
+		// The samples' mixing, when a column names them: briefly in the
+		// status line while the map is current, in full in the Atlas tab.
+		var mixing *pipeline.MixingScores
+		if err == nil && samples != "" {
+			var mx pipeline.MixingScores
+			if mx, err = pipeline.Mixing(ctx, p, layout, samples, types, mixingOptions(p)); err == nil {
+				mixing = &mx
+			}
 		}
 		if ctx.Err() != nil {
 			return
@@ -241,7 +252,7 @@ func (m *mapScorer) update() {
 			}
 			m.pending, m.cancel = nil, nil
 			m.st.scoring = false
-			m.st.setScores(mapScores{layout: layout, text: strings.Join(parts, " · "), err: err})
+			m.st.setScores(mapScores{layout: layout, text: strings.Join(parts, " · "), err: err, mixing: mixing})
 		})
 	})
 }
