@@ -68,6 +68,10 @@ func BenchmarkDraw1M(b *testing.B) { benchmarkDraw(b, 1000000, 1600, 1000, 0) }
 // BenchmarkDraw1MOneThread is BenchmarkDraw1M on one core.
 func BenchmarkDraw1MOneThread(b *testing.B) { benchmarkDraw(b, 1000000, 1600, 1000, 1) }
 
+// BenchmarkDraw200kOneThread draws 200,000 points on one core, as the
+// window draws a moving map (on the UI thread alone, beside the optimiser).
+func BenchmarkDraw200kOneThread(b *testing.B) { benchmarkDraw(b, 200000, 1600, 1000, 1) }
+
 // BenchmarkDraw70k draws 70 000 points (larger, opaque discs) at 1600 × 1000.
 func BenchmarkDraw70k(b *testing.B) { benchmarkDraw(b, 70000, 1600, 1000, 0) }
 
