@@ -22,8 +22,11 @@ type params struct {
 
 // defaults are the settings Approximate uses, chosen on this package's
 // benchmarks (70,000 points in 50 dimensions: a Gaussian mixture and a
-// branching path, k = 15 and 90) for recall ≥ 0.98 at the least time.
-var defaults = params{trees: 16, leafMin: 256, buildMin: 60, maxNew: 80, maxOld: 80, maxSteps: 20, stop: 0.001, renumber: true}
+// branching path, k = 15 and 90) and on a million points of the mixture
+// (k = 90, two cores), where sampling up to 180 new and 180 old candidates
+// per point and step instead of 80 and 80 raised the recall from 0.946 to
+// 0.980 in the same time: the descent converges in 6 steps instead of 7.
+var defaults = params{trees: 16, leafMin: 256, buildMin: 60, maxNew: 180, maxOld: 180, maxSteps: 20, stop: 0.001, renumber: true}
 
 // pointBatch is the number of points joined between two applications of
 // updates.
