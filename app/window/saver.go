@@ -2,6 +2,7 @@ package window
 
 import (
 	"context"
+	"fmt"
 	"io"
 	"path/filepath"
 	"strings"
@@ -44,8 +45,22 @@ func (s *saver) ask(title, suggested string, then func(path string)) {
 
 // write writes a file atomically in the background and tells the outcome
 // (see atomicfile.Save: a symbolic link has its target replaced, a device
-// or a pipe is written to directly, and the status line says so).
+// or a pipe is written to directly, and the status line says so). A path
+// that is one of the files the atlas was read from (by device and inode: a
+// link to it or another spelling too) is refused with an error dialog.
 func (s *saver) write(path string, write func(io.Writer) error) {
+	if s.st.data != nil {
+		for _, src := range s.st.data.Sources {
+			if atomicfile.SameFile(path, src) {
+				what := path + " is a file the atlas was read from"
+				if filepath.Clean(path) != filepath.Clean(src) {
+					what = fmt.Sprintf("%s is the same file as %s, which the atlas was read from", path, src)
+				}
+				s.errs.showError("Could not save "+filepath.Base(path), fmt.Errorf("%s: saving would destroy it; choose another name", what))
+				return
+			}
+		}
+	}
 	s.st.tell("saving " + filepath.Base(path) + "…")
 	s.jobs.run(func(context.Context) {
 		o, err := atomicfile.Save(path, write)

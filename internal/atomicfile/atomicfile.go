@@ -232,3 +232,36 @@ func replace(path, target string, fill func(w io.Writer) error) (err error) {
 	}
 	return nil
 }
+
+// SameFile reports whether a and b name the same file: the same device and
+// inode when both exist (symbolic links followed), or, when neither exists
+// yet, the same name in the same folder once links are followed. Two
+// spellings of one path, a link and its target, and two hard links of one
+// file are the same file.
+func SameFile(a, b string) bool {
+	ia, ea := os.Stat(a)
+	ib, eb := os.Stat(b)
+	switch {
+	case ea == nil && eb == nil:
+		return os.SameFile(ia, ib)
+	case errors.Is(ea, fs.ErrNotExist) && errors.Is(eb, fs.ErrNotExist):
+		ta, tb := finalTarget(a), finalTarget(b)
+		if filepath.Base(ta) != filepath.Base(tb) {
+			return false
+		}
+		da, ea := os.Stat(filepath.Dir(ta))
+		db, eb := os.Stat(filepath.Dir(tb))
+		return ea == nil && eb == nil && os.SameFile(da, db)
+	}
+	return false
+}
+
+// finalTarget returns the path a (possibly dangling) symbolic link leads to
+// in the end, or path itself.
+func finalTarget(path string) string {
+	target, _, err := resolve(path)
+	if err != nil {
+		return path
+	}
+	return target
+}

@@ -210,3 +210,37 @@ func TestCheckRefusesMissingFolderBeforeWriting(t *testing.T) {
 		t.Fatalf("error %v", err)
 	}
 }
+
+func TestSameFileByDeviceAndInode(t *testing.T) {
+	dir := t.TempDir()
+	a := filepath.Join(dir, "a.csv")
+	os.WriteFile(a, []byte("x"), 0o644)
+	os.Mkdir(filepath.Join(dir, "sub"), 0o755)
+	link := filepath.Join(dir, "link.csv")
+	hard := filepath.Join(dir, "hard.csv")
+	dangling := filepath.Join(dir, "dangling.csv")
+	other := filepath.Join(dir, "other.csv")
+	os.WriteFile(other, []byte("x"), 0o644)
+	if err := os.Symlink("a.csv", link); err != nil {
+		t.Skipf("no symbolic links here: %v", err)
+	}
+	os.Symlink("new.csv", dangling)
+	hasHard := os.Link(a, hard) == nil
+	for _, c := range []struct {
+		a, b string
+		same bool
+	}{
+		{a, filepath.Join(dir, "sub", "..", "a.csv"), true},
+		{a, link, true},
+		{a, hard, hasHard},
+		{a, other, false}, // equal content, another file
+		{dangling, filepath.Join(dir, "new.csv"), true},
+		{filepath.Join(dir, "new.csv"), filepath.Join(dir, "sub", "..", "new.csv"), true},
+		{filepath.Join(dir, "new.csv"), filepath.Join(dir, "sub", "new.csv"), false},
+		{a, filepath.Join(dir, "new.csv"), false},
+	} {
+		if got := SameFile(c.a, c.b); got != c.same {
+			t.Errorf("SameFile(%s, %s) = %v, want %v", c.a, c.b, got, c.same)
+		}
+	}
+}
