@@ -166,7 +166,10 @@ type turnResult struct {
 // iterations per second (it/s), with the window's map widget drawing every
 // frame the window shows ("window": the real atlas view on Fyne's software
 // test painter, which paints the whole window per frame) and without any
-// drawing ("engine").
+// drawing ("engine"). Each round turns the engine alone, then the window,
+// so that both meet the same load on a shared machine; "both" reports the
+// window's speed as a share of the engine's (window-speed-%, the median of
+// the rounds' ratios).
 func BenchmarkDialTurn200k(b *testing.B) { benchmarkDialTurn(b, 200000) }
 
 // BenchmarkDialTurn1M is BenchmarkDialTurn200k with 1,000,000 cells (its
@@ -176,19 +179,18 @@ func BenchmarkDialTurn1M(b *testing.B) { benchmarkDialTurn(b, 1000000) }
 func benchmarkDialTurn(b *testing.B, n int) {
 	d := setupDialBench(b, n)
 	history := []live.Step{{Kind: live.Fresh, Attraction: 1, Iterations: embed.DefaultIterations, Done: embed.DefaultIterations, Setting: 30}}
-	b.Run("engine", func(b *testing.B) {
-		var res []turnResult
+	b.Run("both", func(b *testing.B) {
+		var engine, window []turnResult
+		var share []float64
 		for i := 0; i < b.N; i++ {
-			res = append(res, turnEngine(b, d, history))
+			e := turnEngine(b, d, history)
+			w := turnWindow(b, d, history)
+			engine, window = append(engine, e), append(window, w)
+			share = append(share, 100*e.running.Seconds()/float64(e.iterations)*float64(w.iterations)/w.running.Seconds())
 		}
-		reportTurns(b, res)
-	})
-	b.Run("window", func(b *testing.B) {
-		var res []turnResult
-		for i := 0; i < b.N; i++ {
-			res = append(res, turnWindow(b, d, history))
-		}
-		reportTurns(b, res)
+		reportTurns(b, "engine-", engine)
+		reportTurns(b, "window-", window)
+		b.ReportMetric(median(share), "window-speed-%")
 	})
 }
 
@@ -343,8 +345,9 @@ func waitForScores(b *testing.B, v *atlasView) {
 	}
 }
 
-// reportTurns reports the medians of the turns.
-func reportTurns(b *testing.B, res []turnResult) {
+// reportTurns reports the medians of the turns, each metric's unit
+// prefixed with prefix.
+func reportTurns(b *testing.B, prefix string, res []turnResult) {
 	med := func(f func(turnResult) float64) float64 {
 		v := make([]float64, len(res))
 		for i, r := range res {
@@ -352,13 +355,13 @@ func reportTurns(b *testing.B, res []turnResult) {
 		}
 		return median(v)
 	}
-	b.ReportMetric(med(func(r turnResult) float64 { return float64(r.first.Microseconds()) / 1000 }), "first-ms")
-	b.ReportMetric(med(func(r turnResult) float64 { return r.settled.Seconds() }), "settled-s")
-	b.ReportMetric(med(func(r turnResult) float64 { return float64(r.iterations) }), "iterations")
-	b.ReportMetric(med(func(r turnResult) float64 { return float64(r.iterations) / r.running.Seconds() }), "it/s")
+	b.ReportMetric(med(func(r turnResult) float64 { return float64(r.first.Microseconds()) / 1000 }), prefix+"first-ms")
+	b.ReportMetric(med(func(r turnResult) float64 { return r.settled.Seconds() }), prefix+"settled-s")
+	b.ReportMetric(med(func(r turnResult) float64 { return float64(r.iterations) }), prefix+"iterations")
+	b.ReportMetric(med(func(r turnResult) float64 { return float64(r.iterations) / r.running.Seconds() }), prefix+"it/s")
 	if res[0].frames > 0 {
-		b.ReportMetric(med(func(r turnResult) float64 { return float64(r.frames) / r.running.Seconds() }), "frames/s")
-		b.ReportMetric(med(func(r turnResult) float64 { return float64(r.drawCost.Microseconds()) / 1000 }), "frame-ms")
+		b.ReportMetric(med(func(r turnResult) float64 { return float64(r.frames) / r.running.Seconds() }), prefix+"frames/s")
+		b.ReportMetric(med(func(r turnResult) float64 { return float64(r.drawCost.Microseconds()) / 1000 }), prefix+"frame-ms")
 	}
 }
 
