@@ -58,8 +58,8 @@ where you look for states. Paint by the sample column to see it. In the Atlas ta
 column (*samples are in column*): the status line then says how mixed the samples are among each
 cell's neighbours in the map — 0 when every cell's neighbours come from its own sample, 1 when they
 are as mixed as if the samples had been shuffled (the local inverse Simpson's index of Korsunsky et
-al. 2019) — and the Atlas tab says it for the map and for the components. Name a cell-type column
-too to see how well types stay apart (0 is the goal).
+al. 2019) — the Atlas tab says it for the map and for the components, and the Sweep tab for each
+of its maps. Name a cell-type column too to see how well types stay apart (0 is the goal).
 
 *Integrate the samples* corrects the principal components by Harmony (Korsunsky et al. 2019):
 cells are grouped into soft clusters that are pushed to hold every sample in its usual share, and

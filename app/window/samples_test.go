@@ -106,6 +106,16 @@ func TestIntegrateTheSamples(t *testing.T) {
 			t.Fatalf("recomputed coordinate %d: %v, shown %v", i, layout[i], s.Layout[i])
 		}
 	}
+	// The Sweep tab scores the runs' and states' mixing in each map.
+	onUI(func() { v.sweep.values.SetText("2"); v.run.iterations.SetText("50"); test.Tap(v.sweep.run) })
+	waitFor(t, "the sweep", 60*time.Second, func() bool { return !v.sweep.running() })
+	onUI(func() {
+		if len(v.sweep.results) != 1 || v.sweep.results[0].mixing == nil {
+			t.Errorf("%d sweep maps (want 1, with its mixing), info %q", len(v.sweep.results), v.sweep.info.Text)
+		} else if c := sweepCaption(v.sweep.results[0]); !regexp.MustCompile(`\nsamples mixed [0-9.]+ · types [0-9.]+$`).MatchString(c) {
+			t.Errorf("sweep caption %q", c)
+		}
+	})
 	// Undo: the components as measured again, a fresh run.
 	onUI(func() { test.Tap(v.samples.button) })
 	waitFor(t, "the atlas without integration", 120*time.Second, func() bool {

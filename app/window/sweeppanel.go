@@ -22,11 +22,16 @@ import (
 	lcanvas "lodestone/canvas"
 	"lodestone/canvas/raster"
 	"lodestone/compute/atlas"
+	"lodestone/compute/pipeline"
 	"lodestone/compute/quality"
 )
 
-// sweepThumb is the size of a sweep map in logical pixels.
-const sweepThumb = 150
+// sweepThumb is the size of a sweep map in logical pixels, and
+// captionLine the height of a line of its caption.
+const (
+	sweepThumb  = 150
+	captionLine = 24
+)
 
 const noLabel = "(none)"
 
@@ -66,6 +71,7 @@ type sweepPanel struct {
 type sweepResult struct {
 	live.SweepMap
 	scores quality.FidelityScores
+	mixing *quality.MixingScores // the samples' (and types') mixing in the map; nil when no column names the samples
 }
 
 func newSweepPanel(st *atlasState, jobs *viewJobs, errs errorShower, runs mapRunner) *sweepPanel {
@@ -84,10 +90,10 @@ func newSweepPanel(st *atlasState, jobs *viewJobs, errs errorShower, runs mapRun
 	s.label = widget.NewSelect(nil, nil)
 	s.fillLabels()
 	s.run = widget.NewButtonWithIcon("Run the sweep", theme.MediaPlayIcon(), s.toggle)
-	s.info = widget.NewLabel("Maps at several values of the dial or of the grain, each continued from the one before, with their fidelity. Tap a map to adopt it.")
+	s.info = widget.NewLabel("Maps at several values of the dial or of the grain, each continued from the one before, with their fidelity (and the samples' mixing once the Atlas tab names their column). Tap a map to adopt it.")
 	s.info.Wrapping = fyne.TextWrapWord
 	s.info.Importance = widget.LowImportance
-	s.grid = container.NewGridWrap(fyne.NewSize(sweepThumb, sweepThumb+72))
+	s.grid = container.NewGridWrap(fyne.NewSize(sweepThumb, sweepThumb+3*captionLine))
 	form := container.New(layout.NewFormLayout(), widget.NewLabel("sweep the"), s.control, widget.NewLabel("values"), s.values,
 		widget.NewLabel("label accuracy of"), s.label)
 	s.box = container.NewBorder(container.NewVBox(form, s.run, s.info), nil, nil, nil, container.NewVScroll(s.grid))
@@ -227,6 +233,22 @@ func (s *sweepPanel) toggle() {
 	}
 	fo := fidelityOptions(s.st.prep, labels)
 	features := s.st.prep.Features
+	// The samples' (and types') mixing in each map, as the status line
+	// scores the map on screen, when the Atlas tab names their column.
+	var mixing *quality.MixingOptions
+	if s.st.samples != "" {
+		mo, err := pipeline.MixingLabels(s.st.prep, s.st.samples, s.st.types, mixingOptions(s.st.prep))
+		if err != nil {
+			s.errs.showError("Sample mixing", err)
+			return
+		}
+		mixing = &mo
+	}
+	rows := 3
+	if mixing != nil {
+		rows++
+	}
+	s.grid.Layout = layout.NewGridWrapLayout(fyne.NewSize(sweepThumb, sweepThumb+float32(rows)*captionLine))
 	ctx, cancel := s.jobs.child()
 	s.cancel = cancel
 	s.run.SetText("Stop the sweep")
@@ -246,6 +268,13 @@ func (s *sweepPanel) toggle() {
 				return err
 			}
 			r := sweepResult{SweepMap: m, scores: f}
+			if mixing != nil {
+				mx, err := quality.MapMixing(ctx, m.Layout, *mixing)
+				if err != nil {
+					return err
+				}
+				r.mixing = &mx
+			}
 			s.jobs.do(func() { s.add(r) })
 			return nil
 		})
@@ -279,6 +308,12 @@ func sweepCaption(r sweepResult) string {
 	text := fmt.Sprintf("%s\nkept %.2f · trust %.3f\ndCor %.2f", settingText(r.Attraction, r.Tail), r.scores.KNN, r.scores.Trust, r.scores.DCor)
 	if !math.IsNaN(r.scores.Labels) {
 		text += fmt.Sprintf(" · labels %.2f", r.scores.Labels)
+	}
+	if m := r.mixing; m != nil {
+		text += fmt.Sprintf("\nsamples mixed %.2f", m.Batch)
+		if !math.IsNaN(m.Types) {
+			text += fmt.Sprintf(" · types %.2f", m.Types)
+		}
 	}
 	return text
 }

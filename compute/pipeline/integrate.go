@@ -158,6 +158,25 @@ type MixingScores struct {
 // categorical with at least two levels among the cells; otherwise Mixing
 // returns an *integrate.BatchError naming the column.
 func Mixing(ctx context.Context, p *Prepared, layout []float32, batch, types string, o quality.MixingOptions) (MixingScores, error) {
+	out := MixingScores{Column: batch, Types: types}
+	o, err := MixingLabels(p, batch, types, o)
+	if err != nil {
+		return out, err
+	}
+	if out.Map, err = quality.MapMixing(ctx, layout, o); err != nil {
+		return out, err
+	}
+	out.Space, err = quality.SpaceMixing(ctx, p.Features, o)
+	return out, err
+}
+
+// MixingLabels returns o with the codes of the annotation columns batch and
+// types (when not empty) of p as its Batches and Types, for scores of the
+// mixing of several maps of one preparation (quality.MapMixing), as Mixing
+// scores one. Both columns must be categorical with at least two levels
+// among the cells; otherwise MixingLabels returns an *integrate.BatchError
+// naming the column.
+func MixingLabels(p *Prepared, batch, types string, o quality.MixingOptions) (quality.MixingOptions, error) {
 	labels := func(name string) ([]int32, error) {
 		c := findColumn(p.Annotations, name)
 		switch {
@@ -178,20 +197,15 @@ func Mixing(ctx context.Context, p *Prepared, layout []float32, batch, types str
 		return c.Codes, nil
 	}
 	var err error
-	out := MixingScores{Column: batch, Types: types}
 	if o.Batches, err = labels(batch); err != nil {
-		return out, err
+		return o, err
 	}
 	if types != "" {
 		if o.Types, err = labels(types); err != nil {
-			return out, err
+			return o, err
 		}
 	}
-	if out.Map, err = quality.MapMixing(ctx, layout, o); err != nil {
-		return out, err
-	}
-	out.Space, err = quality.SpaceMixing(ctx, p.Features, o)
-	return out, err
+	return o, nil
 }
 
 func findColumn(cols []atlas.Column, name string) *atlas.Column {
