@@ -140,8 +140,10 @@ func TestPathFlagsAreDeclared(t *testing.T) {
 				strings.Contains(u, "session") || strings.HasPrefix(u, "old name of")
 			_, declared := roles[fl.Name]
 			switch {
-			case fl.Name == "out" && cmd == "example", fl.Name == "init":
+			case fl.Name == "out" && (cmd == "example" || cmd == "sweep"), fl.Name == "init":
 				// A folder, and a choice that may name a file: checked by the command.
+			case fl.Name == "by" || fl.Name == "group" || fl.Name == "against":
+				// Names of a column, its values or a session's groups.
 			case looksLikePath && !declared:
 				if _, num := numericValue(fl); !num && fl.Name != "label-header" && fl.Name != "matrix-rows" && fl.Name != "label" && fl.Name != "paint" {
 					t.Errorf("%s --%s (%q) names a file but is not declared with inputPath or outputPath", cmd, fl.Name, fl.Usage)

@@ -43,7 +43,7 @@ var inputErrors = []error{
 	pipeline.ErrSetting, sampledata.ErrOption,
 	integrate.ErrNoColumn, integrate.ErrRepeated, integrate.ErrNotCategorical, integrate.ErrMissing,
 	integrate.ErrOneBatch, integrate.ErrSmallBatch, integrate.ErrParam,
-	session.ErrNotSession, session.ErrVersion, session.ErrMissing, session.ErrCorrupt, restore.ErrNoInputs,
+	session.ErrNotSession, session.ErrVersion, session.ErrMissing, session.ErrCorrupt, restore.ErrNoInputs, restore.ErrInputs,
 }
 
 // exitStatus returns the exit status for a command's error: ExitUsage for
@@ -130,7 +130,7 @@ func printHelp(w io.Writer) {
 	}
 	sort.Strings(names)
 	for _, n := range names {
-		fmt.Fprintf(w, "  %-9s %s\n", n, commands[n].summary)
+		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
 	}
 	fmt.Fprintln(w, "")
 	fmt.Fprintln(w, "Exit status of every command:")

@@ -3,7 +3,6 @@ package cli
 import (
 	"bytes"
 	"encoding/csv"
-	"image/png"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -224,43 +223,6 @@ func TestBenchPrintsItsTables(t *testing.T) {
 	for _, bad := range []string{"12", "1000000000"} {
 		if code, _, _ := run(t, "bench", "--sizes", bad); code != ExitUsage {
 			t.Errorf("bench --sizes %s: status %d", bad, code)
-		}
-	}
-}
-
-func TestFigureFromSession(t *testing.T) {
-	dir := writeExample(t)
-	sess := filepath.Join(t.TempDir(), "map.lodestone")
-	args := append([]string{"embed", "--in", dir, "--session", sess, "--iterations", "100", "--quiet"}, smallFlags...)
-	if code, _, errs := run(t, args...); code != ExitOK {
-		t.Fatalf("embed: %s", errs)
-	}
-	pngPath := filepath.Join(t.TempDir(), "fig.png")
-	code, out, errs := run(t, "figure", "--session", sess, "--out", pngPath, "--paint", "state", "--labels", "--title", "states <&>")
-	if code != ExitOK || !strings.Contains(out, "1920 × 1080") {
-		t.Fatalf("figure: status %d: %s %s", code, out, errs)
-	}
-	f, err := os.Open(pngPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	cfg, err := png.DecodeConfig(f)
-	if err != nil || cfg.Width != 1920 || cfg.Height != 1080 {
-		t.Fatalf("PNG %v: %+v", err, cfg)
-	}
-	svg := filepath.Join(t.TempDir(), "fig.svg")
-	if code, _, errs := run(t, "figure", "--session", sess, "--out", svg, "--preset", "column1", "--dpi", "600"); code != ExitOK {
-		t.Fatalf("figure svg: %s", errs)
-	}
-	for _, bad := range [][]string{
-		{"figure", "--session", sess, "--out", "x.gif"},
-		{"figure", "--session", sess, "--out", pngPath, "--paint", "nonexistent"},
-		{"figure", "--session", filepath.Join(dir, "counts.mtx"), "--out", pngPath},
-		{"figure", "--session", sess, "--out", pngPath, "--preset", "poster"},
-	} {
-		if code, _, _ := run(t, bad...); code != ExitUsage {
-			t.Errorf("%v: status %d, want %d", bad, code, ExitUsage)
 		}
 	}
 }

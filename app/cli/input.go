@@ -3,6 +3,7 @@ package cli
 import (
 	"context"
 	"errors"
+	"flag"
 	"fmt"
 	"io"
 	"math"
@@ -11,6 +12,7 @@ import (
 	"strings"
 
 	"lodestone/app/restore"
+	"lodestone/app/session"
 	"lodestone/compute/atlas"
 	"lodestone/compute/ingest"
 	"lodestone/compute/neighbors"
@@ -254,11 +256,19 @@ func (f *prepFlags) fitCells(n int) error {
 // the preparation. Settings the atlas cannot meet and an atlas left with
 // too few cells are usage errors.
 func features(ctx context.Context, in *inputFlags, pf *prepFlags, b *bar) (*pipeline.Prepared, error) {
-	s, err := pf.settings()
-	if err != nil {
+	if _, err := pf.settings(); err != nil {
 		return nil, err
 	}
 	d, err := in.load(ctx, b)
+	if err != nil {
+		return nil, err
+	}
+	return featuresOf(ctx, d, pf, b)
+}
+
+// featuresOf is features for an atlas already read.
+func featuresOf(ctx context.Context, d *atlas.Dataset, pf *prepFlags, b *bar) (*pipeline.Prepared, error) {
+	s, err := pf.settings()
 	if err != nil {
 		return nil, err
 	}
@@ -289,15 +299,20 @@ func prepare(ctx context.Context, in *inputFlags, pf *prepFlags, b *bar) (*pipel
 	if err != nil {
 		return nil, err
 	}
+	return p, graph(ctx, p, b)
+}
+
+// graph completes a prepared atlas (pipeline.Graph), reporting on b.
+func graph(ctx context.Context, p *pipeline.Prepared, b *bar) error {
 	seen := len(p.Notes)
 	if err := pipeline.Graph(ctx, p, stageReporter(b)); err != nil {
-		return nil, err
+		return err
 	}
 	b.finish()
 	for _, n := range p.Notes[seen:] {
 		b.note("%s", n)
 	}
-	return p, nil
+	return nil
 }
 
 // attractionFlag parses an attraction: a number ≥ 0.5, or "inf" / "∞".
@@ -408,4 +423,106 @@ func (f *inputFlags) origin(p *pipeline.Prepared) (restore.Origin, error) {
 	}
 	opt, err := f.options()
 	return restore.Origin{Path: f.in, Inputs: ins, Open: opt}, err
+}
+
+// atlasFlags name the atlas a command works on: the input and preparation
+// flags (inputFlags, prepFlags), or a session (--session) whose inputs and
+// stored settings are used instead, so that the command sees the cells,
+// annotation columns and groups of the map the session holds.
+type atlasFlags struct {
+	in      inputFlags
+	prep    prepFlags
+	session string
+}
+
+func (f *atlasFlags) register(fs *flags, sessionUse string) {
+	f.in.register(fs)
+	f.prep.register(fs)
+	fs.inputPath(&f.session, "session", sessionUse)
+}
+
+// atlasFlagNames returns the names of the flags of inputFlags and
+// prepFlags, which a session replaces.
+func atlasFlagNames() map[string]bool {
+	fs := &flags{FlagSet: flag.NewFlagSet("", flag.ContinueOnError)}
+	var in inputFlags
+	var pf prepFlags
+	in.register(fs)
+	pf.register(fs)
+	names := map[string]bool{}
+	fs.VisitAll(func(fl *flag.Flag) { names[fl.Name] = true })
+	return names
+}
+
+// loaded is the atlas a command works on.
+type loaded struct {
+	*pipeline.Prepared
+	Session *session.Session // nil without --session
+	// Columns are the annotation columns: the session's when there is one
+	// (they include columns added on its map), else the prepared atlas's.
+	Columns []atlas.Column
+}
+
+// load prepares the atlas up to the features (pipeline.Features), or to the
+// initial layout when full is set (pipeline.Prepare), or does the same with
+// restore's counterparts from the session. check, when not nil, is called
+// before the preparation with the annotation columns read (of all cells)
+// and the session (nil without one), so that a command can
+// refuse a bad choice before the long computation. Input and preparation
+// flags beside --session, an unreadable session and unreadable inputs are
+// usage errors.
+func (f *atlasFlags) load(ctx context.Context, fs *flags, b *bar, full bool, check func([]atlas.Column, *session.Session) error) (*loaded, error) {
+	if check == nil {
+		check = func([]atlas.Column, *session.Session) error { return nil }
+	}
+	if f.session == "" {
+		if _, err := f.prep.settings(); err != nil {
+			return nil, err
+		}
+		d, err := f.in.load(ctx, b)
+		if err != nil {
+			return nil, err
+		}
+		if err := check(d.Annotations, nil); err != nil {
+			return nil, err
+		}
+		p, err := featuresOf(ctx, d, &f.prep, b)
+		if err != nil {
+			return nil, err
+		}
+		if full {
+			if err := graph(ctx, p, b); err != nil {
+				return nil, err
+			}
+		}
+		return &loaded{Prepared: p, Columns: p.Annotations}, nil
+	}
+	names := atlasFlagNames()
+	var clash []string
+	fs.Visit(func(fl *flag.Flag) {
+		if names[fl.Name] {
+			clash = append(clash, "--"+fl.Name)
+		}
+	})
+	if len(clash) > 0 {
+		return nil, usagef("%s: --session takes the atlas and its settings from the session", strings.Join(clash, ", "))
+	}
+	s, err := session.Read(f.session)
+	if err != nil {
+		return nil, usageError{err}
+	}
+	cols := restore.Annotations(s)
+	if err := check(cols, s); err != nil {
+		return nil, err
+	}
+	run := restore.Features
+	if full {
+		run = restore.Prepare
+	}
+	p, _, err := run(ctx, s, stageReporter(b))
+	if err != nil {
+		return nil, fmt.Errorf("session %s: %w", f.session, err)
+	}
+	b.finish()
+	return &loaded{Prepared: p, Session: s, Columns: cols}, nil
 }

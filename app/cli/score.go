@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"io"
 
+	"lodestone/app/live"
+	"lodestone/app/session"
 	"lodestone/compute/atlas"
 	"lodestone/compute/embed"
 	"lodestone/compute/neighbors"
@@ -16,11 +18,9 @@ func init() {
 }
 
 func runScore(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("score", "--in PATH [--meta FILE] --layout layout.csv [--label COLUMN] [--mixing COLUMN] [--k 15] [flags]", stderr)
-	var in inputFlags
-	var pf prepFlags
-	in.register(fs)
-	pf.register(fs)
+	fs := newFlags("score", "(--in PATH [flags] --layout layout.csv | --session FILE [--layout layout.csv]) [--label COLUMN] [--mixing COLUMN] [--k 15] [--sample 2000]", stderr)
+	var af atlasFlags
+	af.register(fs, "a session (.lodestone): its inputs and settings are used instead of --in and the preparation flags, and its map unless --layout is given")
 	var layoutPath string
 	fs.inputPath(&layoutPath, "layout", "the map to score: CSV with header id,x,y")
 	label := fs.String("label", "", "a categorical annotation column: also score how well the map's neighbours predict it")
@@ -31,8 +31,8 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 	if err := fs.parse(args); err != nil {
 		return err
 	}
-	if layoutPath == "" {
-		return usagef("--layout is required")
+	if layoutPath == "" && af.session == "" {
+		return usagef("--layout is required (or --session)")
 	}
 	if err := fo.check(); err != nil {
 		return err
@@ -40,27 +40,30 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 	ctx, stop := interruptible()
 	defer stop()
 	b := newBar(stderr, *quiet)
-	p, err := features(ctx, &in, &pf, b)
+	a, err := af.load(ctx, fs, b, false, func(cols []atlas.Column, _ *session.Session) error {
+		_, err := labelCodes(cols, *label)
+		return err
+	})
 	b.finish()
 	if err != nil {
 		return err
 	}
-	if *fo.k >= p.Cells() {
-		return usagef("--k %d: %d cells passed quality control; each has at most %d neighbours", *fo.k, p.Cells(), p.Cells()-1)
+	if err := fo.fit(a.Cells()); err != nil {
+		return err
 	}
-	layout, err := readLayout(ctx, layoutPath, p.CellIDs)
+	var layout []float32
+	if layoutPath != "" {
+		if layout, err = readLayout(ctx, layoutPath, a.CellIDs); err != nil {
+			return err
+		}
+	} else {
+		layout = a.Session.Layout
+	}
+	labels, err := labelCodes(a.Columns, *label)
 	if err != nil {
 		return err
 	}
-	var labels []int32
-	if *label != "" {
-		c := column(p.Annotations, *label)
-		if c == nil || c.Kind != atlas.Categorical {
-			return usagef("--label %q: no categorical annotation column of that name", *label)
-		}
-		labels = c.Codes
-	}
-	scores, err := quality.Fidelity(ctx, p.Features, layout, fo.options(pf.seed, pf.threads, labels))
+	scores, err := quality.Fidelity(ctx, a.Features, layout, fo.options(a.Settings, labels))
 	if err != nil {
 		return err
 	}
@@ -72,22 +75,22 @@ func runScore(args []string, stdout, stderr io.Writer) error {
 	fmt.Fprintf(stdout, "distance_correlation %.6f\n", scores.DCor)
 	if fs.isSet("tail") {
 		b := newBar(stderr, *quiet)
-		err := pipeline.Graph(ctx, p, stageReporter(b))
+		err := pipeline.Graph(ctx, a.Prepared, stageReporter(b))
 		b.finish()
 		if err != nil {
 			return err
 		}
-		kl, err := embed.Divergence(ctx, p.P, layout, *tail, pf.threads)
+		kl, err := embed.Divergence(ctx, a.P, layout, *tail, a.Settings.Threads)
 		if err != nil {
 			return err
 		}
 		fmt.Fprintf(stdout, "kl_divergence %.6f\n", kl)
 	}
-	if in := p.Settings.Integrate; *mixing == "" && in.On() {
+	if in := a.Settings.Integrate; *mixing == "" && in.On() {
 		*mixing = in.Columns[0]
 	}
 	if *mixing != "" {
-		m, err := pipeline.Mixing(ctx, p, layout, *mixing, *label, fo.mixingOptions(pf.seed, pf.threads))
+		m, err := pipeline.Mixing(ctx, a.Prepared, layout, *mixing, *label, fo.mixingOptions(a.Settings.Seed, a.Settings.Threads))
 		if err != nil {
 			return err
 		}
@@ -130,10 +133,22 @@ func (f fidelityOpts) check() error {
 	return nil
 }
 
-// options returns the options of quality.Fidelity: the sample drawn with the
-// atlas's seed, as the window draws it.
-func (f fidelityOpts) options(seed int64, threads int, labels []int32) quality.FidelityOptions {
-	return quality.FidelityOptions{Sample: *f.sample, Seed: seed, K: *f.k, Threads: threads, Labels: labels}
+// fit refuses a --k that the n cells that passed quality control cannot
+// meet.
+func (f fidelityOpts) fit(n int) error {
+	if *f.k >= n {
+		return usagef("--k %d: %d cells passed quality control; each has at most %d neighbours", *f.k, n, n-1)
+	}
+	return nil
+}
+
+// options returns the options of quality.Fidelity: those the window scores
+// with for the atlas prepared with settings s (live.FidelityOptions), with
+// the sample size and neighbourhood of the flags.
+func (f fidelityOpts) options(s pipeline.Settings, labels []int32) quality.FidelityOptions {
+	o := live.FidelityOptions(s, labels)
+	o.Sample, o.K = *f.sample, *f.k
+	return o
 }
 
 // mixingOptions returns the options of the mixing scores: the same sample

@@ -4,6 +4,10 @@ import (
 	"context"
 	"math"
 	"time"
+
+	"lodestone/compute/atlas"
+	"lodestone/compute/pipeline"
+	"lodestone/compute/quality"
 )
 
 // SweepMap is one map of a sweep: its attraction and tail, its layout, and
@@ -25,12 +29,7 @@ type SweepPoint struct {
 // map that history leads to (TailOf); see SweepPoints.
 func Sweep(ctx context.Context, opt Optimizer, base []float32, history []Step, values []float64, iterations int,
 	setting float64, before func(k int), each func(SweepMap) error) error {
-	tail := TailOf(history)
-	points := make([]SweepPoint, len(values))
-	for k, a := range values {
-		points[k] = SweepPoint{Attraction: a, Tail: tail}
-	}
-	return SweepPoints(ctx, opt, base, history, points, iterations, setting, before, each)
+	return SweepPoints(ctx, opt, base, history, AtTail(values, TailOf(history)), iterations, setting, before, each)
 }
 
 // SweepTails computes a map at each tail in tails, at the given attraction;
@@ -95,4 +94,44 @@ func SweepPoints(ctx context.Context, opt Optimizer, base []float32, history []S
 		prev = layout
 	}
 	return nil
+}
+
+// FidelityOptions returns the options the window scores maps with
+// (quality.Fidelity): the default sample size and neighbourhood, the
+// atlas's seed and thread count, and labels when not nil. The headless
+// commands that reproduce the window's scores use them too.
+func FidelityOptions(s pipeline.Settings, labels []int32) quality.FidelityOptions {
+	return quality.FidelityOptions{Seed: s.Seed, Threads: s.Threads, Labels: labels}
+}
+
+// ScoredMap is a map of a sweep with its fidelity.
+type ScoredMap struct {
+	SweepMap
+	Fidelity quality.FidelityScores
+}
+
+// AtTail returns the sweep points of attractions values at one tail.
+func AtTail(values []float64, tail float64) []SweepPoint {
+	points := make([]SweepPoint, len(values))
+	for k, a := range values {
+		points[k] = SweepPoint{Attraction: a, Tail: tail}
+	}
+	return points
+}
+
+// ScoredSweep runs SweepPoints (see there for ctx, opt, base, history,
+// points, iterations, setting and before) and scores each map by
+// quality.Fidelity against high (the features the maps were computed from)
+// with fo, before handing it to each. The window's sweep and the headless
+// sweep command both run through it, so the same inputs give the same maps
+// and scores. It returns the first error of a run, of a score or of each.
+func ScoredSweep(ctx context.Context, opt Optimizer, base []float32, history []Step, points []SweepPoint, iterations int,
+	setting float64, high *atlas.Dense, fo quality.FidelityOptions, before func(k int), each func(ScoredMap) error) error {
+	return SweepPoints(ctx, opt, base, history, points, iterations, setting, before, func(m SweepMap) error {
+		f, err := quality.Fidelity(ctx, high, m.Layout, fo)
+		if err != nil {
+			return err
+		}
+		return each(ScoredMap{SweepMap: m, Fidelity: f})
+	})
 }

@@ -1,7 +1,8 @@
 // Package paint computes what colours the map: a palette index per cell
 // and the key that explains it, for an annotation column, a gene's
-// expression or the user's groups. The window and the headless figure
-// command both use it, so figures match the screen.
+// expression or the user's groups; and the expression plot of ranked
+// markers. The window and the headless figure command both use it, so
+// figures match the screen.
 package paint
 
 import (

@@ -142,8 +142,14 @@ func Hash(sources []string) ([]session.Input, error) {
 	return out, nil
 }
 
-// ErrNoInputs is returned for a session that names no input to read.
-var ErrNoInputs = errors.New("the session names no input to recompute from")
+// Errors of restoring a session that are about its inputs, not the
+// computation: Features, Prepare and Recompute wrap ErrInputs around the
+// error of reading the inputs (ErrNoInputs when the session names none) or
+// of matching their cells to the session's.
+var (
+	ErrInputs   = errors.New("the session's inputs cannot be read or do not match it")
+	ErrNoInputs = errors.New("the session names no input to recompute from")
+)
 
 // Load reads the atlas a session was made from: the example, regenerated
 // with its options, or the path it was opened from. report, when not nil,
@@ -169,7 +175,8 @@ func Load(ctx context.Context, s *session.Session, report func(stage string, don
 
 // Features reads the inputs of s and reruns the preparation with its
 // settings up to the features and the expression (pipeline.Features); the
-// cells it keeps must be the session's cells, in order.
+// cells it keeps must be the session's cells, in order. Errors of the inputs
+// wrap ErrInputs; unknown stored settings wrap session.ErrCorrupt.
 func Features(ctx context.Context, s *session.Session, report func(stage string, done, total int64)) (*pipeline.Prepared, *atlas.Dataset, error) {
 	return prepare(ctx, s, report, pipeline.Features)
 }
@@ -189,14 +196,17 @@ func prepare(ctx context.Context, s *session.Session, report func(stage string, 
 	}
 	d, err := Load(ctx, s, report)
 	if err != nil {
-		return nil, nil, err
+		if ctx.Err() != nil {
+			return nil, nil, err
+		}
+		return nil, nil, fmt.Errorf("%w: %w", ErrInputs, err)
 	}
 	p, err := run(ctx, d, set, report)
 	if err != nil {
 		return nil, nil, err
 	}
 	if err := sameCells(p.CellIDs, s.CellIDs); err != nil {
-		return nil, nil, err
+		return nil, nil, fmt.Errorf("%w: %w", ErrInputs, err)
 	}
 	return p, d, nil
 }

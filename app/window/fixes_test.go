@@ -2,6 +2,7 @@ package window
 
 import (
 	"bytes"
+	"context"
 	"image/png"
 	"os"
 	"path/filepath"
@@ -62,14 +63,13 @@ func TestExpressionPlotOfADayShowsAndSaves(t *testing.T) {
 	var w *plotWindow
 	onUI(func() {
 		w = v.plots.open[0]
-		want := topMarkers(v.markers.results, plotGeneCount)
-		if len(w.table.Genes) != len(want) || len(want) == 0 {
-			t.Errorf("the plot shows %d genes, want the top %d markers", len(w.table.Genes), len(want))
-		}
-		for k, g := range want {
-			if k < len(w.table.Genes) && w.table.Genes[k] != geneName(v.st.prep, g) {
-				t.Errorf("gene %d of the plot is %q", k, w.table.Genes[k])
-			}
+		// The top markers as the headless figure command draws them.
+		p := v.st.prep
+		day := v.st.column(sampledata.ColumnDay)
+		want, size, err := paint.ExpressionPlot(context.Background(), p.Expression, v.markers.results, paint.TopMarkers,
+			p.GeneIDs, p.GeneSymbols, day.Codes, day.Levels)
+		if err != nil || len(want.Genes) == 0 || !slices.Equal(w.table.Genes, want.Genes) || w.size != size {
+			t.Errorf("the plot shows %q (%+v), want the top %d markers %q (%+v) (%v)", w.table.Genes, w.size, paint.TopMarkers, want.Genes, size, err)
 		}
 		if !slices.Equal(w.table.Groups, v.st.column(sampledata.ColumnDay).Levels) {
 			t.Errorf("the plot's rows are %q, want the days", w.table.Groups)
@@ -240,7 +240,7 @@ func TestKeyBesideTheMapWhateverTab(t *testing.T) {
 	v := openFixture(t, u)
 	var gene string
 	onUI(func() {
-		gene = geneLabel(v.st.prep.GeneSymbols[3], v.st.prep.GeneIDs[3])
+		gene = paint.GeneLabel(v.st.prep.GeneSymbols[3], v.st.prep.GeneIDs[3])
 		v.paint.geneBox.SetText(gene)
 	})
 	waitFor(t, "the gene's paint", 10*time.Second, func() bool { return v.st.paint.Source == paint.Gene })

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 	"time"
@@ -16,6 +17,7 @@ import (
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 
+	"lodestone/app/paint"
 	"lodestone/app/tables"
 	"lodestone/canvas/figure"
 	"lodestone/compute/atlas"
@@ -32,9 +34,6 @@ const (
 	groupsSource    = "my groups"
 	selectionSource = "the selection"
 )
-
-// plotGeneCount is how many of the top markers the expression plot shows.
-const plotGeneCount = 12
 
 // markersPanel ranks the genes that mark a set of cells (the selection, a
 // group or a category) against the rest or another set, shows them in a
@@ -442,13 +441,9 @@ func sortResults(res []markers.Result, col int, desc bool, symbols []string) {
 	})
 }
 
-// geneName names gene g as the table and the plot do: by its symbol, or
-// its ID when it has none.
+// geneName names gene g as the table and the plot do (paint.GeneName).
 func geneName(p *pipeline.Prepared, g int) string {
-	if sym := p.GeneSymbols[g]; sym != "" {
-		return sym
-	}
-	return p.GeneIDs[g]
+	return paint.GeneName(p.GeneSymbols[g], p.GeneIDs[g])
 }
 
 // fileStem turns a comparison's label into part of a file name.
@@ -465,22 +460,6 @@ func (m *markersPanel) askSave() {
 	ids, syms := m.st.prep.GeneIDs, m.st.prep.GeneSymbols
 	m.files.save("Save the markers table", "markers-"+fileStem(m.compared.label())+".csv",
 		func(w io.Writer) error { return tables.WriteMarkers(w, res, ids, syms) })
-}
-
-// topMarkers returns up to n genes higher in the group, by decreasing z.
-func topMarkers(res []markers.Result, n int) []int {
-	byZ := append([]markers.Result(nil), res...)
-	sort.SliceStable(byZ, func(a, b int) bool { return byZ[a].Z > byZ[b].Z })
-	var genes []int
-	for _, r := range byZ {
-		if len(genes) == n {
-			break
-		}
-		if r.LogFoldChange > 0 {
-			genes = append(genes, r.Gene)
-		}
-	}
-	return genes
 }
 
 // plotRows returns the rows of the expression plot for the source of a
@@ -521,22 +500,17 @@ func (m *markersPanel) plot() {
 		m.errs.showError("No markers yet", fmt.Errorf("rank the genes first; the plot shows the top ones across the categories"))
 		return
 	}
-	genes := topMarkers(m.results, plotGeneCount)
-	if len(genes) == 0 {
+	if !slices.ContainsFunc(m.results, func(r markers.Result) bool { return r.LogFoldChange > 0 }) {
 		m.errs.showError("No markers to plot", fmt.Errorf("no gene is higher in %s than in %s", m.compared.which, m.compared.against))
 		return
 	}
-	geneNames := make([]string, len(genes))
-	for k, g := range genes {
-		geneNames[k] = geneName(m.st.prep, g)
-	}
 	names, codes := m.plotRows(m.compared.source)
-	x := m.st.prep.Expression
+	x, res := m.st.prep.Expression, m.results
+	ids, syms := m.st.prep.GeneIDs, m.st.prep.GeneSymbols
 	c := m.compared
-	size := figure.Size{WidthPx: 200 + 70*len(genes), HeightPx: 260 + 36*len(names), DPI: 150}
 	m.jobs.run(func(ctx context.Context) {
 		var png bytes.Buffer
-		t, err := figure.Expression(ctx, x, genes, geneNames, codes, names)
+		t, size, err := paint.ExpressionPlot(ctx, x, res, paint.TopMarkers, ids, syms, codes, names)
 		if err == nil {
 			err = figure.WriteExpressionPNG(&png, t, size)
 		}

@@ -166,7 +166,7 @@ func (p *paintPanel) paintByChoice(s string) {
 // the background.
 func (p *paintPanel) paintByGene(g int) {
 	x := p.st.prep.Expression
-	name := geneLabel(p.st.prep.GeneSymbols[g], p.st.prep.GeneIDs[g])
+	name := paint.GeneLabel(p.st.prep.GeneSymbols[g], p.st.prep.GeneIDs[g])
 	p.jobs.run(func(context.Context) {
 		values := paint.GeneValues(x, g)
 		pt := paint.GenePaint(name, values)
@@ -179,7 +179,7 @@ func (p *paintPanel) paintByGene(g int) {
 
 // showGene writes gene g into the gene box and paints by it.
 func (p *paintPanel) showGene(g int) {
-	p.geneBox.SetText(geneLabel(p.st.prep.GeneSymbols[g], p.st.prep.GeneIDs[g]))
+	p.geneBox.SetText(paint.GeneLabel(p.st.prep.GeneSymbols[g], p.st.prep.GeneIDs[g]))
 	p.paintByGene(g)
 }
 
@@ -377,9 +377,9 @@ func geneMatches(p *pipeline.Prepared, s string, limit int) []string {
 		ls, li := strings.ToLower(sym), strings.ToLower(id)
 		switch {
 		case strings.HasPrefix(ls, s) || strings.HasPrefix(li, s):
-			first = append(first, geneLabel(sym, id))
+			first = append(first, paint.GeneLabel(sym, id))
 		case len(first) < limit && (strings.Contains(ls, s) || strings.Contains(li, s)):
-			then = append(then, geneLabel(sym, id))
+			then = append(then, paint.GeneLabel(sym, id))
 		}
 	}
 	sort.Strings(first)
@@ -391,15 +391,7 @@ func geneMatches(p *pipeline.Prepared, s string, limit int) []string {
 	return out
 }
 
-// geneLabel names a gene by its symbol and ID.
-func geneLabel(sym, id string) string {
-	if sym == id || sym == "" {
-		return id
-	}
-	return sym + " (" + id + ")"
-}
-
-// findGene returns the gene a label names exactly (as geneLabel writes it,
+// findGene returns the gene a label names exactly (as paint.GeneLabel writes it,
 // or a bare symbol or ID), or −1.
 func findGene(p *pipeline.Prepared, s string) int {
 	s = strings.TrimSpace(s)
@@ -408,7 +400,7 @@ func findGene(p *pipeline.Prepared, s string) int {
 	}
 	for j, sym := range p.GeneSymbols {
 		id := p.GeneIDs[j]
-		if s == geneLabel(sym, id) || s == id || strings.EqualFold(s, sym) {
+		if s == paint.GeneLabel(sym, id) || s == id || strings.EqualFold(s, sym) {
 			return j
 		}
 	}

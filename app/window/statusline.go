@@ -151,12 +151,12 @@ func (s *statusLine) showNote() {
 	})
 }
 
-// fidelityOptions are the options the window scores maps with: the
-// defaults of quality.Fidelity (2,000 cells, 15 neighbours), the atlas's
-// seed and thread count, as `lodestone score` and `lodestone sweep` use
-// them, so that their numbers are the window's.
+// fidelityOptions are the options the window scores maps with
+// (live.FidelityOptions: the defaults of quality.Fidelity, the atlas's seed
+// and thread count), which `lodestone score` and `lodestone sweep` use too,
+// so that their numbers are the window's.
 func fidelityOptions(p *pipeline.Prepared, labels []int32) quality.FidelityOptions {
-	return quality.FidelityOptions{Seed: p.Settings.Seed, Threads: p.Settings.Threads, Labels: labels}
+	return live.FidelityOptions(p.Settings, labels)
 }
 
 // scoreKind is one score of the map on screen for the status line: a

@@ -262,12 +262,8 @@ func (s *sweepPanel) toggle() {
 			text := fmt.Sprintf("sweep: map %d of %d (%s)…", k+1, len(points), settingText(points[k].Attraction, points[k].Tail))
 			s.jobs.do(func() { s.info.SetText(text) })
 		}
-		err := live.SweepPoints(ctx, base.opt, base.layout, base.history, points, base.iterations, base.perplexity, before, func(m live.SweepMap) error {
-			f, err := quality.Fidelity(ctx, features, m.Layout, fo)
-			if err != nil {
-				return err
-			}
-			r := sweepResult{SweepMap: m, scores: f}
+		err := live.ScoredSweep(ctx, base.opt, base.layout, base.history, points, base.iterations, base.perplexity, features, fo, before, func(m live.ScoredMap) error {
+			r := sweepResult{SweepMap: m.SweepMap, scores: m.Fidelity}
 			if mixing != nil {
 				mx, err := quality.MapMixing(ctx, m.Layout, *mixing)
 				if err != nil {

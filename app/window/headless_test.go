@@ -1,0 +1,127 @@
+package window
+
+import (
+	"bytes"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"fyne.io/fyne/v2/test"
+
+	"lodestone/app/cli"
+	"lodestone/app/session"
+	"lodestone/sampledata"
+)
+
+// TestSweepTabMatchesTheSweepCommand runs the Sweep tab on the tests' atlas
+// (from the first map, labels of the states) and the sweep command on the
+// same atlas written as files (square: --matrix-rows says its rows are the
+// cells), with the same settings and thread count:
+// every score of every map is the same number, and every map the same
+// layout, bit for bit.
+func TestSweepTabMatchesTheSweepCommand(t *testing.T) {
+	u := newTestUI(t, chooserAnswering())
+	v := openFixture(t, u)
+	onUI(func() {
+		v.sweep.values.SetText("4, 1.5, inf")
+		v.sweep.label.SetSelected(sampledata.ColumnState)
+		v.run.iterations.SetText("80")
+		test.Tap(v.sweep.run)
+	})
+	waitFor(t, "the sweep", 120*time.Second, func() bool { return !v.sweep.running() && len(v.sweep.results) == 3 })
+	var results []sweepResult
+	onUI(func() { results = append(results, v.sweep.results...) })
+
+	dir, out := t.TempDir(), t.TempDir()
+	var stdout, stderr bytes.Buffer
+	o := fixtureOptions
+	s := fixtureSettings()
+	if code := cli.Run([]string{"example", "--out", dir, "--cells", strconv.Itoa(o.Cells), "--genes", strconv.Itoa(o.Genes),
+		"--seed", strconv.FormatInt(o.Seed, 10), "--quiet"}, &stdout, &stderr); code != 0 {
+		t.Fatalf("example: %s", stderr.String())
+	}
+	args := []string{"sweep", "--in", dir, "--values", "4,1.5,inf", "--iterations", "80", "--label", sampledata.ColumnState,
+		"--matrix-rows", "cells", "--pcs", strconv.Itoa(s.Prep.PCA.Components), "--threads", strconv.Itoa(s.Threads), "--out", out, "--quiet"}
+	if code := cli.Run(args, &stdout, &stderr); code != 0 {
+		t.Fatalf("sweep: %s", stderr.String())
+	}
+	scores, err := os.ReadFile(filepath.Join(out, "scores.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows := strings.Split(strings.TrimSpace(string(scores)), "\n")[1:]
+	if len(rows) != len(results) {
+		t.Fatalf("the command wrote %d maps' scores, the tab shows %d", len(rows), len(results))
+	}
+	for k, r := range results {
+		f := strings.Split(rows[k], ",")
+		num := func(s string) float64 {
+			x, err := strconv.ParseFloat(s, 64)
+			if err != nil {
+				t.Fatalf("scores.csv row %q: %v", rows[k], err)
+			}
+			return x
+		}
+		want := []float64{r.scores.KNN, r.scores.Trust, r.scores.Labels, r.scores.DCor}
+		got := []float64{num(f[2]), num(f[3]), num(f[4]), num(f[5])}
+		if f[1] != "1" {
+			t.Errorf("map %d: tail %s, the tab's maps are t-SNE's (1)", k, f[1])
+		}
+		for i := range want {
+			if got[i] != want[i] || math.IsNaN(want[i]) {
+				t.Errorf("map %d (attraction %s): the command's scores %v, the tab's %v", k, f[0], got, want)
+				break
+			}
+		}
+		layout, err := os.ReadFile(filepath.Join(out, "attraction-"+f[0]+".csv"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		lines := strings.Split(strings.TrimSpace(string(layout)), "\n")[1:]
+		if len(lines) != len(r.Layout)/2 {
+			t.Fatalf("map %d: %d rows for %d cells", k, len(lines), len(r.Layout)/2)
+		}
+		for i, line := range lines {
+			c := strings.Split(line, ",")
+			x, _ := strconv.ParseFloat(c[1], 32)
+			y, _ := strconv.ParseFloat(c[2], 32)
+			if float32(x) != r.Layout[2*i] || float32(y) != r.Layout[2*i+1] {
+				t.Fatalf("map %d, cell %d: the command's (%v, %v), the tab's (%v, %v)", k, i, x, y, r.Layout[2*i], r.Layout[2*i+1])
+			}
+		}
+	}
+}
+
+// TestStatusLineMatchesTheScoreCommand saves the session of the first map
+// and scores it with the score command: the status line's kept neighbours
+// and trustworthiness are the command's numbers, rounded as the line
+// rounds them.
+func TestStatusLineMatchesTheScoreCommand(t *testing.T) {
+	u := newTestUI(t, chooserAnswering())
+	v := openFixture(t, u)
+	path := filepath.Join(t.TempDir(), "first"+session.Extension)
+	var line string
+	onUI(func() {
+		line = v.st.scores.text
+		v.saveSession(path)
+	})
+	waitFor(t, "the saved session", 30*time.Second, func() bool { _, err := os.Stat(path); return err == nil })
+	var stdout, stderr bytes.Buffer
+	if code := cli.Run([]string{"score", "--session", path}, &stdout, &stderr); code != 0 {
+		t.Fatalf("score: %s", stderr.String())
+	}
+	got := map[string]float64{}
+	for _, l := range strings.Split(strings.TrimSpace(stdout.String()), "\n") {
+		name, value, _ := strings.Cut(l, " ")
+		got[name], _ = strconv.ParseFloat(value, 64)
+	}
+	want := fmt.Sprintf("kept neighbours %.2f · trustworthiness %.3f", got["knn_preservation"], got["trustworthiness"])
+	if !strings.Contains(line, want) {
+		t.Fatalf("the status line says %q; score gives %q", line, want)
+	}
+}
