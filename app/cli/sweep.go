@@ -31,10 +31,10 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 	var af atlasFlags
 	af.register(fs, "start from the map of a session (.lodestone), with its inputs and settings, instead of a fresh map of --in")
 	valuesText := fs.String("values", "", "the attractions to sweep, comma-separated: numbers from 0.5 to 1000, or inf (the spectral layout)")
-	tail := fs.Float64("tail", 0, "with --values: the kernel's tail α of every map (default: that of the map the sweep starts from)")
+	tailFlag := fs.Float64("tail", 0, "with --values: the kernel's tail α of every map (default: the session's grain, or 1)")
 	tailsText := fs.String("tails", "", fmt.Sprintf("instead of --values, the kernel's tails α to sweep, comma-separated: numbers from %g to %g (1: t-SNE)", float64(embed.MinTail), float64(embed.MaxTail)))
 	attraction := attractionFlag(0)
-	fs.Var(&attraction, "attraction", "with --tails: the attraction of every map (default: that of the map the sweep starts from)")
+	fs.Var(&attraction, "attraction", "with --tails: the attraction of every map (default: the session's dial, or 1)")
 	iterations := fs.Int("iterations", live.WarmIterations, "optimiser iterations of each map (the window's iterations per turn)")
 	label := fs.String("label", "", "a categorical annotation column: also score how well the map's neighbours predict it")
 	out := fs.String("out", "", "folder to write into (created when missing): a layout CSV per map (attraction-V.csv, or tail-T.csv) and scores.csv")
@@ -52,6 +52,8 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 		return usagef("--attraction goes with --tails; --values lists the attractions")
 	case *tailsText != "" && fs.isSet("tail"):
 		return usagef("--tail goes with --values; --tails lists the tails")
+	case *tailsText != "" && math.IsInf(float64(attraction), 1):
+		return usagef("--tails: at attraction inf every map is the spectral layout, whatever the tail; give a finite --attraction")
 	}
 	var values, tails []float64
 	var err error
@@ -87,15 +89,23 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 
 	// The map the sweep starts from: the session's, or the window's first
 	// map of an atlas (a fresh run at attraction 1 with the t-SNE kernel).
+	// The controls' values, as the window shows them: the dial and the
+	// grain of the session (the grain may differ from the last run's tail
+	// when it was moved at ∞), or those of the first map.
 	var (
-		opt     *live.TSNE
-		setting float64
-		base    []float32
-		history []live.Step
+		opt        *live.TSNE
+		setting    float64
+		base       []float32
+		history    []live.Step
+		dial, tail float64 = 1, 1
 	)
 	if a.Session != nil {
 		history = restore.Steps(a.Session)
 		base = a.Session.Layout
+		dial, tail = float64(a.Session.Attraction), live.TailOf(history)
+		if a.Session.Tail != 0 {
+			tail = a.Session.Tail
+		}
 		if opt, setting, err = restore.NewReplayer(a.Prepared).Current(ctx, history); err != nil {
 			return err
 		}
@@ -116,24 +126,23 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 	var points []live.SweepPoint
 	var files []string
 	if values != nil {
-		t := live.TailOf(history)
 		if fs.isSet("tail") {
-			t = *tail
+			tail = *tailFlag
 		}
-		points = live.AtTail(values, t)
+		points = live.AtTail(values, tail)
 		for _, v := range values {
 			files = append(files, "attraction-"+formatAttraction(v)+".csv")
 		}
 	} else {
-		at := float64(attraction)
-		if !fs.isSet("attraction") {
-			at = 1
-			if n := len(history); n > 0 {
-				at = history[n-1].Attraction
-			}
+		at := dial
+		if fs.isSet("attraction") {
+			at = float64(attraction)
 		}
+		if math.IsInf(at, 1) {
+			return usagef("--tails: at attraction inf every map is the spectral layout, whatever the tail; give a finite --attraction")
+		}
+		points = live.AtAttraction(at, tails)
 		for _, t := range tails {
-			points = append(points, live.SweepPoint{Attraction: at, Tail: t})
 			files = append(files, "tail-"+strconv.FormatFloat(t, 'g', -1, 64)+".csv")
 		}
 	}

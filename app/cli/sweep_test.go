@@ -107,7 +107,24 @@ func TestSweep(t *testing.T) {
 		}
 	}
 
+	// From a session at ∞ with the grain at 2, as the window opens it: an
+	// attraction sweep takes the grain's tail, a tail sweep needs a finite
+	// attraction.
+	spectral := filepath.Join(t.TempDir(), "spectral"+session.Extension)
+	if code, _, errs := run(t, append([]string{"embed", "--in", dir, "--attraction", "inf", "--tail", "2", "--session", spectral}, flags...)...); code != ExitOK {
+		t.Fatalf("embed at inf: %s", errs)
+	}
+	grain := filepath.Join(t.TempDir(), "grain")
+	if code, _, errs = run(t, "sweep", "--session", spectral, "--values", "4", "--iterations", "20", "--out", grain, "--quiet"); code != ExitOK {
+		t.Fatalf("sweep from the spectral session: %s", errs)
+	}
+	if b, _ := os.ReadFile(filepath.Join(grain, "scores.csv")); !strings.Contains(string(b), "\n4,2,") {
+		t.Fatalf("scores.csv of a sweep from a session with the grain at 2:\n%s", b)
+	}
+
 	for _, bad := range [][]string{
+		{"sweep", "--session", spectral, "--tails", "0.5", "--out", grain},
+		{"sweep", "--in", dir, "--tails", "0.5", "--attraction", "inf", "--out", grain},
 		{"sweep", "--in", dir, "--values", "4", "--tails", "2", "--out", fresh},
 		{"sweep", "--in", dir, "--tails", "2,0.01", "--out", fresh},
 		{"sweep", "--in", dir, "--tails", "2", "--tail", "3", "--out", fresh},

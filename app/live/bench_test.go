@@ -104,7 +104,7 @@ func BenchmarkDialTurn70k(b *testing.B) {
 
 // BenchmarkSweep70k runs the window's default sweep on a finished 70k map:
 // attractions 1, 2, 4, 10, 30 and ∞, 500 iterations each, every map scored
-// as the Sweep tab scores it (quality.Fidelity at its defaults), and reports
+// as the Sweep tab scores it (ScoredSweep, quality.Fidelity at its defaults), and reports
 // the seconds per sweep.
 func BenchmarkSweep70k(b *testing.B) {
 	opt, layout := setupDial70k(b)
@@ -113,10 +113,8 @@ func BenchmarkSweep70k(b *testing.B) {
 	history := []Step{{Kind: Fresh, Attraction: 1, Iterations: embed.DefaultIterations, Done: embed.DefaultIterations, Setting: 30}}
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		err := Sweep(ctx, opt, layout, history, values, 500, 30, nil, func(m SweepMap) error {
-			_, err := quality.Fidelity(ctx, dial70k.x, m.Layout, quality.FidelityOptions{Seed: 1})
-			return err
-		})
+		err := ScoredSweep(ctx, opt, layout, history, AtTail(values, 1), 500, 30, dial70k.x, quality.FidelityOptions{Seed: 1}, nil,
+			func(ScoredMap) error { return nil })
 		if err != nil {
 			b.Fatal(err)
 		}

@@ -25,25 +25,6 @@ type SweepPoint struct {
 	Tail       float64 // the kernel's tail; 0 means 1
 }
 
-// Sweep computes a map at each attraction in values, with the tail of the
-// map that history leads to (TailOf); see SweepPoints.
-func Sweep(ctx context.Context, opt Optimizer, base []float32, history []Step, values []float64, iterations int,
-	setting float64, before func(k int), each func(SweepMap) error) error {
-	return SweepPoints(ctx, opt, base, history, AtTail(values, TailOf(history)), iterations, setting, before, each)
-}
-
-// SweepTails computes a map at each tail in tails, at the given attraction;
-// see SweepPoints. At +Inf every map is the spectral layout, which does not
-// depend on the tail.
-func SweepTails(ctx context.Context, opt Optimizer, base []float32, history []Step, attraction float64, tails []float64, iterations int,
-	setting float64, before func(k int), each func(SweepMap) error) error {
-	points := make([]SweepPoint, len(tails))
-	for k, t := range tails {
-		points[k] = SweepPoint{Attraction: attraction, Tail: t}
-	}
-	return SweepPoints(ctx, opt, base, history, points, iterations, setting, before, each)
-}
-
 // SweepPoints computes a map at each setting of points, each run warm from
 // the previous map (the first from base, the map that history leads to),
 // the way the controls move the map: a run that ends once the layout has
@@ -110,11 +91,23 @@ type ScoredMap struct {
 	Fidelity quality.FidelityScores
 }
 
-// AtTail returns the sweep points of attractions values at one tail.
+// AtTail returns the sweep points of the attractions values at one tail
+// (0 means 1): a sweep of the dial.
 func AtTail(values []float64, tail float64) []SweepPoint {
 	points := make([]SweepPoint, len(values))
 	for k, a := range values {
 		points[k] = SweepPoint{Attraction: a, Tail: tail}
+	}
+	return points
+}
+
+// AtAttraction returns the sweep points of the tails tails at one
+// attraction: a sweep of the kernel's tail. At +Inf every map would be the
+// spectral layout, which does not depend on the tail.
+func AtAttraction(attraction float64, tails []float64) []SweepPoint {
+	points := make([]SweepPoint, len(tails))
+	for k, t := range tails {
+		points[k] = SweepPoint{Attraction: attraction, Tail: t}
 	}
 	return points
 }

@@ -25,7 +25,7 @@ func TestSweepMapsReplay(t *testing.T) {
 	var maps []SweepMap
 	var started []int
 	const ceiling = 2000
-	err = Sweep(ctx, opt, base, history, values, ceiling, 10, func(k int) { started = append(started, k) }, func(m SweepMap) error {
+	err = SweepPoints(ctx, opt, base, history, AtTail(values, TailOf(history)), ceiling, 10, func(k int) { started = append(started, k) }, func(m SweepMap) error {
 		maps = append(maps, m)
 		return nil
 	})
@@ -66,11 +66,11 @@ func TestSweepMapsReplay(t *testing.T) {
 func TestSweepStops(t *testing.T) {
 	stop := errors.New("enough")
 	calls := 0
-	err := Sweep(context.Background(), &drift{}, []float32{0, 0, 1, 1}, nil, []float64{1, 2, 3}, 2, 30, nil, func(SweepMap) error {
+	err := SweepPoints(context.Background(), &drift{}, []float32{0, 0, 1, 1}, nil, AtTail([]float64{1, 2, 3}, 1), 2, 30, nil, func(SweepMap) error {
 		calls++
 		return stop
 	})
 	if !errors.Is(err, stop) || calls != 1 {
-		t.Fatalf("Sweep returned %v after %d maps; want the callback's error after 1", err, calls)
+		t.Fatalf("SweepPoints returned %v after %d maps; want the callback's error after 1", err, calls)
 	}
 }

@@ -71,7 +71,7 @@ func TestSweepTailsReplay(t *testing.T) {
 	history := []Step{{Kind: Fresh, Attraction: 1, Iterations: 200, Done: 200, Setting: 10}}
 	tails := []float64{0.5, 1, 3}
 	var maps []SweepMap
-	err = SweepTails(ctx, opt, base, history, 1, tails, 60, 10, nil, func(m SweepMap) error {
+	err = SweepPoints(ctx, opt, base, history, AtAttraction(1, tails), 60, 10, nil, func(m SweepMap) error {
 		maps = append(maps, m)
 		return nil
 	})

@@ -184,7 +184,6 @@ var defaultSweepValues = map[string]string{
 // settings of the sweep's maps: each value with the other control as it
 // stands (base).
 func sweepPoints(control, text string, base runSnapshot) ([]live.SweepPoint, error) {
-	var points []live.SweepPoint
 	if control == sweepGrain {
 		if math.IsInf(base.attraction, 1) {
 			return nil, fmt.Errorf("at ∞ every map is the spectral layout, whatever the grain: turn the dial to a finite value to sweep the grain")
@@ -193,19 +192,13 @@ func sweepPoints(control, text string, base runSnapshot) ([]live.SweepPoint, err
 		if err != nil {
 			return nil, err
 		}
-		for _, v := range values {
-			points = append(points, live.SweepPoint{Attraction: base.attraction, Tail: v})
-		}
-		return points, nil
+		return live.AtAttraction(base.attraction, values), nil
 	}
 	values, err := parseDialValues(text)
 	if err != nil {
 		return nil, err
 	}
-	for _, v := range values {
-		points = append(points, live.SweepPoint{Attraction: v, Tail: base.tail})
-	}
-	return points, nil
+	return live.AtTail(values, base.tail), nil
 }
 
 // running reports whether a sweep is in flight.
