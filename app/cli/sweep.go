@@ -31,10 +31,10 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 	var af atlasFlags
 	af.register(fs, "start from the map of a session (.lodestone), with its inputs and settings, instead of a fresh map of --in")
 	valuesText := fs.String("values", "", "the attractions to sweep, comma-separated: numbers from 0.5 to 1000, or inf (the spectral layout)")
-	tailFlag := fs.Float64("tail", 0, "with --values: the kernel's tail α of every map (default: the session's grain, or 1)")
+	tailFlag := fs.Float64("tail", 0, "with --values: the kernel's tail α of every map (default: the grain as saved, or 1)")
 	tailsText := fs.String("tails", "", fmt.Sprintf("instead of --values, the kernel's tails α to sweep, comma-separated: numbers from %g to %g (1: t-SNE)", float64(embed.MinTail), float64(embed.MaxTail)))
 	attraction := attractionFlag(0)
-	fs.Var(&attraction, "attraction", "with --tails: the attraction of every map (default: the session's dial, or 1)")
+	fs.Var(&attraction, "attraction", "with --tails: the attraction of every map (default: the dial as saved, or 1)")
 	iterations := fs.Int("iterations", live.WarmIterations, "optimiser iterations of each map (the window's iterations per turn)")
 	label := fs.String("label", "", "a categorical annotation column: also score how well the map's neighbours predict it")
 	out := fs.String("out", "", "folder to write into (created when missing): a layout CSV per map (attraction-V.csv, or tail-T.csv) and scores.csv")
