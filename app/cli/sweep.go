@@ -35,7 +35,7 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 	tailsText := fs.String("tails", "", fmt.Sprintf("instead of --values, the kernel's tails α to sweep, comma-separated: numbers from %g to %g (1: t-SNE)", float64(embed.MinTail), float64(embed.MaxTail)))
 	attraction := attractionFlag(0)
 	fs.Var(&attraction, "attraction", "with --tails: the attraction of every map (default: the dial as saved, or 1)")
-	iterations := fs.Int("iterations", live.WarmIterations, "optimiser iterations of each map (the window's iterations per turn)")
+	iterations := fs.Int("iterations", live.WarmIterations, "the most optimiser iterations of each map, which ends once its layout has settled (the window's iterations per turn)")
 	label := fs.String("label", "", "a categorical annotation column: also score how well the map's neighbours predict it")
 	out := fs.String("out", "", "folder to write into (created when missing): a layout CSV per map (attraction-V.csv, or tail-T.csv) and scores.csv")
 	fo := fidelityFlags(fs)
