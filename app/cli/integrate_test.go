@@ -128,4 +128,35 @@ func TestIntegratedScores(t *testing.T) {
 	if after["type_mixing_map"] > 0.3 {
 		t.Errorf("states mix %.3f in the integrated map (want ≤ 0.3)", after["type_mixing_map"])
 	}
+
+	// sweep with --integrate scores the runs' and states' mixing of each
+	// map (the runs by default, the first --integrate column), as score
+	// scores that map's layout.
+	out := t.TempDir()
+	args := append([]string{"sweep", "--in", dir, "--values", "2", "--iterations", "100", "--label", "state", "--sample", "600",
+		"--out", out, "--quiet", "--integrate", "batch"}, smallFlags...)
+	if code, _, errs := run(t, args...); code != ExitOK {
+		t.Fatalf("sweep: status %d: %s", code, errs)
+	}
+	b, err := os.ReadFile(filepath.Join(out, "scores.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
+	if len(lines) != 2 || !strings.HasSuffix(lines[0], ",sample_mixing,type_mixing") {
+		t.Fatalf("sweep's scores.csv:\n%s", b)
+	}
+	f := strings.Split(lines[1], ",")
+	args = append([]string{"score", "--in", dir, "--layout", filepath.Join(out, "attraction-2.csv"), "--label", "state",
+		"--sample", "600", "--integrate", "batch"}, smallFlags...)
+	code, printed, errs := run(t, args...)
+	if code != ExitOK {
+		t.Fatalf("score of the sweep's map: status %d: %s", code, errs)
+	}
+	for k, name := range map[int]string{len(f) - 2: "sample_mixing_map", len(f) - 1: "type_mixing_map"} {
+		v, err := strconv.ParseFloat(f[k], 64)
+		if err != nil || !strings.Contains(printed, name+" "+strconv.FormatFloat(v, 'f', 6, 64)+"\n") {
+			t.Errorf("sweep's %s %q, score printed:\n%s", name, f[k], printed)
+		}
+	}
 }

@@ -15,6 +15,8 @@ import (
 	"lodestone/app/session"
 	"lodestone/compute/atlas"
 	"lodestone/compute/embed"
+	"lodestone/compute/pipeline"
+	"lodestone/compute/quality"
 	"lodestone/internal/atomicfile"
 )
 
@@ -27,7 +29,7 @@ const scoresHeader = "attraction,tail,knn_preservation,trustworthiness,label_acc
 
 func runSweep(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("sweep", "(--in PATH [flags] | --session FILE) (--values 1,4,30,inf [--tail T] | --tails 0.5,1,2 [--attraction A])\n"+
-		"       [--iterations N] [--label COLUMN] --out DIR", stderr)
+		"       [--iterations N] [--label COLUMN] [--mixing COLUMN] --out DIR", stderr)
 	var af atlasFlags
 	af.register(fs, "start from the map of a session (.lodestone), with its inputs and settings, instead of a fresh map of --in")
 	valuesText := fs.String("values", "", "the attractions to sweep, comma-separated: numbers from 0.5 to 1000, or inf (the spectral layout)")
@@ -37,6 +39,7 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 	fs.Var(&attraction, "attraction", "with --tails: the attraction of every map (default: the dial as saved, or 1)")
 	iterations := fs.Int("iterations", live.WarmIterations, "the most optimiser iterations of each map, which ends once its layout has settled (the window's iterations per turn)")
 	label := fs.String("label", "", "a categorical annotation column: also score how well the map's neighbours predict it")
+	mixing := fs.String("mixing", "", "a categorical column naming samples: also score how mixed they are in each map, and the --label column's types (default: the first --integrate column)")
 	out := fs.String("out", "", "folder to write into (created when missing): a layout CSV per map (attraction-V.csv, or tail-T.csv) and scores.csv")
 	fo := fidelityFlags(fs)
 	quiet := fs.Bool("quiet", false, "print no progress")
@@ -85,6 +88,18 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 	labels, err := labelCodes(a.Columns, *label)
 	if err != nil {
 		return err
+	}
+	// The samples' (and types') mixing in each map, as score scores it.
+	if in := a.Settings.Integrate; *mixing == "" && in.On() {
+		*mixing = in.Columns[0]
+	}
+	var mopt *quality.MixingOptions
+	if *mixing != "" {
+		o, err := pipeline.MixingLabels(a.Prepared, *mixing, *label, fo.mixingOptions(a.Settings.Seed, a.Settings.Threads))
+		if err != nil {
+			return err
+		}
+		mopt = &o
 	}
 
 	// The map the sweep starts from: the session's, or the window's first
@@ -152,6 +167,12 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 
 	rows := []string{scoresHeader}
 	fopt := fo.options(a.Settings, labels)
+	if mopt != nil {
+		rows[0] += ",sample_mixing"
+		if *label != "" {
+			rows[0] += ",type_mixing"
+		}
+	}
 	before := func(k int) {
 		b.report(fmt.Sprintf("map %d of %d (ρ=%s, α=%g)", k+1, len(points), formatAttraction(points[k].Attraction), points[k].Tail), 0, 1)
 	}
@@ -166,9 +187,20 @@ func runSweep(args []string, stdout, stderr io.Writer) error {
 		if !math.IsNaN(f.Labels) {
 			acc = strconv.FormatFloat(f.Labels, 'g', -1, 64)
 		}
-		rows = append(rows, strings.Join([]string{formatAttraction(m.Attraction), strconv.FormatFloat(m.Tail, 'g', -1, 64),
+		row := []string{formatAttraction(m.Attraction), strconv.FormatFloat(m.Tail, 'g', -1, 64),
 			strconv.FormatFloat(f.KNN, 'g', -1, 64), strconv.FormatFloat(f.Trust, 'g', -1, 64), acc,
-			strconv.FormatFloat(f.DCor, 'g', -1, 64)}, ","))
+			strconv.FormatFloat(f.DCor, 'g', -1, 64)}
+		if mopt != nil {
+			mx, err := quality.MapMixing(ctx, m.Layout, *mopt)
+			if err != nil {
+				return err
+			}
+			row = append(row, strconv.FormatFloat(mx.Batch, 'g', -1, 64))
+			if *label != "" {
+				row = append(row, strconv.FormatFloat(mx.Types, 'g', -1, 64))
+			}
+		}
+		rows = append(rows, strings.Join(row, ","))
 		return nil
 	})
 	if err != nil {
