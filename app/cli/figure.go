@@ -64,7 +64,7 @@ func runFigure(args []string, stdout, stderr io.Writer) error {
 		if len(mapOnly) > 0 {
 			return usagef("%s: these draw the map, not the expression plot", strings.Join(mapOnly, ", "))
 		}
-		return expressionFigure(sessionPath, expression, *by, out, format, *dpi, stdout, newBar(stderr, *quiet))
+		return expressionFigure(fs, sessionPath, expression, *by, out, format, *dpi, stdout, newBar(stderr, *quiet))
 	}
 	if *by != "" {
 		return usagef("--by goes with --expression; the map's paint is --paint")
@@ -162,11 +162,14 @@ func sessionPaint(s *session.Session, name string) (*paint.Paint, error) {
 // expressionFigure draws the expression plot of the markers in the table at
 // markersPath across the groups of the session's column (or its groups)
 // named by, as the window's Markers tab draws it.
-func expressionFigure(sessionPath, markersPath, by, out, format string, dpi float64, stdout io.Writer, b *bar) error {
+func expressionFigure(fs *flags, sessionPath, markersPath, by, out, format string, dpi float64, stdout io.Writer, b *bar) error {
 	defer b.finish()
 	s, err := session.Read(sessionPath)
 	if err != nil {
 		return usageError{err}
+	}
+	if err := fs.checkSession(s); err != nil {
+		return err
 	}
 	f, err := os.Open(markersPath)
 	if err != nil {
@@ -201,6 +204,9 @@ func expressionFigure(sessionPath, markersPath, by, out, format string, dpi floa
 		return fmt.Errorf("session %s: %w", sessionPath, err)
 	}
 	b.finish()
+	if err := fs.checkRead("the session's input file", p.Sources); err != nil {
+		return err
+	}
 	if p.Expression == nil {
 		return usagef("session %s: the atlas holds no expression values to plot", sessionPath)
 	}

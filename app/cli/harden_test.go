@@ -341,3 +341,45 @@ func TestDamagedSessionsAndAnnotationsAreNotSilent(t *testing.T) {
 		t.Fatalf("status %d, stderr %q", code, errs)
 	}
 }
+
+// TestOutputEqualToASessionInputIsRefused: a command that reads the inputs
+// of a session again never writes over one of them — a label file the
+// session names (refused before anything is read) or a file found in the
+// folder it was opened from (refused once it is found) — and the folder is
+// left as it was.
+func TestOutputEqualToASessionInputIsRefused(t *testing.T) {
+	dir := writeExample(t)
+	other := t.TempDir()
+	labels := filepath.Join(other, "cells-given.tsv")
+	cells, _ := os.ReadFile(filepath.Join(dir, "cells.tsv"))
+	os.WriteFile(labels, cells, 0o644)
+	folderSession := filepath.Join(other, "folder.lodestone")
+	labelSession := filepath.Join(other, "labels.lodestone")
+	mtx := filepath.Join(dir, "counts.mtx")
+	for _, args := range [][]string{
+		{"embed", "--in", dir, "--session", folderSession},
+		{"embed", "--in", mtx, "--cell-labels", labels, "--session", labelSession},
+	} {
+		if code, _, errs := run(t, append(args, append([]string{"--iterations", "30", "--quiet"}, smallFlags...)...)...); code != ExitOK {
+			t.Fatalf("%v: %s", args, errs)
+		}
+	}
+	genes := filepath.Join(dir, "genes.tsv")
+	for _, c := range []struct {
+		args []string
+		want []string
+	}{
+		{[]string{"recompute", "--session", folderSession, "--out", genes}, []string{"--out " + genes + " is the same file as the session's input file"}},
+		{[]string{"markers", "--session", folderSession, "--by", "state", "--group", "seedbed", "--out", genes}, []string{"--out " + genes + " is the same file as the session's input file"}},
+		{[]string{"recompute", "--session", labelSession, "--out", labels}, []string{"--out " + labels + " is the same file as the session's input file " + labels}},
+		{[]string{"markers", "--session", labelSession, "--by", "state", "--group", "seedbed", "--out", labels}, []string{"the session's input file " + labels}},
+	} {
+		wantRefused(t, dir, c.want, c.args...)
+		wantRefused(t, other, c.want, c.args...)
+	}
+	// A label file the session names is refused before the inputs are read.
+	_, _, errs := run(t, "recompute", "--session", labelSession, "--out", labels)
+	if strings.Count(errs, "\n") != 1 {
+		t.Errorf("the inputs were read before the refusal: %q", errs)
+	}
+}

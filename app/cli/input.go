@@ -121,11 +121,7 @@ func (f *inputFlags) load(ctx context.Context, b *bar) (*atlas.Dataset, error) {
 		}
 	}
 	if f.fs != nil {
-		read := make([]named, len(d.Sources))
-		for k, src := range d.Sources {
-			read[k] = named{"the input file", src}
-		}
-		if err := f.fs.checkPaths(read...); err != nil {
+		if err := f.fs.checkRead("the input file", d.Sources); err != nil {
 			return nil, err
 		}
 	}
@@ -511,6 +507,9 @@ func (f *atlasFlags) load(ctx context.Context, fs *flags, b *bar, full bool, che
 	if err != nil {
 		return nil, usageError{err}
 	}
+	if err := fs.checkSession(s); err != nil {
+		return nil, err
+	}
 	cols := restore.Annotations(s)
 	if err := check(cols, s); err != nil {
 		return nil, err
@@ -524,5 +523,8 @@ func (f *atlasFlags) load(ctx context.Context, fs *flags, b *bar, full bool, che
 		return nil, fmt.Errorf("session %s: %w", f.session, err)
 	}
 	b.finish()
+	if err := fs.checkRead("the session's input file", p.Sources); err != nil {
+		return nil, err
+	}
 	return &loaded{Prepared: p, Session: s, Columns: cols}, nil
 }

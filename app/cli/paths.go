@@ -1,12 +1,8 @@
 package cli
 
 import (
-	"errors"
 	"fmt"
 	"io"
-	"io/fs"
-	"os"
-	"path/filepath"
 
 	"lodestone/app/session"
 	"lodestone/internal/atomicfile"
@@ -59,9 +55,10 @@ func (f *flags) given() (ins, outs []named) {
 // folder, a file in a missing folder) and any output that is the same file
 // as an input, another output or a file in extra (what was read besides the
 // flags' paths, such as the files found in an atlas's folder). Files are
-// compared by device and inode, so that two spellings of one path, a
-// symbolic link and its target, or two hard links are the same file; an
-// output that does not exist yet is compared by its folder and name.
+// compared by device and inode (atomicfile.SameFile), so that two
+// spellings of one path, a symbolic link and its target, or two hard links
+// are the same file; an output that does not exist yet is compared by its
+// folder and name.
 func (f *flags) checkPaths(extra ...named) error {
 	ins, outs := f.given()
 	ins = append(ins, extra...)
@@ -70,12 +67,12 @@ func (f *flags) checkPaths(extra ...named) error {
 			return usageError{fmt.Errorf("%s: %w", o.from, err)}
 		}
 		for _, in := range ins {
-			if sameFile(o.path, in.path) {
+			if atomicfile.SameFile(o.path, in.path) {
 				return usagef("%s %s is the same file as %s %s: writing it would destroy what is read; choose another output", o.from, o.path, in.from, in.path)
 			}
 		}
 		for _, o2 := range outs[:k] {
-			if sameFile(o.path, o2.path) {
+			if atomicfile.SameFile(o.path, o2.path) {
 				return usagef("%s %s and %s %s are the same file: one would overwrite the other; choose two outputs", o2.from, o2.path, o.from, o.path)
 			}
 		}
@@ -83,35 +80,36 @@ func (f *flags) checkPaths(extra ...named) error {
 	return nil
 }
 
-// sameFile reports whether a and b name the same file: the same device and
-// inode when both exist (links followed), or, for a path that does not
-// exist yet, the same folder and name.
-func sameFile(a, b string) bool {
-	ia, ea := os.Stat(a)
-	ib, eb := os.Stat(b)
-	switch {
-	case ea == nil && eb == nil:
-		return os.SameFile(ia, ib)
-	case errors.Is(ea, fs.ErrNotExist) && errors.Is(eb, fs.ErrNotExist):
-		ta, tb := linkTarget(a), linkTarget(b)
-		if filepath.Base(ta) != filepath.Base(tb) {
-			return false
-		}
-		da, ea := os.Stat(filepath.Dir(ta))
-		db, eb := os.Stat(filepath.Dir(tb))
-		return ea == nil && eb == nil && os.SameFile(da, db)
+// checkRead refuses, as usage errors, an output that is the same file as
+// one of sources, the files an atlas was read from (pipeline.Prepared or
+// atlas.Dataset Sources: the files found in a folder among them), each
+// named as what in the message.
+func (f *flags) checkRead(what string, sources []string) error {
+	read := make([]named, len(sources))
+	for k, src := range sources {
+		read[k] = named{what, src}
 	}
-	return false
+	return f.checkPaths(read...)
 }
 
-// linkTarget returns the path a (possibly dangling) symbolic link leads to
-// in the end, or path itself.
-func linkTarget(path string) string {
-	o, err := atomicfile.Check(path)
-	if err != nil || o.Target == "" {
-		return path
+// checkSession refuses, as usage errors and before anything is read, an
+// output that is the same file as one a session names as its input: the
+// file or folder it was opened from, its label files and its annotation
+// table. The files found in a folder are known once they are read again;
+// commands check them with checkRead.
+func (f *flags) checkSession(s *session.Session) error {
+	var read []string
+	if s.OpenedPath != "" {
+		read = append(read, s.OpenedPath)
 	}
-	return o.Target
+	if r := s.Reading; r != nil {
+		for _, p := range []string{r.CellLabels, r.GeneLabels, r.Annotations} {
+			if p != "" {
+				read = append(read, p)
+			}
+		}
+	}
+	return f.checkRead("the session's input file", read)
 }
 
 // writeOutput writes the file of output flag name at path atomically (see

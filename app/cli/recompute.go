@@ -29,15 +29,21 @@ func runRecompute(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return usageError{err}
 	}
+	if err := fs.checkSession(s); err != nil {
+		return err
+	}
 	ctx, stop := interruptible()
 	defer stop()
 	b := newBar(stderr, *quiet)
 	defer b.finish()
-	_, layout, err := restore.Recompute(ctx, s, stageReporter(b))
+	p, layout, err := restore.Recompute(ctx, s, stageReporter(b))
 	if err != nil {
 		return fmt.Errorf("session %s: %w", sessionPath, err)
 	}
 	b.finish()
+	if err := fs.checkRead("the session's input file", p.Sources); err != nil {
+		return err
+	}
 	if err := writeLayout(b, out, s.CellIDs, layout); err != nil {
 		return err
 	}

@@ -234,7 +234,7 @@ func sweepOutputs(fs *flags, dir string, names []string, sources []string) error
 			return usageError{fmt.Errorf("--out: %w", err)}
 		}
 		for _, in := range read {
-			if sameFile(path, in.path) {
+			if atomicfile.SameFile(path, in.path) {
 				return usagef("--out %s would write %s, which is %s %s; choose another folder", dir, path, in.from, in.path)
 			}
 		}
