@@ -87,8 +87,28 @@ func Capture(m Map) *session.Session {
 		s.OpenedPath = abs
 	}
 	s.Inputs = m.Origin.Inputs
-	s.Reading = reading(m.Origin.Open)
+	s.Reading = reading(chosen(m.Origin.Open, p.Files))
 	return s
+}
+
+// chosen returns o with the files the reader found itself (f) filled in
+// where o names none: a session names every file it was read from, so that
+// files written beside the atlas later (a layout, a sweep's tables) cannot
+// make the folder ambiguous when the session is opened again.
+func chosen(o ingest.Options, f atlas.Files) ingest.Options {
+	if o.Cells == "" {
+		o.Cells = f.Cells
+	}
+	if o.Genes == "" {
+		o.Genes = f.Genes
+	}
+	if o.Annotations == "" {
+		o.Annotations = f.Annotations
+	}
+	if o.MatrixRows == ingest.RowsAuto {
+		o.MatrixRows = f.MatrixRows
+	}
+	return o
 }
 
 // header names a label file's header option as a session stores it.

@@ -3,6 +3,7 @@ package restore_test
 import (
 	"bytes"
 	"context"
+	"errors"
 	"math"
 	"path/filepath"
 	"reflect"
@@ -13,6 +14,7 @@ import (
 	"lodestone/app/restore"
 	"lodestone/app/session"
 	"lodestone/compute/atlas"
+	"lodestone/compute/ingest"
 	"lodestone/compute/neighbors"
 	"lodestone/compute/pipeline"
 	"lodestone/sampledata"
@@ -75,6 +77,31 @@ func TestRecomputeReproducesTheLayout(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "map"+session.Extension)
 	run(t, append([]string{"embed", "--in", dir, "--session", path, "--iterations", "200", "--attraction", "3"}, prepFlags...)...)
 	recomputeEqualsStored(t, path)
+}
+
+// TestSessionNamesTheFilesItWasReadFrom embeds a small atlas found in a
+// folder, then writes tables that name its cells into that folder (a layout
+// and a sweep's layouts, as users do): opening the folder alone is now
+// ambiguous, but the session names the label files, the annotation table and
+// the orientation the reader chose, and recomputes its layout bit for bit.
+func TestSessionNamesTheFilesItWasReadFrom(t *testing.T) {
+	dir := smallAtlas(t)
+	path := filepath.Join(t.TempDir(), "map"+session.Extension)
+	run(t, append([]string{"embed", "--in", dir, "--session", path, "--out", filepath.Join(dir, "layout.csv"), "--iterations", "200"}, prepFlags...)...)
+	run(t, append([]string{"embed", "--in", dir, "--meta", filepath.Join(dir, "annotations.tsv"), "--out", filepath.Join(dir, "other.csv"), "--iterations", "10"}, prepFlags...)...)
+	if _, err := ingest.Open(context.Background(), dir, ingest.Options{}); !errors.Is(err, ingest.ErrAmbiguous) {
+		t.Fatalf("the folder with two more tables naming cells opened with %v, want ErrAmbiguous", err)
+	}
+	s := recomputeEqualsStored(t, path)
+	r := s.Reading
+	if r == nil || r.CellLabels == "" || r.GeneLabels == "" || r.Annotations == "" || r.MatrixRows == "" {
+		t.Fatalf("the session names the files %+v", r)
+	}
+	for _, f := range []string{r.CellLabels, r.GeneLabels, r.Annotations} {
+		if !filepath.IsAbs(f) || filepath.Dir(f) != dir {
+			t.Errorf("file %q, want an absolute path in %s", f, dir)
+		}
+	}
 }
 
 // TestRecomputeReproducesASettledTurn turns the dial of a session's map as

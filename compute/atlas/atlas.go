@@ -144,6 +144,20 @@ type Dataset struct {
 	// the cells and which the genes, how the matrix was oriented, which
 	// first lines were taken for headers.
 	Notes []string
+	// Files says which file gave which part, whether it was named by the
+	// user or found beside the matrix.
+	Files Files
+}
+
+// Files says which file gave each part of a dataset read from files. A part
+// without a file of its own is empty.
+type Files struct {
+	Cells       string // the label file of the cells (Matrix Market input)
+	Genes       string // the label file of the genes (Matrix Market input)
+	Annotations string // the annotation table joined to the cells
+	// MatrixRows is "cells" when the Matrix Market file's rows are cells,
+	// "genes" when they are genes, empty for other inputs.
+	MatrixRows string
 }
 
 // JoinReport says how the rows of an annotation table matched the cells of a

@@ -705,7 +705,13 @@ func (pl *plan) load(ctx context.Context, opt Options) (*atlas.Dataset, error) {
 		total += fi.Size()
 	}
 	c := newByteCounter(opt.Progress, total)
-	ds := &atlas.Dataset{Name: pl.name, Sources: files}
+	ds := &atlas.Dataset{Name: pl.name, Sources: files, Files: atlas.Files{Annotations: pl.annotations}}
+	if pl.cells != nil {
+		ds.Files.Cells, ds.Files.Genes, ds.Files.MatrixRows = pl.cells.path, pl.genes.path, RowsCells
+		if pl.transpose {
+			ds.Files.MatrixRows = RowsGenes
+		}
+	}
 	if pl.table != "" {
 		if err := pl.loadTable(ctx, ds, c); err != nil {
 			return nil, err

@@ -144,7 +144,8 @@ func (s Settings) GraphK(n int) int {
 // cells that passed quality control.
 type Prepared struct {
 	Settings Settings
-	Sources  []string // the files the atlas was read from
+	Sources  []string    // the files the atlas was read from
+	Files    atlas.Files // which of them gave which part
 	// CellIDs and Annotations describe the kept cells, in the order of the
 	// rows of Features. Annotations holds the input's columns followed by
 	// the quality metrics of each cell when the input was counts.
@@ -229,7 +230,7 @@ func Features(ctx context.Context, d *atlas.Dataset, s Settings, report func(sta
 		return nil, fmt.Errorf("pipeline: %w: a map needs at least %d cells, and %s: with fewer, the perplexity (%g) would have to fall below %d, a third of each cell's %d neighbours",
 			ErrTooFewCells, MinCells, have, s.Perplexity, MinPerplexity, MinCells-1)
 	}
-	out := &Prepared{Settings: s, Sources: d.Sources, Prep: res, Features: res.Features, Notes: append([]string(nil), res.Notes...)}
+	out := &Prepared{Settings: s, Sources: d.Sources, Files: d.Files, Prep: res, Features: res.Features, Notes: append([]string(nil), res.Notes...)}
 	out.CellIDs = make([]string, len(res.Cells))
 	for i, c := range res.Cells {
 		out.CellIDs[i] = d.CellIDs[c]
