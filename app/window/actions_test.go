@@ -614,6 +614,20 @@ var viewButtons = []struct {
 			if !sameLayout(v.st.layout, s.results[1].Layout) || v.run.dial.Value != s.results[1].Attraction {
 				t.Error("the tapped map was not adopted")
 			}
+			// The same button stops a sweep in flight.
+			s.values.SetText("1, 2, 4, 8, 16, 32, inf")
+			test.Tap(s.run)
+			if !s.running() || s.run.Text != "Stop the sweep" {
+				t.Errorf("a second sweep: running %v, button %q", s.running(), s.run.Text)
+			}
+			test.Tap(s.run)
+		})
+		waitFor(t, "the sweep to stop", 30*time.Second, func() bool { return !v.sweep.running() })
+		onUI(func() {
+			s := v.sweep
+			if !strings.HasPrefix(s.info.Text, "sweep stopped after") || len(s.results) == 7 || s.run.Text != "Run the sweep" {
+				t.Errorf("after Stop the sweep: %d maps, info %q, button %q", len(s.results), s.info.Text, s.run.Text)
+			}
 			// A bad list of values is refused with a message.
 			s.values.SetText("1, lots")
 			test.Tap(s.run)
