@@ -93,7 +93,7 @@ test)
 	go test -count=1 -race -short ./compute/parallel/... ./app/live/... ./app/session/... ./canvas ./canvas/raster/... ./canvas/spatial/... ./internal/threadcpu
 	# The atlas view's background jobs, closed while each runs; the frames
 	# handed from the optimiser to the map.
-	go test -count=1 -race -short -run 'TestClosingTheViewEndsEveryJob|TestFidelityIsMarkedWhileTheMapMoves|TestRapidTurnsThroughTheFramePump|TestFramesArePaced|TestDialDragTurnsWhenTheNeedleRests' ./app/window
+	go test -count=1 -race -short -run 'TestClosingTheViewEndsEveryJob|TestClosingTheWindowStopsALoading|TestFidelityIsMarkedWhileTheMapMoves|TestRapidTurnsThroughTheFramePump|TestFramesArePaced|TestDialDragTurnsWhenTheNeedleRests' ./app/window
 	stage "fuzzing"
 	run_fuzz_briefly
 	# The Linux packages, installed in a scratch root and run; the Windows

@@ -136,3 +136,33 @@ func TestClosingTheViewEndsEveryJob(t *testing.T) {
 		})
 	}
 }
+
+// TestClosingTheWindowStopsALoading closes the window while the example
+// atlas loads: the loading stops, no atlas view opens afterwards, and no
+// goroutine is left.
+func TestClosingTheWindowStopsALoading(t *testing.T) {
+	u := newTestUI(t, chooserAnswering())
+	time.Sleep(50 * time.Millisecond)
+	before := runtime.NumGoroutine()
+	onUI(func() {
+		u.openExample()
+		if u.loadCancel == nil {
+			t.Fatal("the example atlas is not loading")
+		}
+		u.closeView()
+	})
+	waitFor(t, "the loading to stop", 30*time.Second, func() bool { return u.loadCancel == nil })
+	time.Sleep(100 * time.Millisecond)
+	onUI(func() {
+		if u.atlas != nil {
+			t.Error("an atlas view opened after the window closed")
+		}
+	})
+	deadline := time.Now().Add(5 * time.Second)
+	for runtime.NumGoroutine() > before && time.Now().Before(deadline) {
+		time.Sleep(20 * time.Millisecond)
+	}
+	if after := runtime.NumGoroutine(); after > before {
+		t.Errorf("%d goroutines before the loading, %d after the window closed", before, after)
+	}
+}

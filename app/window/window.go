@@ -96,8 +96,12 @@ func Run(opts Options) int {
 	return 0
 }
 
-// closeView stops the open atlas view's work (the view stays on screen).
+// closeView stops the open atlas view's work (the view stays on screen)
+// and a loading in flight.
 func (u *ui) closeView() {
+	if u.loadCancel != nil {
+		u.loadCancel()
+	}
 	if u.atlas != nil {
 		u.atlas.close()
 	}
