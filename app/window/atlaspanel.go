@@ -47,8 +47,8 @@ func atlasSummary(name string, d *atlas.Dataset, p *pipeline.Prepared) string {
 	if d.Table != nil {
 		kind = "numeric table"
 	}
-	fmt.Fprintf(&b, "- %d cells × %d %s (%s)\n", d.Cells(), d.Features(), map[bool]string{true: "features", false: "genes"}[d.Table != nil], kind)
-	fmt.Fprintf(&b, "- %d cells on the map\n", p.Cells())
+	fmt.Fprintf(&b, "- %s cells × %s %s (%s)\n", count(d.Cells()), count(d.Features()), map[bool]string{true: "features", false: "genes"}[d.Table != nil], kind)
+	fmt.Fprintf(&b, "- %s cells on the map\n", count(p.Cells()))
 	if len(d.Sources) > 0 {
 		fmt.Fprintf(&b, "- read from %s\n", strings.Join(d.Sources, ", "))
 	}
@@ -56,7 +56,7 @@ func atlasSummary(name string, d *atlas.Dataset, p *pipeline.Prepared) string {
 		fmt.Fprintf(&b, "- %s\n", n)
 	}
 	if j := d.Join; j != nil {
-		fmt.Fprintf(&b, "- annotations matched %d cells; %d cells had no row, %d rows named no cell", j.Matched, j.Unmatched, j.Extra)
+		fmt.Fprintf(&b, "- annotations matched %s cells; %s cells had no row, %s rows named no cell", count(j.Matched), count(j.Unmatched), count(j.Extra))
 		if j.DuplicatedCount > 0 {
 			fmt.Fprintf(&b, ", %d IDs were duplicated (first row kept)", j.DuplicatedCount)
 		}
@@ -79,11 +79,11 @@ func atlasSummary(name string, d *atlas.Dataset, p *pipeline.Prepared) string {
 	if r := p.Prep; r != nil {
 		if qc := r.QC; qc != nil {
 			b.WriteString("\n**Quality control**\n\n")
-			fmt.Fprintf(&b, "- kept %d of %d cells and %d of %d genes; %d mitochondrial genes\n",
-				qc.CellsKept, qc.Cells, qc.GenesKept, qc.Genes, qc.MitoGenes)
+			fmt.Fprintf(&b, "- kept %s of %s cells and %s of %s genes; %d mitochondrial genes\n",
+				count(qc.CellsKept), count(qc.Cells), count(qc.GenesKept), count(qc.Genes), qc.MitoGenes)
 			for _, f := range qc.Filters {
 				if f.Cells > 0 || f.Genes > 0 {
-					fmt.Fprintf(&b, "- %s: %d cells, %d genes removed\n", f.Name, f.Cells, f.Genes)
+					fmt.Fprintf(&b, "- %s: %s cells, %s genes removed\n", f.Name, count(f.Cells), count(f.Genes))
 				}
 			}
 		}
@@ -92,7 +92,7 @@ func atlasSummary(name string, d *atlas.Dataset, p *pipeline.Prepared) string {
 			if g.Batches > 0 {
 				within = fmt.Sprintf(" within each of %d samples of %s, combined", g.Batches, p.Settings.Integrate.Columns[0])
 			}
-			fmt.Fprintf(&b, "\n**Genes**: %d highly variable genes selected%s (normalised dispersion, Zheng et al. 2017)\n", len(g.Genes), within)
+			fmt.Fprintf(&b, "\n**Genes**: %s highly variable genes selected%s (normalised dispersion, Zheng et al. 2017)\n", count(len(g.Genes)), within)
 		}
 		if pca := r.PCA; pca != nil {
 			sum := 0.0
