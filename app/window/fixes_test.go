@@ -3,6 +3,7 @@ package window
 import (
 	"bytes"
 	"context"
+	"image"
 	"image/png"
 	"os"
 	"path/filepath"
@@ -12,6 +13,7 @@ import (
 	"time"
 
 	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/test"
 	"fyne.io/fyne/v2/widget"
 
@@ -334,6 +336,40 @@ func TestMenusShowShortcuts(t *testing.T) {
 			if !strings.Contains(text, "**"+keys+"**: "+strings.TrimSuffix(label, "…")) {
 				t.Errorf("Help ▸ Keyboard does not list %s for %s:\n%s", keys, label, text)
 			}
+		}
+	})
+}
+
+// TestTabsKeepTheirRoom checks the instrument column of a window of the
+// size it opens at (1280 × 800): the run's controls above the tabs leave
+// the Markers tab room for at least three rows of its table, and the Sweep
+// tab room for a whole map with its scores beside it. (With the grain
+// control on three rows, the table showed two rows and the sweep's maps
+// were cut above their scores.)
+func TestTabsKeepTheirRoom(t *testing.T) {
+	u := newTestUI(t, chooserAnswering())
+	v := openFixture(t, u)
+	rankMarkers(t, v, sampledata.ColumnDay, "day 2")
+	onUI(func() {
+		if s := u.win.Canvas().Size(); s.Width != 1280 || s.Height != 800 {
+			t.Fatalf("the window opened at %v", s)
+		}
+		v.reveal(tabMarkers)
+		rowH := widget.NewLabel("0").MinSize().Height
+		headH := widget.NewButton("0", nil).MinSize().Height
+		if rows := (v.markers.table.Size().Height - headH) / rowH; rows < 3 {
+			t.Errorf("the markers table shows %.1f rows", rows)
+		}
+		v.reveal(tabSweep)
+		var room fyne.Size
+		walk(v.sweep.box, func(o fyne.CanvasObject) {
+			if s, ok := o.(*container.Scroll); ok && s.Content == v.sweep.grid {
+				room = s.Size()
+			}
+		})
+		card := newThumbCard(image.NewRGBA(image.Rect(0, 0, 2, 2)), "attraction 1.0 · grain 1\nkept 0.42 · trust 0.925\ndCor 0.76 · labels 0.89\nsamples mixed 0.97\ntypes mixed 0.95", func() {})
+		if need := card.MinSize(); room.Height < need.Height || room.Width < need.Width {
+			t.Errorf("the sweep's maps have %v of room; a map with its scores needs %v", room, need)
 		}
 	})
 }

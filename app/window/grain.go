@@ -59,10 +59,11 @@ func newGrainControl(onSet func(tail float64)) *grainControl {
 	finer := widget.NewLabel("finer groups")
 	smoother := widget.NewLabel("smoother")
 	finer.Importance, smoother.Importance = widget.LowImportance, widget.LowImportance
+	// Two rows (title and value; the slider between its ends' words), so
+	// that the tabs below keep their room in a window 800 pixels high.
 	g.box = container.NewVBox(
 		container.NewBorder(nil, nil, title, g.value),
-		g.slider,
-		container.NewBorder(nil, nil, finer, smoother))
+		container.NewBorder(nil, nil, finer, smoother, g.slider))
 	return g
 }
 

@@ -112,7 +112,7 @@ func TestIntegrateTheSamples(t *testing.T) {
 	onUI(func() {
 		if len(v.sweep.results) != 1 || v.sweep.results[0].mixing == nil {
 			t.Errorf("%d sweep maps (want 1, with its mixing), info %q", len(v.sweep.results), v.sweep.info.Text)
-		} else if c := sweepCaption(v.sweep.results[0]); !regexp.MustCompile(`\nsamples mixed [0-9.]+ · types [0-9.]+$`).MatchString(c) {
+		} else if c := sweepCaption(v.sweep.results[0]); !regexp.MustCompile(`\nsamples mixed [0-9.]+\ntypes mixed [0-9.]+$`).MatchString(c) {
 			t.Errorf("sweep caption %q", c)
 		}
 	})

@@ -26,12 +26,10 @@ import (
 	"lodestone/compute/quality"
 )
 
-// sweepThumb is the size of a sweep map in logical pixels, and
-// captionLine the height of a line of its caption.
-const (
-	sweepThumb  = 150
-	captionLine = 24
-)
+// sweepThumb is the size of a sweep map in logical pixels. Each map has
+// its caption beside it, one map a row, so that a map and its scores are
+// seen together in the tab's room.
+const sweepThumb = 120
 
 const noLabel = "(none)"
 
@@ -93,7 +91,7 @@ func newSweepPanel(st *atlasState, jobs *viewJobs, errs errorShower, runs mapRun
 	s.info = widget.NewLabel("Maps at several values of the dial or of the grain, each continued from the one before, with their fidelity (and the samples' mixing once the Atlas tab names their column). Tap a map to adopt it.")
 	s.info.Wrapping = fyne.TextWrapWord
 	s.info.Importance = widget.LowImportance
-	s.grid = container.NewGridWrap(fyne.NewSize(sweepThumb, sweepThumb+3*captionLine))
+	s.grid = container.NewVBox()
 	form := container.New(layout.NewFormLayout(), widget.NewLabel("sweep the"), s.control, widget.NewLabel("values"), s.values,
 		widget.NewLabel("label accuracy of"), s.label)
 	s.box = container.NewBorder(container.NewVBox(form, s.run, s.info), nil, nil, nil, container.NewVScroll(s.grid))
@@ -237,11 +235,6 @@ func (s *sweepPanel) toggle() {
 		}
 		mixing = &mo
 	}
-	rows := 3
-	if mixing != nil {
-		rows++
-	}
-	s.grid.Layout = layout.NewGridWrapLayout(fyne.NewSize(sweepThumb, sweepThumb+float32(rows)*captionLine))
 	ctx, cancel := s.jobs.child()
 	s.cancel = cancel
 	s.run.SetText("Stop the sweep")
@@ -301,7 +294,7 @@ func sweepCaption(r sweepResult) string {
 	if m := r.mixing; m != nil {
 		text += fmt.Sprintf("\nsamples mixed %.2f", m.Batch)
 		if !math.IsNaN(m.Types) {
-			text += fmt.Sprintf(" · types %.2f", m.Types)
+			text += fmt.Sprintf("\ntypes mixed %.2f", m.Types)
 		}
 	}
 	return text
@@ -371,5 +364,5 @@ func (c *thumbCard) CreateRenderer() fyne.WidgetRenderer {
 	frame := fynecanvas.NewRectangle(color.Transparent)
 	frame.StrokeColor = theme.Color(theme.ColorNameInputBorder)
 	frame.StrokeWidth = 1
-	return widget.NewSimpleRenderer(container.NewBorder(nil, c.text, nil, nil, container.NewStack(frame, c.img)))
+	return widget.NewSimpleRenderer(container.NewBorder(nil, nil, container.NewStack(frame, c.img), nil, c.text))
 }
