@@ -141,8 +141,8 @@ func sameSweep(t *testing.T, results []sweepResult, out, tail string) {
 }
 
 // TestStatusLineMatchesTheScoreCommand saves the session of the first map
-// and scores it with the score command: the status line's kept neighbours
-// and trustworthiness are the command's numbers, rounded as the line
+// and scores it with the score command: the status line's kept neighbours,
+// trustworthiness and dCor are the command's numbers, rounded as the line
 // rounds them.
 func TestStatusLineMatchesTheScoreCommand(t *testing.T) {
 	u := newTestUI(t, chooserAnswering())
@@ -163,7 +163,7 @@ func TestStatusLineMatchesTheScoreCommand(t *testing.T) {
 		name, value, _ := strings.Cut(l, " ")
 		got[name], _ = strconv.ParseFloat(value, 64)
 	}
-	want := fmt.Sprintf("kept neighbours %.2f · trustworthiness %.3f", got["knn_preservation"], got["trustworthiness"])
+	want := fmt.Sprintf("kept neighbours %.2f · trustworthiness %.3f · dCor %.2f", got["knn_preservation"], got["trustworthiness"], got["distance_correlation"])
 	if !strings.Contains(line, want) {
 		t.Fatalf("the status line says %q; score gives %q", line, want)
 	}

@@ -2,10 +2,8 @@ package window
 
 import (
 	"bytes"
-	"fmt"
 	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -48,9 +46,8 @@ func TestBadFileShowsErrorAndKeepsTheWindow(t *testing.T) {
 }
 
 // TestOpenFolderTurnSaveAndReopen opens a small example folder through the
-// chooser, waits for the first map, turns the dial (the status line's
-// scores of the new map are those of `lodestone score`), saves a session,
-// and reopens it: the stored map comes back as it was.
+// chooser, waits for the first map, turns the dial, saves a session, and
+// reopens it: the stored map comes back as it was.
 func TestOpenFolderTurnSaveAndReopen(t *testing.T) {
 	if testing.Short() {
 		t.Skip("prepares and embeds an atlas of 1,000 cells")
@@ -78,7 +75,6 @@ func TestOpenFolderTurnSaveAndReopen(t *testing.T) {
 		v.run.dial.TypedKey(&fyne.KeyEvent{Name: fyne.KeyRight})
 	})
 	waitForRun(t, v, 2)
-	scoresAsTheCommandLine(t, v, dir)
 	ch.answer(path)
 	onUI(v.askSaveSession)
 	waitFor(t, "the saved session", 30*time.Second, func() bool { return strings.HasPrefix(v.st.note, "saved ") })
@@ -108,44 +104,4 @@ func TestOpenFolderTurnSaveAndReopen(t *testing.T) {
 		}
 	})
 	waitFor(t, "the atlas behind the session", 120*time.Second, func() bool { return w.st.ready })
-}
-
-// scoresAsTheCommandLine waits for the scores of the map on screen and
-// checks that `lodestone score` gives the status line's numbers for the
-// same atlas and layout (the same sample, seed and neighbourhood).
-func scoresAsTheCommandLine(t *testing.T, v *atlasView, atlasDir string) {
-	t.Helper()
-	waitFor(t, "the map's scores", 60*time.Second, func() bool { return v.st.scoresCurrent() })
-	layoutPath := filepath.Join(t.TempDir(), "layout.csv")
-	var shown string
-	onUI(func() {
-		shown = v.status.scores.Text
-		var b strings.Builder
-		b.WriteString("id,x,y\n")
-		for i, id := range v.st.prep.CellIDs {
-			x, y := v.st.layout[2*i], v.st.layout[2*i+1]
-			fmt.Fprintf(&b, "%s,%s,%s\n", id, strconv.FormatFloat(float64(x), 'g', -1, 32), strconv.FormatFloat(float64(y), 'g', -1, 32))
-		}
-		if err := os.WriteFile(layoutPath, []byte(b.String()), 0o644); err != nil {
-			t.Fatal(err)
-		}
-	})
-	var out, errs bytes.Buffer
-	if code := cli.Run([]string{"score", "--in", atlasDir, "--layout", layoutPath}, &out, &errs); code != 0 {
-		t.Fatalf("score: %s", errs.String())
-	}
-	got := map[string]float64{}
-	for _, line := range strings.Split(strings.TrimSpace(out.String()), "\n") {
-		var name string
-		var x float64
-		if _, err := fmt.Sscanf(line, "%s %g", &name, &x); err != nil {
-			t.Fatalf("score printed %q: %v", line, err)
-		}
-		got[name] = x
-	}
-	want := fmt.Sprintf("fidelity: kept neighbours %.2f · trustworthiness %.3f · dCor %.2f",
-		got["knn_preservation"], got["trustworthiness"], got["distance_correlation"])
-	if shown != want {
-		t.Errorf("the status line shows %q; lodestone score gives %q", shown, want)
-	}
 }
