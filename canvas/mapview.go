@@ -15,6 +15,8 @@ import (
 	"lodestone/canvas/raster"
 	"lodestone/canvas/spatial"
 	"lodestone/internal/threadcpu"
+
+	"lodestone/internal/order"
 )
 
 // Tool says what dragging on the map does.
@@ -357,51 +359,8 @@ func FitBox(layout []float32) (x0, x1, y0, y1 float64, ok bool) {
 func percentiles(s []float64, lo, hi float64) (float64, float64) {
 	at := func(p float64) int { return min(len(s)-1, int(p*float64(len(s)))) }
 	i, j := at(lo), at(hi)
-	a := selectNth(s, i)
-	return a, selectNth(s[i:], j-i)
-}
-
-// selectNth reorders s so that s[k] is the element a sort would put there,
-// with no larger element before it and no smaller one after, and returns
-// it (Hoare's selection, with the median of three as the pivot).
-func selectNth(s []float64, k int) float64 {
-	lo, hi := 0, len(s)-1
-	for hi > lo {
-		mid := lo + (hi-lo)/2
-		if s[mid] < s[lo] {
-			s[mid], s[lo] = s[lo], s[mid]
-		}
-		if s[hi] < s[lo] {
-			s[hi], s[lo] = s[lo], s[hi]
-		}
-		if s[hi] < s[mid] {
-			s[hi], s[mid] = s[mid], s[hi]
-		}
-		pivot := s[mid]
-		i, j := lo, hi
-		for i <= j {
-			for s[i] < pivot {
-				i++
-			}
-			for s[j] > pivot {
-				j--
-			}
-			if i <= j {
-				s[i], s[j] = s[j], s[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return s[k]
-		}
-	}
-	return s[k]
+	a := order.Nth(s, i)
+	return a, order.Nth(s[i:], j-i)
 }
 
 // follow moves the view towards the fitted view: at once when there is no

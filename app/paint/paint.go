@@ -18,6 +18,8 @@ import (
 	"lodestone/canvas/raster"
 	"lodestone/compute/atlas"
 	"lodestone/compute/sparse"
+
+	"lodestone/internal/order"
 )
 
 // Source says what colours the map.
@@ -160,54 +162,7 @@ func Quantile(values []float64, q float64) float64 {
 	}
 	s := append([]float64(nil), values...)
 	idx := int(math.Ceil(q*float64(len(s)))) - 1
-	return nth(s, max(0, min(len(s)-1, idx)))
-}
-
-// less orders float64 values as sort.Float64s does: NaN first.
-func less(a, b float64) bool { return a < b || (a != a && b == b) }
-
-// nth returns the k-th smallest value of s (from 0), reordering s.
-func nth(s []float64, k int) float64 {
-	lo, hi := 0, len(s)-1
-	for hi-lo > 16 {
-		// Median of three as the pivot, then Hoare's partition.
-		mid := int(uint(lo+hi) >> 1)
-		if less(s[mid], s[lo]) {
-			s[mid], s[lo] = s[lo], s[mid]
-		}
-		if less(s[hi], s[lo]) {
-			s[hi], s[lo] = s[lo], s[hi]
-		}
-		if less(s[hi], s[mid]) {
-			s[hi], s[mid] = s[mid], s[hi]
-		}
-		pivot := s[mid]
-		i, j := lo, hi
-		for i <= j {
-			for less(s[i], pivot) {
-				i++
-			}
-			for less(pivot, s[j]) {
-				j--
-			}
-			if i <= j {
-				s[i], s[j] = s[j], s[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return s[k]
-		}
-	}
-	sub := s[lo : hi+1]
-	sort.Float64s(sub)
-	return s[k]
+	return order.Nth(s, max(0, min(len(s)-1, idx)))
 }
 
 // GenePaint paints a gene's log-normalised expression from 0 to its 99th
