@@ -163,7 +163,7 @@ func TestStatusLineMatchesTheScoreCommand(t *testing.T) {
 		name, value, _ := strings.Cut(l, " ")
 		got[name], _ = strconv.ParseFloat(value, 64)
 	}
-	want := fmt.Sprintf("kept neighbours %.2f · trustworthiness %.3f · dCor %.2f", got["knn_preservation"], got["trustworthiness"], got["distance_correlation"])
+	want := fmt.Sprintf("kept neighbours %.3f · trustworthiness %.3f · dCor %.2f", got["knn_preservation"], got["trustworthiness"], got["distance_correlation"])
 	if !strings.Contains(line, want) {
 		t.Fatalf("the status line says %q; score gives %q", line, want)
 	}

@@ -170,7 +170,7 @@ func fidelityScore(ctx context.Context, p *pipeline.Prepared, layout []float32) 
 	if err != nil {
 		return "", err
 	}
-	return fmt.Sprintf("kept neighbours %.2f · trustworthiness %.3f · dCor %.2f", f.KNN, f.Trust, f.DCor), nil
+	return fmt.Sprintf("kept neighbours %.3f · trustworthiness %.3f · dCor %.2f", f.KNN, f.Trust, f.DCor), nil
 }
 
 // mapScorer scores the map on screen in the background whenever it stops

@@ -287,7 +287,7 @@ func settingText(attraction, tail float64) string {
 
 // sweepCaption writes a sweep map's setting and scores.
 func sweepCaption(r sweepResult) string {
-	text := fmt.Sprintf("%s\nkept %.2f · trust %.3f\ndCor %.2f", settingText(r.Attraction, r.Tail), r.scores.KNN, r.scores.Trust, r.scores.DCor)
+	text := fmt.Sprintf("%s\nkept %.3f · trust %.3f\ndCor %.2f", settingText(r.Attraction, r.Tail), r.scores.KNN, r.scores.Trust, r.scores.DCor)
 	if !math.IsNaN(r.scores.Labels) {
 		text += fmt.Sprintf(" · labels %.2f", r.scores.Labels)
 	}
