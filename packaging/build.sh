@@ -107,7 +107,7 @@ if $CHECK; then
 	need dpkg dpkg
 	need timeout coreutils
 fi
-[ -z "$MISSING" ] || die "missing tools; install the Debian packages:$MISSING (sh packaging/dev.sh test installs them)"
+[ -z "$MISSING" ] || die "missing tools; install the Debian packages:$MISSING (sh packaging/dev.sh test installs all but the Windows cross-compiler: sudo apt-get install gcc-mingw-w64-x86-64)"
 
 # ---- version --------------------------------------------------------------
 

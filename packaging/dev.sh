@@ -18,8 +18,9 @@ if [ "$(id -u)" -ne 0 ]; then SUDO=sudo; fi
 # file dialog link against.
 BUILD_PKGS="ca-certificates curl gcc libc6-dev make pkg-config libgl1-mesa-dev xorg-dev libgtk-3-dev"
 # Tests also need: Xvfb for the real-window test, the reference libraries the
-# numerical checks compare against, an SVG renderer, and the packaging tools.
-TEST_PKGS="xvfb x11-utils appstream imagemagick python3 python3-scipy python3-sklearn python3-networkx librsvg2-bin desktop-file-utils dpkg-dev fakeroot file xz-utils zip gcc-mingw-w64-x86-64"
+# numerical checks compare against, an SVG renderer, and the Linux packaging
+# tools (the full `build.sh --check` also needs gcc-mingw-w64-x86-64).
+TEST_PKGS="xvfb x11-utils appstream imagemagick python3 python3-scipy python3-sklearn python3-networkx librsvg2-bin desktop-file-utils dpkg-dev fakeroot file xz-utils zip"
 
 GO_VERSION=1.26.8
 
