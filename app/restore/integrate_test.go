@@ -36,15 +36,7 @@ func TestIntegrationSettingsRoundTrip(t *testing.T) {
 		Clusters: 40, Sigma: 0.2, Rounds: 7, Iterations: 15, Tolerance: 1e-3, PooledGenes: true}
 	p := &pipeline.Prepared{Settings: set, CellIDs: []string{"a", "b"}}
 	s := restore.Capture(restore.Map{Prepared: p, Origin: restore.Origin{Path: "x"}, Initial: []float32{0, 0, 1, 1}, Layout: []float32{0, 0, 1, 1}})
-	path := filepath.Join(t.TempDir(), "m"+session.Extension)
-	if err := session.Write(path, s); err != nil {
-		t.Fatal(err)
-	}
-	back, err := session.Read(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	got, err := restore.Pipeline(back.Settings)
+	got, err := restore.Pipeline(writeAndRead(t, s).Settings)
 	if err != nil {
 		t.Fatal(err)
 	}

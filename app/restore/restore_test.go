@@ -68,6 +68,20 @@ func recomputeEqualsStored(t *testing.T, path string) *session.Session {
 	return s
 }
 
+// writeAndRead writes s to a session file and reads it back.
+func writeAndRead(t *testing.T, s *session.Session) *session.Session {
+	t.Helper()
+	path := filepath.Join(t.TempDir(), "m"+session.Extension)
+	if err := session.Write(path, s); err != nil {
+		t.Fatal(err)
+	}
+	back, err := session.Read(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return back
+}
+
 // TestRecomputeReproducesTheLayout embeds a small example atlas with a
 // session, reads the session back and recomputes the layout from the
 // inputs: it must equal the stored layout bit for bit (same seed, thread
@@ -209,14 +223,7 @@ func TestCaptureRoundTrip(t *testing.T) {
 		{Example: &sampledata.Options{Cells: 500, Genes: 200, Seed: 4}},
 	} {
 		s := restore.Capture(restore.Map{Prepared: p, Origin: origin, Initial: initial, Layout: layout, Attraction: math.Inf(1), History: hist})
-		path := filepath.Join(t.TempDir(), "m"+session.Extension)
-		if err := session.Write(path, s); err != nil {
-			t.Fatal(err)
-		}
-		back, err := session.Read(path)
-		if err != nil {
-			t.Fatal(err)
-		}
+		back := writeAndRead(t, s)
 		got, err := restore.Pipeline(back.Settings)
 		if err != nil {
 			t.Fatal(err)
