@@ -33,18 +33,7 @@ func TestExampleCompactEqualsFloatPath(t *testing.T) {
 
 	// The float path.
 	counts := d.Counts.ToCSR()
-	norm, err := Normalize(ctx, counts.SelectRows(res.Cells).SelectCols(res.KeptGenes), opt.Target, 0, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	sel, err := SelectGenes(ctx, norm, opt.Genes, 0, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	p, err := RunPCA(ctx, norm.SelectCols(sel.Genes), opt.PCA)
-	if err != nil {
-		t.Fatal(err)
-	}
+	norm, sel, p := floatStages(t, ctx, counts, res, opt)
 
 	sameValues(t, res.Normalized, norm)
 	if !slices.Equal(res.Genes.Genes, sel.Genes) || !slices.Equal(res.Genes.Score, sel.Score) ||

@@ -162,6 +162,25 @@ func TestPrepareBadInput(t *testing.T) {
 	}
 }
 
+// floatStages runs normalisation, gene selection and PCA one after another
+// on the float matrix counts, for the cells and genes res kept.
+func floatStages(t *testing.T, ctx context.Context, counts *sparse.CSR, res *Result, opt Options) (*sparse.CSR, *GeneSelection, *PCA) {
+	t.Helper()
+	norm, err := Normalize(ctx, counts.SelectRows(res.Cells).SelectCols(res.KeptGenes), opt.Target, 0, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sel, err := SelectGenes(ctx, norm, opt.Genes, 0, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := RunPCA(ctx, norm.SelectCols(sel.Genes), opt.PCA)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return norm, sel, p
+}
+
 // sameValues checks that the view v holds exactly the non-zero entries of m,
 // bit for bit.
 func sameValues(t *testing.T, v *sparse.View, m *sparse.CSR) {
@@ -209,18 +228,7 @@ func TestPrepareRealValuesEqualsStages(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	norm, err := Normalize(ctx, counts.SelectRows(res.Cells).SelectCols(res.KeptGenes), opt.Target, 0, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	sel, err := SelectGenes(ctx, norm, opt.Genes, 0, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	p, err := RunPCA(ctx, norm.SelectCols(sel.Genes), opt.PCA)
-	if err != nil {
-		t.Fatal(err)
-	}
+	norm, sel, p := floatStages(t, ctx, counts, res, opt)
 	sameValues(t, res.Normalized, norm)
 	if !slices.Equal(res.Genes.Genes, sel.Genes) || !slices.Equal(res.Features.Data, p.Scores.Data) {
 		t.Fatal("gene selection or features differ from the stages")
