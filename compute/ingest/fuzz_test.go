@@ -208,7 +208,9 @@ func FuzzOpen(f *testing.F) {
 // FuzzLabelDiscovery fuzzes the label files beside a fixed 4 × 6 matrix
 // (genes × cells): three files whose names hint at their roles or not.
 // Open must not panic; when it succeeds, the cells and genes come from
-// files that list exactly 6 and 4 names, and no other plausible label file
+// files that list exactly 6 and 4 names — or 4 and 6 when the label files
+// say that the rows are cells (a file named for the cells listing 4 names),
+// a reading Open must state in its notes — and no other plausible label file
 // in the folder lists different names for the same dimension (a choice
 // between two plausible files is never made silently).
 func FuzzLabelDiscovery(f *testing.F) {
@@ -218,6 +220,7 @@ func FuzzLabelDiscovery(f *testing.F) {
 	f.Add([]byte(cellNames), []byte("# genes\n"+geneNames), []byte("cell\tsample\n"+cellNames))
 	f.Add([]byte(barcodes), []byte(geneLines), []byte("w x\nv\nu\nt\ns\nr\n"))
 	f.Add([]byte(barcodes), []byte(geneLines), []byte("\x00\n0\n0\n0\n"))
+	f.Add([]byte("0\n\x01\n2\n7"), []byte("0"), []byte("0\n0\n0\n0\n0\n0"))
 	mtx := mtxText(cellsByGenes, true)
 	f.Fuzz(func(t *testing.T, a, b, c []byte) {
 		dir := t.TempDir()
@@ -233,13 +236,20 @@ func FuzzLabelDiscovery(f *testing.F) {
 			checkErrorPosition(t, err)
 			return
 		}
-		if ds.Cells() != 6 || ds.Features() != 4 {
-			t.Fatalf("%d cells and %d genes from a 4 × 6 matrix", ds.Cells(), ds.Features())
+		cells, genes := ds.Cells(), ds.Features()
+		switch {
+		case cells == 6 && genes == 4:
+		case cells == 4 && genes == 6:
+			if !strings.Contains(strings.Join(ds.Notes, " "), "as cells × genes") {
+				t.Fatalf("read the 4 × 6 matrix's rows as cells without saying so: %q", ds.Notes)
+			}
+		default:
+			t.Fatalf("%d cells and %d genes from a 4 × 6 matrix", cells, genes)
 		}
 		for _, dim := range []struct {
 			ids []string
 			n   int
-		}{{ds.CellIDs, 6}, {ds.GeneIDs, 4}} {
+		}{{ds.CellIDs, cells}, {ds.GeneIDs, genes}} {
 			want := fmt.Sprint(sorted(dim.ids))
 			for n, data := range files {
 				p := &probe{path: filepath.Join(dir, n), first: firstLine(data)}
