@@ -25,7 +25,7 @@ func runMarkers(args []string, stdout, stderr io.Writer) error {
 	group := fs.String("group", "", "the cells whose markers are ranked: a value of --by, or a group of the session")
 	against := fs.String("against", "", "the cells they are compared with: another value or group (default: all other cells)")
 	var out string
-	fs.outputPath(&out, "out", "CSV file to write: gene,symbol,log2_fold,z,p,q,pct_in,pct_rest, one row per gene, by ascending p")
+	fs.outputPath(&out, "out", "CSV file to write: gene,symbol,log2_fold,z,p,q,pct_in,pct_rest, one row per gene, the most raised in the group first (descending z), as the Markers tab lists them")
 	quiet := fs.Bool("quiet", false, "print no progress")
 	if err := fs.parse(args); err != nil {
 		return err
@@ -85,16 +85,7 @@ func runMarkers(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	b.finish()
-	// By ascending p; ties keep Rank's order (descending z).
-	slices.SortStableFunc(res, func(x, y markers.Result) int {
-		switch {
-		case x.P < y.P:
-			return -1
-		case x.P > y.P:
-			return 1
-		}
-		return 0
-	})
+	// In Rank's order, as the Markers tab lists and saves them.
 	if err := writeOutput(b, "out", out, func(w io.Writer) error {
 		return tables.WriteMarkers(w, res, a.GeneIDs, a.GeneSymbols)
 	}); err != nil {

@@ -138,7 +138,7 @@ type scipyMarker struct {
 // (kind "a" against all other cells, and against kind "c") and checks every
 // gene against scipy's Mann–Whitney U test on expression that numpy
 // normalises from the counts: p, z, fold change and q to 1e-8, percentages
-// to 1e-10; rows sorted by p, every gene present, symbols as the label file
+// to 1e-10; rows in the Markers tab's order (descending z), every gene present, symbols as the label file
 // gives them.
 func TestMarkersAgainstScipy(t *testing.T) {
 	const cells, genes = 400, 60
@@ -204,8 +204,8 @@ func TestMarkersAgainstScipy(t *testing.T) {
 			if math.Abs(r.PercentIn-w.Pin) > 1e-10 || math.Abs(r.PercentRest-w.Prest) > 1e-10 {
 				t.Errorf("%s: %% in %v, rest %v; numpy %v, %v", tag, r.PercentIn, r.PercentRest, w.Pin, w.Prest)
 			}
-			if i > 0 && r.P < rows[i-1].P {
-				t.Errorf("row %d: p %v after %v: not sorted by p", i+2, r.P, rows[i-1].P)
+			if i > 0 && r.Z > rows[i-1].Z {
+				t.Errorf("row %d: z %v after %v: not sorted by descending z", i+2, r.Z, rows[i-1].Z)
 			}
 		}
 		if rows[0].Z < 5 || !strings.HasPrefix(rows[0].Gene, "G") {

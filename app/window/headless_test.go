@@ -168,3 +168,89 @@ func TestStatusLineMatchesTheScoreCommand(t *testing.T) {
 		t.Fatalf("the status line says %q; score gives %q", line, want)
 	}
 }
+
+// TestMarkersTabMatchesTheMarkersCommand ranks markers in the Markers tab
+// and saves the table, then runs the markers command on the same cells: a
+// day against another day, the command reading the atlas's files; a group
+// made in the window against all other cells, the command reading the saved
+// session. Both tables are the same bytes.
+func TestMarkersTabMatchesTheMarkersCommand(t *testing.T) {
+	ch := chooserAnswering()
+	u := newTestUI(t, ch)
+	v := openFixture(t, u)
+	tmp := t.TempDir()
+	saveTab := func(name string) []byte {
+		t.Helper()
+		path := filepath.Join(tmp, name)
+		ch.answer(path)
+		onUI(func() { test.Tap(v.markers.saveBtn) })
+		return waitForFile(t, path)
+	}
+	rank := func(source, which, against string) {
+		t.Helper()
+		onUI(func() {
+			v.reveal(tabMarkers)
+			v.markers.source.SetSelected(source)
+			v.markers.which.SetSelected(which)
+			v.markers.against.SetSelected(against)
+			test.Tap(v.markers.run)
+		})
+		waitFor(t, "the markers", 60*time.Second, func() bool {
+			return !v.markers.ranking && v.markers.compared == comparison{source, which, against}
+		})
+	}
+	command := func(args ...string) []byte {
+		t.Helper()
+		out := filepath.Join(tmp, fmt.Sprintf("command-%d.csv", len(args)))
+		var stdout, stderr bytes.Buffer
+		if code := cli.Run(append(append([]string{"markers"}, args...), "--out", out, "--quiet"), &stdout, &stderr); code != 0 {
+			t.Fatalf("markers %q: %s", args, stderr.String())
+		}
+		b, err := os.ReadFile(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return b
+	}
+
+	// A day against another day, from the atlas's files.
+	rank(sampledata.ColumnDay, "day 2", "day 4")
+	onUI(func() {
+		if c := v.markers.compared; c.against != "day 4" {
+			t.Fatalf("the tab compared %q", c.label())
+		}
+	})
+	tab := saveTab("tab-days.csv")
+	dir := t.TempDir()
+	var stdout, stderr bytes.Buffer
+	o := fixtureOptions
+	if code := cli.Run([]string{"example", "--out", dir, "--cells", strconv.Itoa(o.Cells), "--genes", strconv.Itoa(o.Genes),
+		"--seed", strconv.FormatInt(o.Seed, 10), "--quiet"}, &stdout, &stderr); code != 0 {
+		t.Fatalf("example: %s", stderr.String())
+	}
+	s := fixtureSettings()
+	cmd := command("--in", dir, "--matrix-rows", "cells", "--threads", strconv.Itoa(s.Threads),
+		"--by", sampledata.ColumnDay, "--group", "day 2", "--against", "day 4")
+	if !bytes.Equal(tab, cmd) {
+		t.Errorf("day 2 against day 4: the tab saved %d bytes, the command wrote %d bytes that differ", len(tab), len(cmd))
+	}
+
+	// A group made in the window against all other cells, from its session.
+	onUI(func() {
+		selectFirst(v, 80)
+		test.Tap(v.mapP.makeGroup)
+	})
+	path := filepath.Join(tmp, "grouped"+session.Extension)
+	onUI(func() { v.saveSession(path) })
+	waitFor(t, "the saved session", 30*time.Second, func() bool { _, err := os.Stat(path); return err == nil })
+	rank(groupsSource, "group 1", restChoice)
+	onUI(func() {
+		if c := v.markers.compared; c.against != restChoice {
+			t.Fatalf("the tab compared %q", c.label())
+		}
+	})
+	tab = saveTab("tab-group.csv")
+	if cmd := command("--session", path, "--group", "group 1"); !bytes.Equal(tab, cmd) {
+		t.Errorf("group 1 against all other cells: the tab saved %d bytes, the command wrote %d bytes that differ", len(tab), len(cmd))
+	}
+}
