@@ -35,6 +35,10 @@ func Main(args []string) int {
 		fmt.Fprintf(os.Stderr, "lodestone: %v; run \"lodestone help\" for the commands\n", err)
 		return cli.ExitUsage
 	}
+	if err := window.CheckDisplay(os.Getenv); err != nil {
+		fmt.Fprintf(os.Stderr, "lodestone: %v\n", err)
+		return 1
+	}
 	return window.Run(opts)
 }
 
