@@ -83,6 +83,11 @@ const (
 // whenever their number has grown fourfold, so memory stays within about
 // four times what the distinct entries need. Rows are then sorted by column on all cores.
 //
+// While counts stream in, the reader tallies each cell's total and each
+// gene's number of cells (sparse.Tally, 8 bytes per row and per column), so
+// that quality control and the normalisation need no pass over the entries
+// for them. Real values get no tally.
+//
 // To name both lines of a duplicate entry in a file whose entries are not
 // grouped by row, the input is read a second time; this needs r to be an
 // io.ReadSeeker (a file, a bytes.Reader), else the error names the
@@ -265,6 +270,12 @@ type mtxParser struct {
 
 	perRow []int64 // perRow[r+1] counts the entries of output row r
 
+	// The tally of counts as they arrive (nil once a value is not a
+	// count): per output row the sum of its counts below
+	// sparse.LargeMark, per output column the rows holding it.
+	rowSmall []int64
+	colRows  []int64
+
 	// While entries arrive grouped by row, each column remembers the last
 	// row that held it (plus one) and which entry that was, so that a
 	// duplicate is found at once.
@@ -310,6 +321,8 @@ func newParser(ctx context.Context, s *lineScanner, name string, h MatrixHeader,
 	}
 	p.wide = p.outCols > sparse.MaxCols16
 	p.perRow = make([]int64, p.outRows+1)
+	p.rowSmall = make([]int64, p.outRows)
+	p.colRows = make([]int64, p.outCols)
 	p.seenRow = make([]uint32, p.outCols)
 	p.seenAt = make([]int64, p.outCols)
 	return p
@@ -418,7 +431,10 @@ func (p *mtxParser) store(r, c int, v float32, line int) bool {
 		p.real[k] = v
 	case v < sparse.LargeMark && v == float32(int(v)):
 		p.small[k] = uint8(v)
+		p.rowSmall[r] += int64(v)
+		p.colRows[c]++
 	case sparse.IsCount(v):
+		p.colRows[c]++
 		p.small[k] = sparse.LargeMark
 		p.large = append(p.large, largeEntry{row: uint32(r), col: int32(c), k: k, v: v})
 	default:
@@ -444,6 +460,7 @@ func (p *mtxParser) toReal() {
 		real[e.k] = e.v
 	}
 	p.real, p.small, p.large = real, nil, nil
+	p.rowSmall, p.colRows = nil, nil
 }
 
 // unorder notes that the entries are not grouped by row: from now on each

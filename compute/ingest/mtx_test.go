@@ -267,8 +267,13 @@ func TestReadMatrixMarketRandomOrder(t *testing.T) {
 				if err != nil {
 					t.Fatal(err)
 				}
+				// Validate also checks the tally, gathered for counts,
+				// against the entries.
 				if err := m.Validate(); err != nil {
 					t.Fatal(err)
+				}
+				if (m.Tally != nil) != !m.IsReal() {
+					t.Fatalf("real values %v, tally %v", m.IsReal(), m.Tally != nil)
 				}
 				w := want
 				if tr {

@@ -10,6 +10,8 @@ import (
 	"slices"
 	"strings"
 	"testing"
+
+	"lodestone/compute/sparse"
 )
 
 // lineStream is an io.Reader that generates a Matrix Market text without
@@ -121,6 +123,8 @@ func TestReadMatrixMarketCountsAboveOneByte(t *testing.T) {
 	}
 	want := [][]float64{{254, 255, 0, 65536}, {float64(float32(16777217)), 1, float64(float32(1e10)), 3}}
 	float32Equal(t, dense(m), want)
+	// The tally gathered while reading: row totals and rows per column.
+	checkTally(t, m, []float64{254 + 255 + 65536, 1 + 3 + 16777216 + 1e10}, []int64{2, 2, 1, 2})
 	if m.IsReal() || len(m.LargeAt) != 4 || m.Bytes() != 3*8+7*3+4*12 {
 		t.Errorf("real %v, %d large counts, %d bytes", m.IsReal(), len(m.LargeAt), m.Bytes())
 	}
@@ -137,6 +141,16 @@ func TestReadMatrixMarketCountsAboveOneByte(t *testing.T) {
 		t.Fatal(err)
 	}
 	float32Equal(t, dense(back), transposeDense(want))
+	checkTally(t, back, []float64{254 + 16777216, 255 + 1, 1e10, 65536 + 3}, []int64{3, 4})
+}
+
+// checkTally fails t unless m's tally holds the given row totals and rows per
+// column.
+func checkTally(t *testing.T, m *sparse.Counts, rowTotal []float64, colRows []int64) {
+	t.Helper()
+	if m.Tally == nil || !slices.Equal(m.Tally.RowTotal, rowTotal) || !slices.Equal(m.Tally.ColRows, colRows) {
+		t.Errorf("tally %+v, want row totals %v and column rows %v", m.Tally, rowTotal, colRows)
+	}
 }
 
 func TestReadMatrixMarketRealValues(t *testing.T) {
@@ -159,7 +173,7 @@ func TestReadMatrixMarketRealValues(t *testing.T) {
 		if err := m.Validate(); err != nil {
 			t.Fatal(err)
 		}
-		if !m.IsReal() || m.Bytes() != 4*8+4*6 {
+		if !m.IsReal() || m.Tally != nil || m.Bytes() != 4*8+4*6 {
 			t.Errorf("real %v, %d bytes", m.IsReal(), m.Bytes())
 		}
 		float32Equal(t, dense(m), [][]float64{{3, 0, 0}, {0, 1000, 0}, {2, 0, 0.25}})

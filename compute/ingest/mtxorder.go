@@ -44,11 +44,18 @@ func (p *mtxParser) assemble() (*sparse.Counts, error) {
 		return m, nil
 	}
 	m.Small = p.small[:n]
+	m.Tally = &sparse.Tally{RowTotal: make([]float64, p.outRows), ColRows: p.colRows}
+	for r, s := range p.rowSmall {
+		m.Tally.RowTotal[r] = float64(s)
+	}
+	p.rowSmall = nil
 	if len(p.large) > 0 {
 		m.LargeAt = make([]int64, len(p.large))
 		m.LargeVal = make([]float32, len(p.large))
 		for t, e := range p.large {
 			m.LargeAt[t], m.LargeVal[t] = e.k, e.v
+			// In position order: each row's large counts in column order.
+			m.Tally.RowTotal[e.row] += float64(e.v)
 		}
 	}
 	return m, nil

@@ -206,9 +206,8 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 	nb := sp.blocks()
 	lin := newLinearRows(norm, nb)
 	type acc struct {
-		sum, sq  []float64
-		lo, hi   []float64
-		count    []int64
+		col      []geneSums // per column; one cache line holds a column's sums
+		sq       []float64
 		bad      *Error
 		prepared bool
 	}
@@ -222,13 +221,13 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 			return
 		}
 		if !a.prepared {
-			a.sum, a.count = make([]float64, g), make([]int64, g)
-			a.lo, a.hi = make([]float64, g), make([]float64, g)
-			for j := range g {
-				a.lo[j], a.hi[j] = math.Inf(1), math.Inf(-1)
+			a.col = make([]geneSums, g)
+			for j := range a.col {
+				a.col[j].lo, a.col[j].hi = math.Inf(1), math.Inf(-1)
 			}
 			a.prepared = true
 		}
+		col := a.col
 		for i := lo; i < hi; i++ {
 			cols, xs := lin.row(i, b)
 			for k, x := range xs {
@@ -237,10 +236,15 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 					a.bad = checkCount(stage, i, int(j), x)
 					return
 				}
-				a.sum[j] += x
-				a.count[j]++
-				a.lo[j] = min(a.lo[j], x)
-				a.hi[j] = max(a.hi[j], x)
+				c := &col[j]
+				c.sum += x
+				c.count++
+				if x < c.lo {
+					c.lo = x
+				}
+				if x > c.hi {
+					c.hi = x
+				}
 			}
 		}
 		counter.Add(int64(hi - lo))
@@ -263,9 +267,10 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 			if !a.prepared {
 				continue
 			}
-			sum += a.sum[j]
-			count += a.count[j]
-			lo, hi = min(lo, a.lo[j]), max(hi, a.hi[j])
+			c := &a.col[j]
+			sum += c.sum
+			count += c.count
+			lo, hi = min(lo, c.lo), max(hi, c.hi)
 		}
 		st.mean[j] = sum / float64(n)
 		switch {
@@ -280,17 +285,19 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 	}
 
 	counter = s.pass(1, n)
+	mean := st.mean
 	err = sp.run(ctx, func(lo, hi, b int) {
 		a := &accs[b]
 		if a.sq == nil {
 			a.sq = make([]float64, g)
 		}
+		sq := a.sq
 		for i := lo; i < hi; i++ {
 			cols, xs := lin.row(i, b)
 			for k, x := range xs {
 				j := cols[k]
-				d := x - st.mean[j]
-				a.sq[j] += d * d
+				d := x - mean[j]
+				sq[j] += d * d
 			}
 		}
 		counter.Add(int64(hi - lo))
@@ -308,7 +315,7 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 		for b := range accs {
 			if accs[b].sq != nil {
 				sq += accs[b].sq[j]
-				count += accs[b].count[j]
+				count += accs[b].col[j].count
 			}
 		}
 		mu := st.mean[j]
@@ -316,4 +323,11 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 		st.variance[j] = sq / float64(n-1)
 	}
 	return st, nil
+}
+
+// geneSums holds one block's first-pass sums of one column: the sum and
+// number of its stored values and their least and greatest.
+type geneSums struct {
+	sum, lo, hi float64
+	count       int64
 }

@@ -89,7 +89,10 @@ func Normalize(ctx context.Context, counts *sparse.CSR, target float64, threads 
 //
 // as it is read, with the row sum taken over the stored entries of row i of
 // v, in column order, in float64, exactly as Normalize takes it. A row
-// without counts stays zero. The result shares v's indices.
+// without counts stays zero. The result shares v's indices. For counts with
+// 16-bit columns and a sparse.Tally, the sum is the row's tallied total less
+// its counts in the columns v leaves out: whole numbers, so the same float64
+// while the total is at most sparse.MaxExact (rows above it are summed).
 //
 // Values must be finite and non-negative and target a finite number above
 // zero; otherwise NormalizeView returns an *Error naming the first bad entry
@@ -109,12 +112,25 @@ func NormalizeView(ctx context.Context, v *sparse.View, target float64, threads 
 	bad := make([]*Error, sp.blocks())
 	bufs := newRowBuffers(sp.blocks())
 	src := viewSource{v}
+	// Counts with 16-bit columns and a tally: a row's total over the view's
+	// columns is its tallied total less its counts in the columns left out.
+	x, rows, _ := v.Source()
+	tallied := x.Tally != nil && x.Real == nil && x.Col32 == nil && len(x.Tally.RowTotal) == x.Rows
+	colOf := v.ColumnMap()
 	counter := progress.NewCounter(prog, int64(n), int64(n/100))
 	err := sp.run(ctx, func(lo, hi, b int) {
 		if bad[b] != nil {
 			return
 		}
 		for i := lo; i < hi; i++ {
+			if tallied {
+				if total, ok := keptTotal(x, rows[i], colOf); ok {
+					if total > 0 {
+						scale[i] = target / total
+					}
+					continue
+				}
+			}
 			cols, vals := bufs.row(src, i, b)
 			var total float64
 			for k, x := range vals {
@@ -138,4 +154,35 @@ func NormalizeView(ctx context.Context, v *sparse.View, target float64, threads 
 	}
 	counter.Finish()
 	return v.WithScale(scale)
+}
+
+// keptTotal returns the sum of the counts of row r of x (counts with 16-bit
+// columns and a tally) in the columns whose colOf is not negative (all when
+// colOf is nil): the tallied total less the counts left out. It returns
+// false when the total exceeds sparse.MaxExact; below, every sum of the
+// row's counts is exact, so the result equals a float64 sum of the kept
+// counts in any order.
+func keptTotal(x *sparse.Counts, r int, colOf []int32) (float64, bool) {
+	total := x.Tally.RowTotal[r]
+	if !(total <= sparse.MaxExact) {
+		return 0, false
+	}
+	if colOf == nil {
+		return total, true
+	}
+	lo, hi := x.RowPtr[r], x.RowPtr[r+1]
+	small := x.Small[lo:hi]
+	var out int64
+	var large float64
+	for k, c := range x.Col16[lo:hi] {
+		if colOf[c] >= 0 {
+			continue
+		}
+		if s := small[k]; s != sparse.LargeMark {
+			out += int64(s)
+		} else {
+			large += float64(x.Value(lo + int64(k)))
+		}
+	}
+	return total - float64(out) - large, true
 }

@@ -136,6 +136,13 @@ const (
 // mitochondrial when IsMitochondrial accepts its symbol (GeneSymbols, or
 // GeneIDs when there are no symbols).
 //
+// Counts with 16-bit columns and a sparse.Tally (gathered as the file was
+// read) are not read again for the totals and the rows per gene: QC looks up
+// only the mitochondrial genes of each cell, and counts the genes of the
+// cells the cell filters removed when they are fewer than those kept. The
+// results equal those of reading every entry, bit for bit. (Column indices
+// are then trusted as the builder checked them.)
+//
 // QC returns the indices of the kept cells and genes, both ascending, and the
 // report. Counts must be finite and non-negative; the first bad entry in row
 // order is reported as an *Error. When no cell or no gene is left, QC returns
@@ -172,6 +179,21 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 	}
 	threads := parallel.Threads(opt.Threads)
 	prog := steps{f: opt.Progress, n: 3}
+	// Counts with 16-bit columns and a tally have their totals and their
+	// rows per gene counted already: QC reads only the mitochondrial
+	// genes of each row, and the removed cells' genes.
+	tally := m.Tally
+	if m.Real != nil || m.Col32 != nil || tally != nil && (len(tally.RowTotal) != m.Rows || len(tally.ColRows) != m.Cols) {
+		tally = nil
+	}
+	var mitoCols []uint16
+	if tally != nil {
+		for j, mt := range mito {
+			if mt {
+				mitoCols = append(mitoCols, uint16(j))
+			}
+		}
+	}
 
 	// Pass 1: per-cell metrics and the cell filters.
 	n := m.Rows
@@ -192,6 +214,19 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 		for i := lo; i < hi; i++ {
 			var total, mt float64
 			detected := 0
+			if tally != nil {
+				total := tally.RowTotal[i]
+				detected := int(m.RowPtr[i+1] - m.RowPtr[i])
+				frac := 0.0
+				if total > 0 && len(mitoCols) > 0 {
+					frac = maskedSum(m, i, mitoCols) / total
+				}
+				rep.All.TotalCounts[i] = float32(total)
+				rep.All.DetectedGenes[i] = float32(detected)
+				rep.All.MitoFraction[i] = float32(frac)
+				reason[i] = cellReason(&opt, total, detected, frac)
+				continue
+			}
 			if m.Real == nil && m.Col32 == nil {
 				// Counts with 16-bit columns, read where they are
 				// stored: every one is positive, and their sums are
@@ -257,8 +292,23 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 		}
 	}
 	rep.GeneCells = make([]int32, m.Cols)
-	counter = prog.pass(1, len(kept))
-	kb := evenSplit(len(kept), threads, chunkRows)
+	// With a tally, the genes of the removed cells are taken off the rows
+	// per gene when they are fewer than the kept cells: integers, the same
+	// counts either way.
+	count, sign := kept, int32(1)
+	if tally != nil && n-len(kept) < len(kept) {
+		count, sign = make([]int, 0, n-len(kept)), -1
+		for i, r := range reason {
+			if r != keepCell {
+				count = append(count, i)
+			}
+		}
+		for j, c := range tally.ColRows {
+			rep.GeneCells[j] = int32(c)
+		}
+	}
+	counter = prog.pass(1, len(count))
+	kb := evenSplit(len(count), threads, chunkRows)
 	partial := make([][]int32, kb.blocks())
 	kbufs := newRowBuffers(kb.blocks())
 	err = kb.run(ctx, func(lo, hi, b int) {
@@ -266,7 +316,7 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 			partial[b] = make([]int32, m.Cols)
 		}
 		acc := partial[b]
-		for _, i := range kept[lo:hi] {
+		for _, i := range count[lo:hi] {
 			if m.Col32 == nil {
 				// Pass 1 has checked that every stored value is
 				// positive.
@@ -289,7 +339,7 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 	}
 	for _, acc := range partial {
 		for j, c := range acc {
-			rep.GeneCells[j] += c
+			rep.GeneCells[j] += sign * c
 		}
 	}
 	var geneEmpty, geneRare int
@@ -308,6 +358,8 @@ func QC(ctx context.Context, d *atlas.Dataset, opt QCOptions) (keepCells, keepGe
 
 	// Pass 3: cells left without counts in the kept genes.
 	counter = prog.pass(2, len(kept))
+	kb = evenSplit(len(kept), threads, chunkRows)
+	kbufs = newRowBuffers(kb.blocks())
 	err = kb.run(ctx, func(lo, hi, b int) {
 		for _, i := range kept[lo:hi] {
 			empty := true
@@ -422,6 +474,38 @@ func countSums(m *sparse.Counts, i int, mito []bool) (total, masked float64, ok 
 		}
 	}
 	return total, masked, true
+}
+
+// maskedSum returns the sum of the counts of row i of m (counts with 16-bit
+// columns) in the columns cols (ascending), found by search: as countSums
+// sums them, those below sparse.LargeMark as integers, then the large ones
+// in column order.
+func maskedSum(m *sparse.Counts, i int, cols []uint16) float64 {
+	lo, hi := m.RowPtr[i], m.RowPtr[i+1]
+	row := m.Col16[lo:hi]
+	n := uint64(len(row))
+	var part int64
+	large := false
+	for _, c := range cols {
+		k := sparse.SearchFrom16(row, c, int(uint64(c)*n/uint64(max(1, m.Cols))))
+		if k < 0 {
+			continue
+		}
+		if s := m.Small[lo+int64(k)]; s != sparse.LargeMark {
+			part += int64(s)
+		} else {
+			large = true
+		}
+	}
+	sum := float64(part)
+	if large {
+		for _, c := range cols {
+			if k := sparse.SearchFrom16(row, c, int(uint64(c)*n/uint64(max(1, m.Cols)))); k >= 0 && m.Small[lo+int64(k)] == sparse.LargeMark {
+				sum += float64(m.Value(lo + int64(k)))
+			}
+		}
+	}
+	return sum
 }
 
 // cellReason returns the first cell filter of opt that removes a cell with

@@ -3,8 +3,10 @@ package prep
 import (
 	"context"
 	"errors"
+	"fmt"
 	"lodestone/compute/synth"
 	"math"
+	"reflect"
 	"slices"
 	"testing"
 
@@ -279,5 +281,81 @@ func TestNormalizeBadInput(t *testing.T) {
 	var e *Error
 	if !errors.As(err, &e) || !errors.Is(err, ErrNotFinite) || e.Row != 1 || e.Col != int(counts.ColIdx[4]) {
 		t.Errorf("NaN: got %v", err)
+	}
+}
+
+// QC and the normalisation read the tally gathered while the counts were
+// built; without one they read the entries. Both ways give the same report,
+// kept cells and genes, and factors, bit for bit: with large counts and
+// mitochondrial genes, whether QC keeps most cells (the removed cells'
+// genes are then taken off the tally) or few.
+func TestTallyEqualsEntries(t *testing.T) {
+	counts := synth.Counts(600, 150, 30, 5)
+	for k := range counts.Val {
+		if k%97 == 0 {
+			counts.Val[k] = float32(300 + k)
+		}
+	}
+	// Genes 140 … 149 are detected in the first 20 cells only: QC removes
+	// them, and the factors leave their counts out.
+	for i := 20; i < counts.Rows; i++ {
+		for k := counts.RowPtr[i]; k < counts.RowPtr[i+1]; k++ {
+			if counts.ColIdx[k] >= 140 {
+				counts.Val[k] = 0
+			}
+		}
+	}
+	symbols := make([]string, counts.Cols)
+	for j := range symbols {
+		symbols[j] = fmt.Sprintf("G%d", j)
+		if j%13 == 0 {
+			symbols[j] = "MT-" + symbols[j]
+		}
+	}
+	tallied := sparse.FromCSR(counts)
+	if tallied.Tally == nil || len(tallied.LargeAt) == 0 {
+		t.Fatal("the test matrix should have a tally and large counts")
+	}
+	plain := *tallied
+	plain.Tally = nil
+	ctx := context.Background()
+	opt := QCOptions{MinGenes: 20, MinCells: 40, MaxMitoFraction: 0.5}
+	_, _, first, err := QC(ctx, &atlas.Dataset{Counts: tallied, GeneSymbols: symbols}, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	totals := slices.Clone(first.All.TotalCounts)
+	slices.Sort(totals)
+	few := opt
+	few.MinCounts = float64(totals[len(totals)*3/4])
+	for _, o := range []QCOptions{opt, few} {
+		cells, genes, rep, err := QC(ctx, &atlas.Dataset{Counts: tallied, GeneSymbols: symbols}, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		wantCells, wantGenes, want, err := QC(ctx, &atlas.Dataset{Counts: &plain, GeneSymbols: symbols}, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !slices.Equal(cells, wantCells) || !slices.Equal(genes, wantGenes) || !reflect.DeepEqual(rep, want) {
+			t.Fatalf("MinCounts %v: QC with the tally differs from QC of the entries", o.MinCounts)
+		}
+		if len(genes) == counts.Cols || (o.MinCounts > 0) != (2*len(cells) < counts.Rows) {
+			t.Fatalf("MinCounts %v keeps %d of %d cells and %d of %d genes", o.MinCounts, len(cells), counts.Rows, len(genes), counts.Cols)
+		}
+		scales := make([][]float64, 2)
+		for k, m := range []*sparse.Counts{tallied, &plain} {
+			v, err := sparse.NewView(m, cells, genes, 0)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if v, err = NormalizeView(ctx, v, DefaultTarget, 0, nil); err != nil {
+				t.Fatal(err)
+			}
+			scales[k] = v.Scale()
+		}
+		if !slices.Equal(scales[0], scales[1]) {
+			t.Errorf("MinCounts %v: the factors from the tally differ from those of the entries", o.MinCounts)
+		}
 	}
 }

@@ -73,14 +73,31 @@ type linearRows struct {
 	src  source
 	bufs *rowBuffers
 	xs   [][]float64
+
+	// For a log-normalised view of counts with 16-bit columns: the
+	// matrix, the view's rows, its column map (nil: all columns) and
+	// factors. x is nil otherwise.
+	x     *sparse.Counts
+	rows  []int
+	colOf []int32
+	scale []float64
 }
 
 func newLinearRows(src source, blocks int) *linearRows {
-	return &linearRows{src: src, bufs: newRowBuffers(blocks), xs: make([][]float64, blocks)}
+	l := &linearRows{src: src, bufs: newRowBuffers(blocks), xs: make([][]float64, blocks)}
+	if v, ok := src.(viewSource); ok && v.v.Normalized() {
+		if x, rows, _ := v.v.Source(); !x.IsReal() && x.Col32 == nil {
+			l.x, l.rows, l.colOf, l.scale = x, rows, v.v.ColumnMap(), v.v.Scale()
+		}
+	}
+	return l
 }
 
 // row returns the columns of row i and exp(y)−1 of their values.
 func (l *linearRows) row(i, b int) ([]int32, []float64) {
+	if l.x != nil {
+		return l.countsRow(i, b)
+	}
 	v, counts := l.src.(viewSource)
 	counts = counts && v.v.Normalized()
 	if counts {
@@ -120,4 +137,53 @@ func (l *linearRows) row(i, b int) ([]int32, []float64) {
 		}
 	}
 	return cols, xs
+}
+
+// countsRow is row for a log-normalised view of counts with 16-bit
+// columns, read straight from the matrix's arrays: each stored count goes
+// through its column map and a table of exp(y)−1 of the counts below
+// sparse.LargeMark met in the row, each computed once per row by the same
+// float64 operations on the same float32 y as the general path.
+func (l *linearRows) countsRow(i, b int) ([]int32, []float64) {
+	x := l.x
+	r := l.rows[i]
+	lo, hi := x.RowPtr[r], x.RowPtr[r+1]
+	n := int(hi - lo)
+	cols := slices.Grow(l.bufs.cols[b][:0], n)[:n]
+	xs := slices.Grow(l.xs[b][:0], n)[:n]
+	l.bufs.cols[b], l.xs[b] = cols, xs
+	scale := l.scale[i]
+	var tab [sparse.LargeMark]float64 // 0 until computed
+	small := x.Small[lo:hi]
+	colOf := l.colOf
+	large := -1
+	w := 0
+	for k, c := range x.Col16[lo:hi] {
+		s := small[k]
+		j := int32(c)
+		if colOf != nil {
+			if j = colOf[c]; j < 0 {
+				if s == sparse.LargeMark && large >= 0 {
+					large++
+				}
+				continue
+			}
+		}
+		var v float64
+		if s != sparse.LargeMark {
+			if v = tab[s]; v == 0 {
+				v = math.Expm1(float64(sparse.LogNorm(float32(s), scale)))
+				tab[s] = v
+			}
+		} else {
+			if large < 0 {
+				large = x.LargeIndex(lo + int64(k))
+			}
+			v = math.Expm1(float64(sparse.LogNorm(x.LargeVal[large], scale)))
+			large++
+		}
+		cols[w], xs[w] = j, v
+		w++
+	}
+	return cols[:w], xs[:w]
 }

@@ -49,6 +49,53 @@ type Counts struct {
 	LargeAt    []int64   // ascending positions of the entries marked LargeMark
 	LargeVal   []float32 // their values
 	Real       []float32 // the values, when they are not all counts
+
+	// Tally, when not nil, holds sums gathered while the matrix was built
+	// (CountsBuilder, the Matrix Market reader), so that no later stage
+	// needs a pass over the entries for them. It is nil for real values
+	// and for matrices made otherwise.
+	Tally *Tally
+}
+
+// Tally holds statistics of a Counts matrix of counts (not real values),
+// gathered as its entries arrive.
+type Tally struct {
+	// RowTotal[i] is the sum of the counts of row i, taken as
+	//
+	//	float64(Σ counts below LargeMark, summed as integers) + LargeVal …
+	//
+	// with the large counts added in column order. Every count is an
+	// integer, so a total of at most 2^53 is exact and equals a float64
+	// sum of the row in any order.
+	RowTotal []float64
+	// ColRows[j] is the number of rows that hold an entry in column j.
+	ColRows []int64
+}
+
+// MaxExact is the largest total of whole numbers that float64 sums
+// exactly in any order (2^53).
+const MaxExact = 1 << 53
+
+// tally returns the Tally of the counts of m, computed from its entries.
+func (m *Counts) tally() *Tally {
+	t := &Tally{RowTotal: make([]float64, m.Rows), ColRows: make([]int64, m.Cols)}
+	large := 0
+	for i := 0; i < m.Rows; i++ {
+		var sum int64
+		lo, hi := m.RowPtr[i], m.RowPtr[i+1]
+		for k := lo; k < hi; k++ {
+			t.ColRows[m.Col(k)]++
+			if s := m.Small[k]; s != LargeMark {
+				sum += int64(s)
+			}
+		}
+		total := float64(sum)
+		for ; large < len(m.LargeAt) && m.LargeAt[large] < hi; large++ {
+			total += float64(m.LargeVal[large])
+		}
+		t.RowTotal[i] = total
+	}
+	return t
 }
 
 // NNZ returns the number of stored entries.
@@ -74,11 +121,12 @@ func (m *Counts) Value(k int64) float32 {
 	if s := m.Small[k]; s != LargeMark {
 		return float32(s)
 	}
-	return m.LargeVal[m.largeIndex(k)]
+	return m.LargeVal[m.LargeIndex(k)]
 }
 
-// largeIndex returns the index in LargeAt of the first position ≥ k.
-func (m *Counts) largeIndex(k int64) int {
+// LargeIndex returns the index in LargeAt of the first position ≥ k: for
+// an entry k marked LargeMark, the index of its value in LargeVal.
+func (m *Counts) LargeIndex(k int64) int {
 	return sort.Search(len(m.LargeAt), func(t int) bool { return m.LargeAt[t] >= k })
 }
 
@@ -104,7 +152,7 @@ func (m *Counts) Row(i int, cols []int32, vals []float32) ([]int32, []float32) {
 		vals[k] = float32(s)
 		if s == LargeMark {
 			if large < 0 {
-				large = m.largeIndex(lo + int64(k))
+				large = m.LargeIndex(lo + int64(k))
 			}
 			vals[k] = m.LargeVal[large]
 			large++
@@ -197,7 +245,8 @@ func (m *Counts) At(i, j int) float32 {
 	return 0
 }
 
-// Bytes returns the memory held by the matrix's arrays.
+// Bytes returns the memory held by the matrix's row pointers and entries
+// (its Tally holds 8 bytes more per row and per column).
 func (m *Counts) Bytes() int64 {
 	return int64(len(m.RowPtr))*8 + int64(len(m.Col16))*2 + int64(len(m.Col32))*4 +
 		int64(len(m.Small)) + int64(len(m.LargeAt))*12 + int64(len(m.Real))*4
@@ -242,6 +291,9 @@ func (m *Counts) Validate() error {
 		}
 	}
 	if m.Real != nil {
+		if m.Tally != nil {
+			return fmt.Errorf("sparse: real values with a tally")
+		}
 		for k, v := range m.Real {
 			if v == 0 || math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
 				return fmt.Errorf("sparse: entry %d holds %v", k, v)
@@ -267,6 +319,12 @@ func (m *Counts) Validate() error {
 	if t != len(m.LargeAt) {
 		return fmt.Errorf("sparse: %d large values listed, %d marked", len(m.LargeAt), t)
 	}
+	if m.Tally != nil {
+		want := m.tally()
+		if !slices.Equal(m.Tally.RowTotal, want.RowTotal) || !slices.Equal(m.Tally.ColRows, want.ColRows) {
+			return fmt.Errorf("sparse: the tally does not match the entries")
+		}
+	}
 	return nil
 }
 
@@ -278,10 +336,13 @@ func IsCount(v float32) bool {
 }
 
 // CountsBuilder builds a Counts matrix row by row. Values are held as counts
-// until one is not (see IsCount); from then on all are held as float32.
+// until one is not (see IsCount); from then on all are held as float32. The
+// matrix's Tally is gathered as the counts arrive.
 type CountsBuilder struct {
-	m   *Counts
-	row int
+	m     *Counts
+	row   int
+	small int64 // sum of the current row's counts below LargeMark
+	large int   // index in LargeVal of the current row's first large count
 }
 
 // NewCountsBuilder starts a rows × cols matrix with room for capacity
@@ -294,6 +355,7 @@ func NewCountsBuilder(rows, cols int, capacity int64) *CountsBuilder {
 		m.Col16 = make([]uint16, 0, capacity)
 	}
 	m.Small = make([]uint8, 0, capacity)
+	m.Tally = &Tally{RowTotal: make([]float64, 0, rows), ColRows: make([]int64, cols)}
 	return &CountsBuilder{m: m}
 }
 
@@ -317,10 +379,14 @@ func (b *CountsBuilder) Add(col int, v float32) {
 		m.Real = append(m.Real, v)
 	case v < LargeMark:
 		m.Small = append(m.Small, uint8(v))
+		b.small += int64(v)
 	default:
 		m.LargeAt = append(m.LargeAt, int64(len(m.Small)))
 		m.LargeVal = append(m.LargeVal, v)
 		m.Small = append(m.Small, LargeMark)
+	}
+	if m.Tally != nil {
+		m.Tally.ColRows[col]++
 	}
 }
 
@@ -337,6 +403,7 @@ func (m *Counts) toReal() {
 		}
 	}
 	m.Real, m.Small, m.LargeAt, m.LargeVal = real, nil, nil, nil
+	m.Tally = nil
 }
 
 // EndRow closes the current row.
@@ -345,6 +412,14 @@ func (b *CountsBuilder) EndRow() {
 	n := len(m.Col16) + len(m.Col32)
 	m.RowPtr = append(m.RowPtr, int64(n))
 	b.row++
+	if m.Tally != nil {
+		total := float64(b.small)
+		for _, v := range m.LargeVal[b.large:] {
+			total += float64(v)
+		}
+		m.Tally.RowTotal = append(m.Tally.RowTotal, total)
+	}
+	b.small, b.large = 0, len(m.LargeVal)
 }
 
 // Counts closes the remaining rows and returns the matrix.
@@ -428,7 +503,7 @@ func (m *Counts) SelectRowsCols(rows, cols []int) *Counts {
 		for k := m.RowPtr[i]; k < m.RowPtr[i+1]; k++ {
 			isLarge := m.Real == nil && m.Small[k] == LargeMark
 			if isLarge && large < 0 {
-				large = m.largeIndex(k)
+				large = m.LargeIndex(k)
 			}
 			nj := newCol[m.Col(k)]
 			if nj >= 0 {

@@ -86,6 +86,50 @@ func TestCountsHoldValues(t *testing.T) {
 	}
 }
 
+// The builder's tally: each row's total (small counts summed as integers,
+// then the large ones in column order) and each column's rows, as counted
+// by hand; a tally that does not match the entries fails Validate; real
+// values have none.
+func TestCountsTally(t *testing.T) {
+	b := NewCountsBuilder(3, 4, 0)
+	for _, e := range []struct {
+		col int
+		v   float32
+	}{{0, 254}, {1, 255}, {3, 1 << 16}} {
+		b.Add(e.col, e.v)
+	}
+	b.EndRow()
+	b.EndRow() // an empty row
+	b.Add(0, 1)
+	b.Add(1, 1e10)
+	b.Add(2, 3)
+	b.Add(3, 16777217) // rounded to float32: 16777216
+	m := b.Counts()
+	if err := m.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	want := Tally{RowTotal: []float64{254 + 255 + 65536, 0, 4 + 1e10 + 16777216}, ColRows: []int64{2, 2, 1, 2}}
+	if m.Tally == nil || !slices.Equal(m.Tally.RowTotal, want.RowTotal) || !slices.Equal(m.Tally.ColRows, want.ColRows) {
+		t.Fatalf("tally %+v, want %+v", m.Tally, want)
+	}
+	m.Tally.ColRows[2]++
+	if m.Validate() == nil {
+		t.Error("Validate accepts a column count that does not match the entries")
+	}
+	m.Tally.ColRows[2]--
+	m.Tally.RowTotal[1] = 1
+	if m.Validate() == nil {
+		t.Error("Validate accepts a row total that does not match the entries")
+	}
+
+	r := NewCountsBuilder(1, 2, 0)
+	r.Add(0, 2)
+	r.Add(1, 0.5)
+	if real := r.Counts(); real.Tally != nil || real.Validate() != nil {
+		t.Errorf("real values: tally %+v", real.Tally)
+	}
+}
+
 // Bytes per entry: 3 for counts with 16-bit columns, 5 with 32-bit ones, 6
 // and 8 for real values, and 12 more for each count of 255 or more.
 func TestCountsBytes(t *testing.T) {

@@ -246,7 +246,7 @@ func (v *View) RowCounts(i int, cols []int32, vals []float32) ([]int32, []float3
 			val := float32(s)
 			if s == LargeMark {
 				if large < 0 {
-					large = x.largeIndex(lo + int64(k))
+					large = x.LargeIndex(lo + int64(k))
 				}
 				val = x.LargeVal[large]
 				large++
@@ -265,7 +265,7 @@ func (v *View) RowCounts(i int, cols []int32, vals []float32) ([]int32, []float3
 			val = x.Real[k]
 		case x.Small[k] == LargeMark:
 			if large < 0 {
-				large = x.largeIndex(k)
+				large = x.LargeIndex(k)
 			}
 			val = x.LargeVal[large]
 			large++
