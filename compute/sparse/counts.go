@@ -5,6 +5,8 @@ import (
 	"math"
 	"slices"
 	"sort"
+
+	"lodestone/compute/parallel"
 )
 
 // MaxCols16 is the widest matrix whose column indices Counts holds in 16
@@ -461,7 +463,9 @@ func (m *Counts) ToCSR() *CSR {
 
 // SelectRowsCols returns a new matrix made of the given rows of m, in the
 // order given, restricted to the given columns (ascending; nil for all),
-// renumbered 0 … len(cols)−1. Values keep their form: counts stay counts.
+// renumbered 0 … len(cols)−1. Values keep their form: counts stay counts,
+// with their Tally. The rows are copied on all processors; the result does
+// not depend on their number.
 func (m *Counts) SelectRowsCols(rows, cols []int) *Counts {
 	if cols == nil {
 		cols = make([]int, m.Cols)
@@ -477,15 +481,22 @@ func (m *Counts) SelectRowsCols(rows, cols []int) *Counts {
 		newCol[j] = int32(k)
 	}
 	out := &Counts{Rows: len(rows), Cols: len(cols), RowPtr: make([]int64, len(rows)+1)}
-	var nnz int64
-	for r, i := range rows {
-		for k := m.RowPtr[i]; k < m.RowPtr[i+1]; k++ {
-			if newCol[m.Col(k)] >= 0 {
-				nnz++
+	parallel.For(len(rows), 0, func(lo, hi, _ int) {
+		for r := lo; r < hi; r++ {
+			i := rows[r]
+			var n int64
+			for k := m.RowPtr[i]; k < m.RowPtr[i+1]; k++ {
+				if newCol[m.Col(k)] >= 0 {
+					n++
+				}
 			}
+			out.RowPtr[r+1] = n
 		}
-		out.RowPtr[r+1] = nnz
+	})
+	for r := range rows {
+		out.RowPtr[r+1] += out.RowPtr[r]
 	}
+	nnz := out.RowPtr[len(rows)]
 	wide := len(cols) > MaxCols16
 	if wide {
 		out.Col32 = make([]int32, nnz)
@@ -496,36 +507,74 @@ func (m *Counts) SelectRowsCols(rows, cols []int) *Counts {
 		out.Real = make([]float32, nnz)
 	} else {
 		out.Small = make([]uint8, nnz)
+		out.Tally = &Tally{RowTotal: make([]float64, len(rows)), ColRows: make([]int64, len(cols))}
 	}
-	p := int64(0)
-	for _, i := range rows {
-		large := -1
-		for k := m.RowPtr[i]; k < m.RowPtr[i+1]; k++ {
-			isLarge := m.Real == nil && m.Small[k] == LargeMark
-			if isLarge && large < 0 {
-				large = m.LargeIndex(k)
-			}
-			nj := newCol[m.Col(k)]
-			if nj >= 0 {
-				if wide {
-					out.Col32[p] = nj
-				} else {
-					out.Col16[p] = uint16(nj)
+	// Each block of rows fills its own part of the arrays, lists its own
+	// large counts and counts its own rows per column; the lists are joined
+	// and the counts summed in block order.
+	blocks := len(parallel.Blocks(len(rows), parallel.Threads(0))) - 1
+	largeAt := make([][]int64, max(1, blocks))
+	largeVal := make([][]float32, max(1, blocks))
+	colRows := make([][]int64, max(1, blocks))
+	parallel.For(len(rows), 0, func(lo, hi, b int) {
+		var cr []int64
+		if out.Tally != nil {
+			cr = make([]int64, len(cols))
+			colRows[b] = cr
+		}
+		for r := lo; r < hi; r++ {
+			i := rows[r]
+			p := out.RowPtr[r]
+			large := -1
+			var small int64
+			firstLarge := len(largeVal[b])
+			for k := m.RowPtr[i]; k < m.RowPtr[i+1]; k++ {
+				isLarge := m.Real == nil && m.Small[k] == LargeMark
+				if isLarge && large < 0 {
+					large = m.LargeIndex(k)
 				}
-				switch {
-				case m.Real != nil:
-					out.Real[p] = m.Real[k]
-				case isLarge:
-					out.Small[p] = LargeMark
-					out.LargeAt = append(out.LargeAt, p)
-					out.LargeVal = append(out.LargeVal, m.LargeVal[large])
-				default:
-					out.Small[p] = m.Small[k]
+				nj := newCol[m.Col(k)]
+				if nj >= 0 {
+					if wide {
+						out.Col32[p] = nj
+					} else {
+						out.Col16[p] = uint16(nj)
+					}
+					switch {
+					case m.Real != nil:
+						out.Real[p] = m.Real[k]
+					case isLarge:
+						out.Small[p] = LargeMark
+						largeAt[b] = append(largeAt[b], p)
+						largeVal[b] = append(largeVal[b], m.LargeVal[large])
+					default:
+						out.Small[p] = m.Small[k]
+						small += int64(m.Small[k])
+					}
+					if cr != nil {
+						cr[nj]++
+					}
+					p++
 				}
-				p++
+				if isLarge {
+					large++
+				}
 			}
-			if isLarge {
-				large++
+			if out.Tally != nil {
+				total := float64(small)
+				for _, v := range largeVal[b][firstLarge:] {
+					total += float64(v)
+				}
+				out.Tally.RowTotal[r] = total
+			}
+		}
+	})
+	for b := range largeAt {
+		out.LargeAt = append(out.LargeAt, largeAt[b]...)
+		out.LargeVal = append(out.LargeVal, largeVal[b]...)
+		if out.Tally != nil && colRows[b] != nil {
+			for j, c := range colRows[b] {
+				out.Tally.ColRows[j] += c
 			}
 		}
 	}

@@ -195,8 +195,9 @@ func TestSelectRowsCols(t *testing.T) {
 	rows := []int{5, 0, 39, 5}
 	cols := []int{1, 2, 17, 29}
 	s := c.SelectRowsCols(rows, cols)
-	if err := s.Validate(); err != nil {
-		t.Fatal(err)
+	// Validate also checks the tally against the entries.
+	if err := s.Validate(); err != nil || s.Tally == nil {
+		t.Fatalf("%v; tally %v", err, s.Tally)
 	}
 	for r, i := range rows {
 		for k, j := range cols {
