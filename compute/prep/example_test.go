@@ -3,6 +3,7 @@ package prep
 import (
 	"context"
 	"math"
+	"reflect"
 	"slices"
 	"testing"
 
@@ -14,7 +15,8 @@ import (
 // counts copied as float32, normalised into a float32 matrix, genes selected
 // and principal components taken from it) bit for bit: every log-normalised
 // value, the gene selection and its scores, and the principal component
-// scores the map is computed from.
+// scores the map is computed from. QC from the atlas's tally equals QC of
+// every entry.
 func TestExampleCompactEqualsFloatPath(t *testing.T) {
 	if testing.Short() {
 		t.Skip("prepares the 30,000-cell example atlas twice")
@@ -47,5 +49,22 @@ func TestExampleCompactEqualsFloatPath(t *testing.T) {
 	}
 	if n := res.Normalized.NNZ(); n < 10_000_000 {
 		t.Errorf("only %d values compared", n)
+	}
+
+	// QC from the tally gathered while the atlas was built equals QC of
+	// every entry.
+	if d.Counts.Tally == nil {
+		t.Fatal("the example atlas has no tally")
+	}
+	plain := *d
+	counts2 := *d.Counts
+	counts2.Tally = nil
+	plain.Counts = &counts2
+	cells, genes, rep, err := QC(ctx, &plain, opt.QC)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Equal(cells, res.Cells) || !slices.Equal(genes, res.KeptGenes) || !reflect.DeepEqual(rep, res.QC) {
+		t.Error("QC of every entry differs from QC from the tally")
 	}
 }
