@@ -207,7 +207,7 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 	lin := newLinearRows(norm, nb)
 	type acc struct {
 		col      []geneSums // per column; one cache line holds a column's sums
-		sq       []float64
+		sq       []meanSq
 		bad      *Error
 		prepared bool
 	}
@@ -285,19 +285,23 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 	}
 
 	counter = s.pass(1, n)
-	mean := st.mean
 	err = sp.run(ctx, func(lo, hi, b int) {
 		a := &accs[b]
 		if a.sq == nil {
-			a.sq = make([]float64, g)
+			// Each column's mean beside its sum of squares: one
+			// cache line per entry.
+			a.sq = make([]meanSq, g)
+			for j := range a.sq {
+				a.sq[j].mean = st.mean[j]
+			}
 		}
 		sq := a.sq
 		for i := lo; i < hi; i++ {
 			cols, xs := lin.row(i, b)
 			for k, x := range xs {
-				j := cols[k]
-				d := x - mean[j]
-				sq[j] += d * d
+				c := &sq[cols[k]]
+				d := x - c.mean
+				c.sq += d * d
 			}
 		}
 		counter.Add(int64(hi - lo))
@@ -314,7 +318,7 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 		var count int64
 		for b := range accs {
 			if accs[b].sq != nil {
-				sq += accs[b].sq[j]
+				sq += accs[b].sq[j].sq
 				count += accs[b].col[j].count
 			}
 		}
@@ -324,6 +328,10 @@ func linearMoments(ctx context.Context, norm source, threads int, prog progress.
 	}
 	return st, nil
 }
+
+// meanSq holds a column's mean and one block's sum of squared deviations
+// from it.
+type meanSq struct{ mean, sq float64 }
 
 // geneSums holds one block's first-pass sums of one column: the sum and
 // number of its stored values and their least and greatest.
