@@ -73,6 +73,7 @@ func BenchmarkIteration70k(b *testing.B) {
 	}
 	y, _ := toFloat64(layout, "layout")
 	o := newOptimizer(a, y, p)
+	defer o.close()
 	o.iterate(1, lateMomentum, float64(o.n), false, never)
 	b.ReportAllocs()
 	b.ResetTimer()
@@ -117,6 +118,7 @@ func BenchmarkIterationByStage(b *testing.B) {
 			}
 			y, _ := toFloat64(maps[t], "layout")
 			o := newOptimizer(a, y, q)
+			defer o.close()
 			o.iterate(1, lateMomentum, float64(o.n), false, never)
 			b.ReportAllocs()
 			b.ResetTimer()
@@ -217,7 +219,7 @@ func BenchmarkRepulsion(b *testing.B) {
 		b.Run(fmt.Sprintf("%dk", n/1000), func(b *testing.B) {
 			y := clusteredLayout(n, 100*math.Sqrt(float64(n)/70000), 1)
 			dst := make([]float64, len(y))
-			r := newFFTRepulsion(0, 1)
+			r := newFFTRepulsion(testTeam(b, 0), 1)
 			box := bbox(y)
 			r.compute(dst, y, box, never)
 			b.ResetTimer()

@@ -238,6 +238,7 @@ func run(ctx context.Context, a *affinities, init []float32, p Params, publish f
 		y = randomLayout(P.Rows, p.Seed)
 	}
 	o := newOptimizer(a, y, p)
+	defer o.close()
 	return o.run(ctx, publish)
 }
 

@@ -98,79 +98,136 @@ func checkAffinity(p *sparse.CSR, n, threads int) (*affinities, error) {
 	return &affinities{CSR: p, sum: s}, nil
 }
 
-// attract writes the attractive sums of the layout y to dst, for the kernel
+// attract is attraction.sums on a team of threads goroutines made for the
+// call (threads < 1 means all processors).
+func attract(dst, y []float64, p *sparse.CSR, alpha float64, logs, plogp []float64, threads int, stop func() bool) bool {
+	tm := newTeam(threads)
+	defer tm.close()
+	return newAttraction(tm, p, alpha).sums(dst, y, logs, plogp, stop)
+}
+
+// attraction computes the attractive sums of layouts for the affinities P
+// and the kernel of tail α, on a team (see team: a call allocates nothing).
+type attraction struct {
+	team  *team
+	p     *sparse.CSR
+	alpha float64
+
+	// The inputs and outputs of the current call, for the loops' bodies.
+	y           []float64
+	y32         []float32
+	dst         []float64
+	logs, plogp []float64
+	stop        func() bool
+	stopped     atomic.Bool
+
+	body, body32 func(lo, hi, block int)
+}
+
+// newAttraction returns the attractive sums of P for the kernel of tail α,
+// computed on the team's goroutines.
+func newAttraction(tm *team, p *sparse.CSR, alpha float64) *attraction {
+	a := &attraction{team: tm, p: p, alpha: alpha}
+	a.body, a.body32 = a.block, a.block32
+	return a
+}
+
+// halt reports whether stop reported true, now or in an earlier check of
+// the call, and records it.
+func (a *attraction) halt() bool {
+	if a.stopped.Load() {
+		return true
+	}
+	if a.stop() {
+		a.stopped.Store(true)
+		return true
+	}
+	return false
+}
+
+// sums writes the attractive sums of the layout y to dst, for the kernel
 // of tail α,
 //
 //	dst_i = Σ_j p_ij u_ij (y_i − y_j),   u_ij = 1 / (1 + |y_i − y_j|²/α) = α / (α + |y_i − y_j|²),
 //
-// over the stored entries of P, one block of rows per thread; dst may be
+// over the stored entries of P, one block of rows per goroutine; dst may be
 // nil when only the sums below are wanted. When logs is not nil it also
 // stores in logs[block] the block's Σ p_ij log(α + |y_i − y_j|²) (at α = 1,
 // −Σ p_ij log w_ij), and when plogp is not nil as well the block's
 // Σ p_ij log p_ij, for the KL divergence. It returns false when stop
 // reported true part-way.
-func attract(dst, y []float64, p *sparse.CSR, alpha float64, logs, plogp []float64, threads int, stop func() bool) bool {
-	var stopped atomic.Bool
-	parallel.For(p.Rows, threads, func(lo, hi, block int) {
-		var ls, pl float64
-		for i := lo; i < hi; i++ {
-			if (i-lo)%stopEvery == stopEvery-1 && stop() {
-				stopped.Store(true)
-				return
-			}
-			xi, yi := y[2*i], y[2*i+1]
-			var fx, fy float64
-			start, end := p.RowPtr[i], p.RowPtr[i+1]
-			cols, vals := p.ColIdx[start:end], p.Val[start:end]
-			if logs == nil {
-				fx, fy = attractRow(xi, yi, alpha, y, cols, vals)
-			} else {
-				var l float64
-				fx, fy, l = attractRowLog(xi, yi, alpha, y, cols, vals)
-				ls += l
-				if plogp != nil {
-					for _, v := range vals {
-						if v > 0 {
-							pl += float64(v) * math.Log(float64(v))
-						}
+func (a *attraction) sums(dst, y []float64, logs, plogp []float64, stop func() bool) bool {
+	a.dst, a.y, a.logs, a.plogp, a.stop = dst, y, logs, plogp, stop
+	a.stopped.Store(false)
+	a.team.For(a.p.Rows, a.body)
+	a.dst, a.y, a.logs, a.plogp, a.stop = nil, nil, nil, nil, nil
+	return !a.stopped.Load()
+}
+
+// block is sums for the rows [lo, hi).
+func (a *attraction) block(lo, hi, block int) {
+	p, y, alpha := a.p, a.y, a.alpha
+	var ls, pl float64
+	for i := lo; i < hi; i++ {
+		if (i-lo)%stopEvery == stopEvery-1 && a.halt() {
+			return
+		}
+		xi, yi := y[2*i], y[2*i+1]
+		var fx, fy float64
+		start, end := p.RowPtr[i], p.RowPtr[i+1]
+		cols, vals := p.ColIdx[start:end], p.Val[start:end]
+		if a.logs == nil {
+			fx, fy = attractRow(xi, yi, alpha, y, cols, vals)
+		} else {
+			var l float64
+			fx, fy, l = attractRowLog(xi, yi, alpha, y, cols, vals)
+			ls += l
+			if a.plogp != nil {
+				for _, v := range vals {
+					if v > 0 {
+						pl += float64(v) * math.Log(float64(v))
 					}
 				}
 			}
-			if dst != nil {
-				dst[2*i], dst[2*i+1] = alpha*fx, alpha*fy
-			}
 		}
-		if logs != nil {
-			logs[block] = ls
+		if a.dst != nil {
+			a.dst[2*i], a.dst[2*i+1] = alpha*fx, alpha*fy
 		}
-		if plogp != nil {
-			plogp[block] = pl
-		}
-	})
-	return !stopped.Load()
+	}
+	if a.logs != nil {
+		a.logs[block] = ls
+	}
+	if a.plogp != nil {
+		a.plogp[block] = pl
+	}
 }
 
-// attract32 is attract without the logarithms, for the optimiser: the
-// same sums computed in float32 from y32, the layout rounded to float32
+// sums32 is sums without the logarithms, for the optimiser: the same sums
+// computed in float32 from y32, the layout rounded to float32
 // (attractRow32), then scaled by α in float64. Against the float64 sums of
-// attract the relative error is about 1e-7 over a layout (the float32
+// sums the relative error is about 1e-7 over a layout (the float32
 // rounding of the coordinates, of the order of 1e-7 of the map's extent,
 // dominates), far below the interpolated repulsion's 1e-4.
-func attract32(dst []float64, y32 []float32, p *sparse.CSR, alpha float64, threads int, stop func() bool) bool {
-	var stopped atomic.Bool
-	a := float32(alpha)
-	parallel.For(p.Rows, threads, func(lo, hi, block int) {
-		for i := lo; i < hi; i++ {
-			if (i-lo)%stopEvery == stopEvery-1 && stop() {
-				stopped.Store(true)
-				return
-			}
-			start, end := p.RowPtr[i], p.RowPtr[i+1]
-			fx, fy := attractRow32(y32[2*i], y32[2*i+1], a, y32, p.ColIdx[start:end], p.Val[start:end])
-			dst[2*i], dst[2*i+1] = alpha*fx, alpha*fy
+func (a *attraction) sums32(dst []float64, y32 []float32, stop func() bool) bool {
+	a.dst, a.y32, a.stop = dst, y32, stop
+	a.stopped.Store(false)
+	a.team.For(a.p.Rows, a.body32)
+	a.dst, a.y32, a.stop = nil, nil, nil
+	return !a.stopped.Load()
+}
+
+// block32 is sums32 for the rows [lo, hi).
+func (a *attraction) block32(lo, hi, _ int) {
+	p, y32, alpha := a.p, a.y32, a.alpha
+	af := float32(alpha)
+	for i := lo; i < hi; i++ {
+		if (i-lo)%stopEvery == stopEvery-1 && a.halt() {
+			return
 		}
-	})
-	return !stopped.Load()
+		start, end := p.RowPtr[i], p.RowPtr[i+1]
+		fx, fy := attractRow32(y32[2*i], y32[2*i+1], af, y32, p.ColIdx[start:end], p.Val[start:end])
+		a.dst[2*i], a.dst[2*i+1] = alpha*fx, alpha*fy
+	}
 }
 
 // attractRow32 is attractRow in float32 for the layout y of float32 pairs:
@@ -313,9 +370,11 @@ func Divergence(ctx context.Context, p *sparse.CSR, layout []float32, tail float
 		b[2], b[3] = min(b[2], y[i+1]), max(b[3], y[i+1])
 	}
 	rep := make([]float64, len(y))
-	z, ok := newFFTRepulsion(threads, tail).compute(rep, y, b, stop)
+	tm := newTeam(threads)
+	defer tm.close()
+	z, ok := newFFTRepulsion(tm, tail).compute(rep, y, b, stop)
 	logs, plogp := make([]float64, threads), make([]float64, threads)
-	if !ok || !attract(rep, y, p, tail, logs, plogp, threads, stop) {
+	if !ok || !newAttraction(tm, p, tail).sums(rep, y, logs, plogp, stop) {
 		return 0, ctx.Err()
 	}
 	a.setEntropy(plogp)

@@ -39,3 +39,11 @@ func affinityOf(t testing.TB, x *atlas.Dense, perplexity float64) *sparse.CSR {
 	}
 	return p
 }
+
+// testTeam returns a team of threads goroutines (threads < 1: all
+// processors), closed when the test ends.
+func testTeam(tb testing.TB, threads int) *team {
+	tm := newTeam(threads)
+	tb.Cleanup(tm.close)
+	return tm
+}

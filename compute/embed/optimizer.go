@@ -4,8 +4,6 @@ import (
 	"context"
 	"math"
 	"time"
-
-	"lodestone/compute/parallel"
 )
 
 // exactBelow is the number of points under which the repulsion is summed
@@ -46,17 +44,21 @@ const (
 	lateMomentum  = 0.8
 )
 
-// optimizer holds the state of one run.
+// optimizer holds the state of one run. Its goroutines (team) run until
+// close; an iteration allocates nothing.
 type optimizer struct {
 	a       *affinities
 	p       Params
 	n       int
-	y       []float64 // layout
-	y32     []float32 // layout rounded to float32, for the attraction
-	upd     []float64 // last update (momentum)
-	gains   []float64 // per-coordinate gains
-	attr    []float64 // attractive sums
-	rep     []float64 // repulsive sums
+	team    *team
+	attract *attraction
+	exact   *exactRepulsion // below exactBelow points
+	y       []float64       // layout
+	y32     []float32       // layout rounded to float32, for the attraction
+	upd     []float64       // last update (momentum)
+	gains   []float64       // per-coordinate gains
+	attr    []float64       // attractive sums
+	rep     []float64       // repulsive sums
 	fft     *fftRepulsion
 	logs    []float64    // per block: Σ p log(1 + d²)
 	plogp   []float64    // per block: Σ p log p, computed with the first KL
@@ -66,12 +68,19 @@ type optimizer struct {
 	rms     float64      // root-mean-square distance from the centre
 	shape   []float32    // the layout's shape (y / rms) at the last measurement of its motion
 	settled bool         // the last measurement found the layout settled
+
+	// The current step's factors, the centre and scale of centre and
+	// measureMotion, for the loops' bodies (made once, in loops).
+	attScale, momentum, eta, maxStep, invZ float64
+	mx, my, scale                          float64
+	loops                                  struct{ step, centre, motion func(lo, hi, block int) }
 }
 
 func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
 	n := a.Rows
+	tm := newTeam(p.Threads)
 	o := &optimizer{
-		a: a, p: p, n: n, y: y,
+		a: a, p: p, n: n, y: y, team: tm, attract: newAttraction(tm, a.CSR, p.Tail),
 		y32:   make([]float32, 2*n),
 		upd:   make([]float64, 2*n),
 		gains: make([]float64, 2*n),
@@ -85,8 +94,11 @@ func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
 	for i := range o.gains {
 		o.gains[i] = 1
 	}
+	o.loops.step, o.loops.centre, o.loops.motion = o.stepBlock, o.centreBlock, o.motionBlock
 	if n >= exactBelow {
-		o.fft = newFFTRepulsion(p.Threads, p.Tail)
+		o.fft = newFFTRepulsion(tm, p.Tail)
+	} else {
+		o.exact = newExactRepulsion(tm, p.Tail)
 	}
 	var sx, sy float64
 	for i := 0; i < n; i++ {
@@ -95,6 +107,11 @@ func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
 	}
 	o.centre(sx/float64(n), sy/float64(n))
 	return o
+}
+
+// close ends the optimiser's goroutines.
+func (o *optimizer) close() {
+	o.team.close()
 }
 
 // run iterates and publishes; see Run.
@@ -166,7 +183,6 @@ func (o *optimizer) layout() []float32 {
 // layout before the step (NaN otherwise). It returns false, with the layout
 // unchanged, when stop reported true.
 func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func() bool) (float64, bool) {
-	threads := o.p.Threads
 	var logs []float64
 	if wantKL {
 		logs = o.logs
@@ -176,10 +192,10 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	if wantKL && !o.a.known {
 		plogp = o.plogp
 	}
-	if !attract32(o.attr, o.y32, o.a.CSR, o.p.Tail, threads, stop) {
+	if !o.attract.sums32(o.attr, o.y32, stop) {
 		return 0, false
 	}
-	if wantKL && !attract(nil, o.y, o.a.CSR, o.p.Tail, logs, plogp, threads, stop) {
+	if wantKL && !o.attract.sums(nil, o.y, logs, plogp, stop) {
 		return 0, false
 	}
 	if plogp != nil {
@@ -187,7 +203,7 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	}
 	var z float64
 	if o.fft == nil {
-		z = ExactRepulsion(o.rep, o.y, o.p.Tail, threads)
+		z = o.exact.compute(o.rep, o.y)
 	} else {
 		var ok bool
 		if z, ok = o.fft.compute(o.rep, o.y, o.bounds, stop); !ok {
@@ -200,36 +216,10 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	}
 
 	// Step: g = ρ/ΣP · attr − rep/Z, the gradient without its factor 4.
-	att, invZ, maxStep := rho/o.a.sum, 1/z, stepCap*o.rms
+	o.attScale, o.momentum, o.eta, o.maxStep = rho/o.a.sum, momentum, eta, stepCap*o.rms
+	o.invZ = 1 / z
 	clear(o.sums)
-	parallel.For(o.n, threads, func(lo, hi, block int) {
-		var sx, sy float64
-		for i := lo; i < hi; i++ {
-			var u [2]float64
-			for c := 0; c < 2; c++ {
-				k := 2*i + c
-				g := att*o.attr[k] - invZ*o.rep[k]
-				gain := o.gains[k]
-				if g*o.upd[k] < 0 {
-					gain += gainUp
-				} else {
-					gain = max(gain*gainDown, gainMin)
-				}
-				o.gains[k] = gain
-				u[c] = momentum*o.upd[k] - eta*gain*g
-			}
-			l := math.Sqrt(u[0]*u[0] + u[1]*u[1])
-			if l > maxStep {
-				u[0], u[1] = u[0]*maxStep/l, u[1]*maxStep/l
-			}
-			o.upd[2*i], o.upd[2*i+1] = u[0], u[1]
-			o.y[2*i] += u[0]
-			o.y[2*i+1] += u[1]
-			sx += o.y[2*i]
-			sy += o.y[2*i+1]
-		}
-		o.sums[block] = [4]float64{sx, sy}
-	})
+	o.team.For(o.n, o.loops.step)
 	var sx, sy float64
 	for _, s := range o.sums {
 		sx += s[0]
@@ -239,30 +229,54 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 	return kl, true
 }
 
+// stepBlock takes the step of the points [lo, hi): with att = o.attScale (ρ/ΣP)
+// and 1/Z = o.invZ, g = att·attr − rep/Z, the gains, the momentum and the
+// cap on the step's length, and sums the new coordinates into sums[block].
+func (o *optimizer) stepBlock(lo, hi, block int) {
+	att, invZ, maxStep, momentum, eta := o.attScale, o.invZ, o.maxStep, o.momentum, o.eta
+	var sx, sy float64
+	for i := lo; i < hi; i++ {
+		var u [2]float64
+		for c := 0; c < 2; c++ {
+			k := 2*i + c
+			g := att*o.attr[k] - invZ*o.rep[k]
+			gain := o.gains[k]
+			if g*o.upd[k] < 0 {
+				gain += gainUp
+			} else {
+				gain = max(gain*gainDown, gainMin)
+			}
+			o.gains[k] = gain
+			u[c] = momentum*o.upd[k] - eta*gain*g
+		}
+		l := math.Sqrt(u[0]*u[0] + u[1]*u[1])
+		if l > maxStep {
+			u[0], u[1] = u[0]*maxStep/l, u[1]*maxStep/l
+		}
+		o.upd[2*i], o.upd[2*i+1] = u[0], u[1]
+		o.y[2*i] += u[0]
+		o.y[2*i+1] += u[1]
+		sx += o.y[2*i]
+		sy += o.y[2*i+1]
+	}
+	o.sums[block] = [4]float64{sx, sy}
+}
+
 // measureMotion measures how far the layout's shape moved since the last
 // measurement, settleEvery iterations before, and records whether it
 // counts as settled (see SettledMotion). The layout is centred; its shape
 // is y / rms.
 func (o *optimizer) measureMotion() {
-	scale := 1 / o.rms
+	o.scale = 1 / o.rms
 	if o.rms == 0 {
-		scale = 1
+		o.scale = 1
 	}
 	first := o.shape == nil
 	if first {
 		o.shape = make([]float32, len(o.y))
 	}
 	clear(o.sums)
-	parallel.For(o.n, o.p.Threads, func(lo, hi, block int) {
-		var d float64
-		for i := lo; i < hi; i++ {
-			x, y := float32(o.y[2*i]*scale), float32(o.y[2*i+1]*scale)
-			dx, dy := float64(x-o.shape[2*i]), float64(y-o.shape[2*i+1])
-			d += math.Sqrt(dx*dx + dy*dy)
-			o.shape[2*i], o.shape[2*i+1] = x, y
-		}
-		o.sums[block][0] = d
-	})
+	o.team.For(o.n, o.loops.motion)
 	if first {
 		return
 	}
@@ -273,28 +287,29 @@ func (o *optimizer) measureMotion() {
 	o.settled = d/float64(o.n) < SettledMotion
 }
 
+// motionBlock records the shape of the points [lo, hi) at scale o.scale
+// and sums their motion since the last record into sums[block].
+func (o *optimizer) motionBlock(lo, hi, block int) {
+	scale := o.scale
+	var d float64
+	for i := lo; i < hi; i++ {
+		x, y := float32(o.y[2*i]*scale), float32(o.y[2*i+1]*scale)
+		dx, dy := float64(x-o.shape[2*i]), float64(y-o.shape[2*i+1])
+		d += math.Sqrt(dx*dx + dy*dy)
+		o.shape[2*i], o.shape[2*i+1] = x, y
+	}
+	o.sums[block][0] = d
+}
+
 // centre subtracts (mx, my) from every point, and updates the bounding box
 // and the root-mean-square radius.
 func (o *optimizer) centre(mx, my float64) {
-	threads := o.p.Threads
 	clear(o.sums)
 	for b := range o.boxes {
 		o.boxes[b] = [4]float64{math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)}
 	}
-	parallel.For(o.n, threads, func(lo, hi, block int) {
-		box := [4]float64{math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)}
-		var r2 float64
-		for i := lo; i < hi; i++ {
-			x, y := o.y[2*i]-mx, o.y[2*i+1]-my
-			o.y[2*i], o.y[2*i+1] = x, y
-			o.y32[2*i], o.y32[2*i+1] = float32(x), float32(y)
-			box[0], box[1] = min(box[0], x), max(box[1], x)
-			box[2], box[3] = min(box[2], y), max(box[3], y)
-			r2 += x*x + y*y
-		}
-		o.boxes[block] = box
-		o.sums[block][3] = r2
-	})
+	o.mx, o.my = mx, my
+	o.team.For(o.n, o.loops.centre)
 	o.bounds = [4]float64{math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)}
 	var r2 float64
 	for b, box := range o.boxes {
@@ -303,4 +318,22 @@ func (o *optimizer) centre(mx, my float64) {
 		r2 += o.sums[b][3]
 	}
 	o.rms = math.Sqrt(r2 / float64(o.n))
+}
+
+// centreBlock is centre for the points [lo, hi): it moves them, rounds
+// them to float32 and records their box and Σ|y|² for the block.
+func (o *optimizer) centreBlock(lo, hi, block int) {
+	mx, my := o.mx, o.my
+	box := [4]float64{math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)}
+	var r2 float64
+	for i := lo; i < hi; i++ {
+		x, y := o.y[2*i]-mx, o.y[2*i+1]-my
+		o.y[2*i], o.y[2*i+1] = x, y
+		o.y32[2*i], o.y32[2*i+1] = float32(x), float32(y)
+		box[0], box[1] = min(box[0], x), max(box[1], x)
+		box[2], box[3] = min(box[2], y), max(box[3], y)
+		r2 += x*x + y*y
+	}
+	o.boxes[block] = box
+	o.sums[block][3] = r2
 }

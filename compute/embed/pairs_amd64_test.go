@@ -20,9 +20,9 @@ func TestPortableRepulsion(t *testing.T) {
 	y := clusteredLayout(5000, 60, 11)
 	for _, tail := range []float64{1, 0.5} {
 		fast := make([]float64, len(y))
-		zFast, _ := newFFTRepulsion(2, tail).compute(fast, y, bbox(y), never)
+		zFast, _ := newFFTRepulsion(testTeam(t, 2), tail).compute(fast, y, bbox(y), never)
 		haveAVX2 = false
-		r := newFFTRepulsion(2, tail)
+		r := newFFTRepulsion(testTeam(t, 2), tail)
 		slow := make([]float64, len(y))
 		zSlow, _ := r.compute(slow, y, bbox(y), never)
 		haveAVX2 = true
@@ -64,6 +64,7 @@ func TestPortableIteration(t *testing.T) {
 			t.Fatal(err)
 		}
 		o := newOptimizer(a, append([]float64(nil), y...), p)
+		defer o.close()
 		if o.fft == nil {
 			t.Fatal("the layout should use the interpolated repulsion")
 		}

@@ -206,7 +206,7 @@ func TestAttractRow32(t *testing.T) {
 }
 
 // TestAttract32 checks the optimiser's float32 attractive sums against the
-// float64 ones of attract (which the gradient tests check against finite
+// float64 ones of attraction.sums (which the gradient tests check against finite
 // differences and scikit-learn) on a t-SNE map of 5,000 points: their
 // relative difference over all points stays below 1e-6.
 func TestAttract32(t *testing.T) {
@@ -220,7 +220,7 @@ func TestAttract32(t *testing.T) {
 	for _, tail := range []float64{1, 0.5} {
 		want, got := make([]float64, len(y)), make([]float64, len(y))
 		attract(want, y, P, tail, nil, nil, 2, never)
-		attract32(got, y32, P, tail, 2, never)
+		newAttraction(testTeam(t, 2), P, tail).sums32(got, y32, never)
 		var num, den float64
 		for k := range got {
 			num += (got[k] - want[k]) * (got[k] - want[k])

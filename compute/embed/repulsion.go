@@ -6,8 +6,6 @@ import (
 	"sync/atomic"
 
 	"gonum.org/v1/gonum/dsp/fourier"
-
-	"lodestone/compute/parallel"
 )
 
 // ExactRepulsion computes the repulsive sums of the layout y (interleaved
@@ -22,42 +20,71 @@ import (
 // the interpolated repulsion and is used for small layouts. threads < 1
 // means all processors; the result is deterministic for a given thread count.
 func ExactRepulsion(dst, y []float64, tail float64, threads int) float64 {
-	n := len(y) / 2
-	k := newTail(tail)
-	threads = parallel.Threads(threads)
-	partial := make([]float64, threads)
-	parallel.For(n, threads, func(lo, hi, block int) {
-		var z float64
-		for i := lo; i < hi; i++ {
-			xi, yi := y[2*i], y[2*i+1]
-			var fx, fy, zi float64
-			if k.cauchy() {
-				for j := 0; j < n; j++ {
-					dx, dy := xi-y[2*j], yi-y[2*j+1]
-					w := 1 / (1 + dx*dx + dy*dy)
-					zi += w
-					w *= w
-					fx += w * dx
-					fy += w * dy
-				}
-			} else {
-				for j := 0; j < n; j++ {
-					kx, ky, kw := k.at(xi-y[2*j], yi-y[2*j+1])
-					zi += kw
-					fx += kx
-					fy += ky
-				}
-			}
-			dst[2*i], dst[2*i+1] = fx, fy
-			z += zi - 1 // the j = i term has w = 1
-		}
-		partial[block] = z
-	})
+	tm := newTeam(threads)
+	defer tm.close()
+	return newExactRepulsion(tm, tail).compute(dst, y)
+}
+
+// exactRepulsion computes ExactRepulsion's sums on a team (see team: a call
+// allocates nothing).
+type exactRepulsion struct {
+	team    *team
+	tail    tailKernel
+	partial []float64 // per block: Σ w_ij over the block's points
+	y, dst  []float64 // the current call's layout and sums
+	body    func(lo, hi, block int)
+}
+
+// newExactRepulsion returns the exact repulsion for the kernel of tail α on
+// the team's goroutines.
+func newExactRepulsion(tm *team, tail float64) *exactRepulsion {
+	e := &exactRepulsion{team: tm, tail: newTail(tail), partial: make([]float64, tm.threads)}
+	e.body = e.block
+	return e
+}
+
+// compute is ExactRepulsion.
+func (e *exactRepulsion) compute(dst, y []float64) float64 {
+	e.y, e.dst = y, dst
+	clear(e.partial)
+	e.team.For(len(y)/2, e.body)
+	e.y, e.dst = nil, nil
 	var z float64
-	for _, v := range partial {
+	for _, v := range e.partial {
 		z += v
 	}
 	return z
+}
+
+// block is compute for the points [lo, hi).
+func (e *exactRepulsion) block(lo, hi, block int) {
+	y, k := e.y, e.tail
+	n := len(y) / 2
+	var z float64
+	for i := lo; i < hi; i++ {
+		xi, yi := y[2*i], y[2*i+1]
+		var fx, fy, zi float64
+		if k.cauchy() {
+			for j := 0; j < n; j++ {
+				dx, dy := xi-y[2*j], yi-y[2*j+1]
+				w := 1 / (1 + dx*dx + dy*dy)
+				zi += w
+				w *= w
+				fx += w * dx
+				fy += w * dy
+			}
+		} else {
+			for j := 0; j < n; j++ {
+				kx, ky, kw := k.at(xi-y[2*j], yi-y[2*j+1])
+				zi += kw
+				fx += kx
+				fy += ky
+			}
+		}
+		e.dst[2*i], e.dst[2*i+1] = fx, fy
+		z += zi - 1 // the j = i term has w = 1
+	}
+	e.partial[block] = z
 }
 
 // Settings of the interpolated repulsion, chosen by measuring the relative
@@ -138,6 +165,7 @@ const cellNodes = interpNodes * interpNodes
 // per grid size and cell width and kept, and all buffers are reused between
 // calls.
 type fftRepulsion struct {
+	team    *team
 	threads int
 	tail    tailKernel
 
@@ -191,6 +219,24 @@ type fftRepulsion struct {
 	zpart  []float64    // per block partial sums of Σ_j w_ij
 
 	workers []fftWorker
+
+	// The inputs and outputs of the current call, for the loops' bodies:
+	// the layout, the repulsive sums, stop and whether it reported true,
+	// whether locate computes weights, the pass of spreadCells.
+	y       []float64
+	dst     []float64
+	stop    func() bool
+	stopped atomic.Bool
+	withWts bool
+	pass    int
+	loops   fftLoops
+}
+
+// fftLoops holds the bodies of fftRepulsion's parallel loops, made once so
+// that a call allocates nothing (see team).
+type fftLoops struct {
+	zsum, locate, count, bin, weights, spread, sumGrids, cellCharges, cellRows,
+	rowsForward, columns, rowsInverse, interpolate, near, gather func(lo, hi, block int)
 }
 
 // fftWorker holds one goroutine's transforms and line buffers.
@@ -202,11 +248,17 @@ type fftWorker struct {
 	product []complex128
 }
 
-// newFFTRepulsion returns a repulsion engine for threads goroutines and the
-// kernel of tail α.
-func newFFTRepulsion(threads int, tail float64) *fftRepulsion {
-	threads = parallel.Threads(threads)
-	return &fftRepulsion{threads: threads, tail: newTail(tail), workers: make([]fftWorker, threads), zpart: make([]float64, threads)}
+// newFFTRepulsion returns a repulsion engine that runs on the team's
+// goroutines, for the kernel of tail α.
+func newFFTRepulsion(tm *team, tail float64) *fftRepulsion {
+	r := &fftRepulsion{team: tm, threads: tm.threads, tail: newTail(tail), workers: make([]fftWorker, tm.threads), zpart: make([]float64, tm.threads)}
+	r.loops = fftLoops{
+		zsum: r.zsumBlock, locate: r.locateBlock, count: r.countBlock, bin: r.binBlock, weights: r.weightsBlock,
+		spread: r.spreadBlock, sumGrids: r.sumGridsBlock, cellCharges: r.cellChargesBlock, cellRows: r.cellRowsBlock,
+		rowsForward: r.rowsForwardBlock, columns: r.columnsBlock, rowsInverse: r.rowsInverseBlock,
+		interpolate: r.interpolateBlock, near: r.nearBlock, gather: r.gatherBlock,
+	}
+	return r
 }
 
 // lagrange returns the weights of the interpNodes nodes t_a = a/(interpNodes−1)
@@ -287,25 +339,22 @@ func ladder(v float64) float64 {
 // partly written, when stop reports true part-way.
 func (r *fftRepulsion) compute(dst, y []float64, bounds [4]float64, stop func() bool) (float64, bool) {
 	n := len(y) / 2
-	r.setGrid(y, bounds)
+	r.y, r.dst, r.stop = y, dst, stop
+	r.stopped.Store(false)
+	r.setGrid(bounds)
 	var ok bool
 	if r.near {
-		ok = r.spreadCells(stop) && r.convolve(stop) && r.interpolateNear(dst, stop)
+		ok = r.spreadCells() && r.convolve() && r.interpolateNear()
 	} else {
-		ok = r.spread(n, stop) && r.convolve(stop) && r.interpolate(dst, stop)
+		ok = r.spread() && r.convolve() && r.interpolate()
 	}
+	r.y, r.dst, r.stop = nil, nil, nil
 	if !ok {
 		return 0, false
 	}
 	// Σ_i Σ_j w_ij, summed per block in block order.
 	clear(r.zpart)
-	parallel.For(n, r.threads, func(lo, hi, block int) {
-		var z float64
-		for _, v := range r.zval[lo:hi] {
-			z += v
-		}
-		r.zpart[block] = z
-	})
+	r.team.For(n, r.loops.zsum)
 	var z float64
 	for _, v := range r.zpart {
 		z += v
@@ -313,14 +362,36 @@ func (r *fftRepulsion) compute(dst, y []float64, bounds [4]float64, stop func() 
 	return z - float64(n), true
 }
 
-// setGrid chooses the cells for the layout y with the given bounding box and
+// zsumBlock sums Σ_j w_ij over the points [lo, hi) into zpart[block].
+func (r *fftRepulsion) zsumBlock(lo, hi, block int) {
+	var z float64
+	for _, v := range r.zval[lo:hi] {
+		z += v
+	}
+	r.zpart[block] = z
+}
+
+// halt reports whether stop reported true, now or in an earlier check of
+// the call, and records it.
+func (r *fftRepulsion) halt() bool {
+	if r.stopped.Load() {
+		return true
+	}
+	if r.stop() {
+		r.stopped.Store(true)
+		return true
+	}
+	return false
+}
+
+// setGrid chooses the cells for the layout r.y with the given bounding box and
 // locates every point. With the grid alone it computes the points' Lagrange
 // weights in their own order; when the near field is corrected, it sorts
 // the points by cell and computes the weights in the sorted order. It
 // prepares the kernel spectra and buffers.
-func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
+func (r *fftRepulsion) setGrid(bounds [4]float64) {
 	const d = interpNodes - 1
-	n := len(y) / 2
+	n := len(r.y) / 2
 	ex, ey := bounds[1]-bounds[0], bounds[3]-bounds[2]
 	extent := max(ex, ey, 1e-150)
 	r.cellOf = grow32(r.cellOf, n)
@@ -348,14 +419,14 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 	}
 	place(h0)
 	if !r.near {
-		r.locate(y, true)
+		r.locate(true)
 		r.finishGrid()
 		return
 	}
 	// Choose among widths 2^(k/4)·h0 by a cost model: the FFT grows as the
 	// cells narrow, the near field shrinks (its pairs as h², its occupied
 	// cells as 1/h², both extrapolated from the census at h0).
-	r.locate(y, false)
+	r.locate(false)
 	work0, occ0 := r.tally(n)
 	cost := func(h float64) float64 {
 		lx, ly := fftLen(ex, h), fftLen(ey, h)
@@ -377,9 +448,9 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 		}
 	}
 	place(best)
-	r.locate(y, false)
+	r.locate(false)
 	if r.near {
-		if work0, _ = r.bin(y); work0 > maxNearWork*int64(n) {
+		if work0, _ = r.bin(); work0 > maxNearWork*int64(n) {
 			// Only a layout with a few points very far from the rest gets
 			// here (the cells are as narrow as the FFT allows and still
 			// crowded): the grid alone bounds the time of a call, at a loss
@@ -390,7 +461,7 @@ func (r *fftRepulsion) setGrid(y []float64, bounds [4]float64) {
 	if r.near {
 		r.sortedWeights()
 	} else {
-		r.locate(y, true)
+		r.locate(true)
 	}
 	r.finishGrid()
 }
@@ -427,21 +498,25 @@ func (r *fftRepulsion) finishGrid() {
 }
 
 // locate records each point's cell and, with weights, its Lagrange weights.
-func (r *fftRepulsion) locate(y []float64, weights bool) {
-	n := len(y) / 2
-	parallel.For(n, r.threads, func(lo, hi, _ int) {
-		for i := lo; i < hi; i++ {
-			cx, ux := r.axis(y[2*i], r.x0, r.nx)
-			cy, uy := r.axis(y[2*i+1], r.y0, r.ny)
-			r.cellOf[i] = int32(cy*r.nx + cx)
-			if weights {
-				w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*i:])
-				wx, wy := lagrange(ux), lagrange(uy)
-				copy(w[:interpNodes], wx[:])
-				copy(w[interpNodes:], wy[:])
-			}
+func (r *fftRepulsion) locate(weights bool) {
+	r.withWts = weights
+	r.team.For(len(r.y)/2, r.loops.locate)
+}
+
+// locateBlock is locate for the points [lo, hi).
+func (r *fftRepulsion) locateBlock(lo, hi, _ int) {
+	y := r.y
+	for i := lo; i < hi; i++ {
+		cx, ux := r.axis(y[2*i], r.x0, r.nx)
+		cy, uy := r.axis(y[2*i+1], r.y0, r.ny)
+		r.cellOf[i] = int32(cy*r.nx + cx)
+		if r.withWts {
+			w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*i:])
+			wx, wy := lagrange(ux), lagrange(uy)
+			copy(w[:interpNodes], wx[:])
+			copy(w[interpNodes:], wy[:])
 		}
-	})
+	}
 }
 
 // axis returns the cell along one axis that holds coordinate v and the
@@ -458,15 +533,9 @@ func (r *fftRepulsion) axis(v, origin float64, cells int) (int, float64) {
 // of block b begin.
 func (r *fftRepulsion) count(n int) {
 	cells := r.nx * r.ny
-	blocks := len(parallel.Blocks(n, r.threads)) - 1
+	blocks := min(r.threads, n)
 	r.blockStart = grow32(r.blockStart, blocks*cells)
-	parallel.For(n, r.threads, func(lo, hi, b int) {
-		h := r.blockStart[b*cells : (b+1)*cells]
-		clear(h)
-		for _, c := range r.cellOf[lo:hi] {
-			h[c]++
-		}
-	})
+	r.team.For(n, r.loops.count)
 	r.start = grow32(r.start, cells+1)
 	var at int32
 	for c := 0; c < cells; c++ {
@@ -478,6 +547,17 @@ func (r *fftRepulsion) count(n int) {
 		}
 	}
 	r.start[cells] = at
+}
+
+// countBlock counts the points [lo, hi) of each cell into block b's
+// row of blockStart.
+func (r *fftRepulsion) countBlock(lo, hi, b int) {
+	cells := r.nx * r.ny
+	h := r.blockStart[b*cells : (b+1)*cells]
+	clear(h)
+	for _, c := range r.cellOf[lo:hi] {
+		h[c]++
+	}
 }
 
 // tally counts the points of each cell (count), splits the cells into parts
@@ -526,41 +606,48 @@ func (r *fftRepulsion) tally(n int) (int64, int) {
 // bin sorts the points by cell (counting sort, stable in point id; each
 // block of points placed by its own thread from tally's block offsets) and
 // returns tally's work and occupied cells.
-func (r *fftRepulsion) bin(y []float64) (int64, int) {
-	n, cells := len(y)/2, r.nx*r.ny
+func (r *fftRepulsion) bin() (int64, int) {
+	n := len(r.y) / 2
 	work, occupied := r.tally(n)
 	r.order = grow32(r.order, n)
 	r.sx, r.sy = grow(r.sx, n), grow(r.sy, n)
 	r.rx, r.ry = growF32(r.rx, n), growF32(r.ry, n)
-	parallel.For(n, r.threads, func(lo, hi, b int) {
-		next := r.blockStart[b*cells : (b+1)*cells]
-		for i := lo; i < hi; i++ {
-			c := r.cellOf[i]
-			k := next[c]
-			x, y := y[2*i], y[2*i+1]
-			r.order[k] = int32(i)
-			r.sx[k], r.sy[k] = x, y
-			r.rx[k] = float32(x - (r.x0 + float64(int(c)%r.nx)*r.h))
-			r.ry[k] = float32(y - (r.y0 + float64(int(c)/r.nx)*r.h))
-			next[c]++
-		}
-	})
+	r.team.For(n, r.loops.bin)
 	return work, occupied
+}
+
+// binBlock places the points [lo, hi) of block b in the sorted order.
+func (r *fftRepulsion) binBlock(lo, hi, b int) {
+	cells := r.nx * r.ny
+	next := r.blockStart[b*cells : (b+1)*cells]
+	for i := lo; i < hi; i++ {
+		c := r.cellOf[i]
+		k := next[c]
+		x, y := r.y[2*i], r.y[2*i+1]
+		r.order[k] = int32(i)
+		r.sx[k], r.sy[k] = x, y
+		r.rx[k] = float32(x - (r.x0 + float64(int(c)%r.nx)*r.h))
+		r.ry[k] = float32(y - (r.y0 + float64(int(c)/r.nx)*r.h))
+		next[c]++
+	}
 }
 
 // sortedWeights computes the Lagrange weights of the sorted points (bin),
 // in the sorted order.
 func (r *fftRepulsion) sortedWeights() {
-	parallel.For(len(r.sx), r.threads, func(lo, hi, _ int) {
-		for k := lo; k < hi; k++ {
-			_, ux := r.axis(r.sx[k], r.x0, r.nx)
-			_, uy := r.axis(r.sy[k], r.y0, r.ny)
-			w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*k:])
-			wx, wy := lagrange(ux), lagrange(uy)
-			copy(w[:interpNodes], wx[:])
-			copy(w[interpNodes:], wy[:])
-		}
-	})
+	r.team.For(len(r.sx), r.loops.weights)
+}
+
+// weightsBlock is sortedWeights for the sorted points [lo, hi).
+func (r *fftRepulsion) weightsBlock(lo, hi, _ int) {
+	for k := lo; k < hi; k++ {
+		_, ux := r.axis(r.sx[k], r.x0, r.nx)
+		_, uy := r.axis(r.sy[k], r.y0, r.ny)
+		w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*k:])
+		wx, wy := lagrange(ux), lagrange(uy)
+		copy(w[:interpNodes], wx[:])
+		copy(w[interpNodes:], wy[:])
+	}
 }
 
 // resize makes the per-size buffers and transforms fit lx × ly.
@@ -601,7 +688,7 @@ func (r *fftRepulsion) kernelSpectra() {
 	}
 	for k, dst := range [][]float64{r.kxIm, r.kyIm, r.kw} {
 		// Rows of the kernel, transformed along x into spec.
-		parallel.For(ly, r.threads, func(lo, hi, block int) {
+		r.team.For(ly, func(lo, hi, block int) {
 			wk := &r.workers[block]
 			for row := lo; row < hi; row++ {
 				dy := offset(row, ly)
@@ -619,7 +706,7 @@ func (r *fftRepulsion) kernelSpectra() {
 			}
 		})
 		scale := 1 / float64(lx*ly)
-		parallel.For(hw, r.threads, func(lo, hi, block int) {
+		r.team.For(hw, func(lo, hi, block int) {
 			wk := &r.workers[block]
 			for c := lo; c < hi; c++ {
 				for row := 0; row < ly; row++ {
@@ -663,45 +750,50 @@ func (r *fftRepulsion) nearBlocks() {
 // spread adds each point's unit charge to the nodes of its cell, with the
 // Lagrange weights as coefficients, on one grid per block, then sums the
 // block grids into the first in block order.
-func (r *fftRepulsion) spread(n int, stop func() bool) bool {
-	const d = interpNodes - 1
-	mx, cells := r.mx, r.mx*r.my
-	bounds := parallel.Blocks(n, r.threads)
-	var stopped atomic.Bool
-	parallel.For(n, r.threads, func(lo, hi, block int) {
-		grid := r.charge[block*cells : (block+1)*cells]
-		clear(grid)
-		for i := lo; i < hi; i++ {
-			if (i-lo)%stopEvery == stopEvery-1 && stop() {
-				stopped.Store(true)
-				return
-			}
-			c := int(r.cellOf[i])
-			base := (c/r.nx)*d*mx + (c%r.nx)*d
-			w := r.wts[2*interpNodes*i:]
-			for b := 0; b < interpNodes; b++ {
-				row := grid[base+b*mx:]
-				wy := w[interpNodes+b]
-				for a := 0; a < interpNodes; a++ {
-					row[a] += wy * w[a]
-				}
-			}
-		}
-	})
-	if stopped.Load() {
+func (r *fftRepulsion) spread() bool {
+	r.team.For(len(r.y)/2, r.loops.spread)
+	if r.stopped.Load() {
 		return false
 	}
-	blocks := len(bounds) - 1
-	parallel.For(cells, r.threads, func(lo, hi, _ int) {
-		sum := r.charge[lo:hi]
-		for b := 1; b < blocks; b++ {
-			part := r.charge[b*cells+lo : b*cells+hi]
-			for c := range sum {
-				sum[c] += part[c]
+	r.team.For(r.mx*r.my, r.loops.sumGrids)
+	return true
+}
+
+// spreadBlock spreads the points [lo, hi) on block's grid.
+func (r *fftRepulsion) spreadBlock(lo, hi, block int) {
+	const d = interpNodes - 1
+	mx, cells := r.mx, r.mx*r.my
+	grid := r.charge[block*cells : (block+1)*cells]
+	clear(grid)
+	for i := lo; i < hi; i++ {
+		if (i-lo)%stopEvery == stopEvery-1 && r.halt() {
+			return
+		}
+		c := int(r.cellOf[i])
+		base := (c/r.nx)*d*mx + (c%r.nx)*d
+		w := r.wts[2*interpNodes*i:]
+		for b := 0; b < interpNodes; b++ {
+			row := grid[base+b*mx:]
+			wy := w[interpNodes+b]
+			for a := 0; a < interpNodes; a++ {
+				row[a] += wy * w[a]
 			}
 		}
-	})
-	return true
+	}
+}
+
+// sumGridsBlock adds the nodes [lo, hi) of the blocks' grids into the
+// first grid, in block order.
+func (r *fftRepulsion) sumGridsBlock(lo, hi, _ int) {
+	cells := r.mx * r.my
+	blocks := min(r.threads, len(r.y)/2)
+	sum := r.charge[lo:hi]
+	for b := 1; b < blocks; b++ {
+		part := r.charge[b*cells+lo : b*cells+hi]
+		for c := range sum {
+			sum[c] += part[c]
+		}
+	}
 }
 
 // spreadCells is spread for the points sorted by cell (near field): it
@@ -710,152 +802,173 @@ func (r *fftRepulsion) spread(n int, stop func() bool) bool {
 // cells per thread), then adds the cells' charges into the charge grid, the
 // rows of cells in two passes (even, then odd) whose nodes do not overlap,
 // so that each node sums its cells in a fixed order.
-func (r *fftRepulsion) spreadCells(stop func() bool) bool {
-	const d = interpNodes - 1
-	nx, mx, cells := r.nx, r.mx, r.nx*r.ny
-	parts := len(r.parts) - 1
-	r.cellQ = grow(r.cellQ, cells*cellNodes)
-	parallel.For(parts, parts, func(lo, hi, _ int) {
-		for p := lo; p < hi; p++ {
-			for c := r.parts[p]; c < r.parts[p+1]; c++ {
-				q := (*[cellNodes]float64)(r.cellQ[c*cellNodes:])
-				*q = [cellNodes]float64{}
-				for k := r.start[c]; k < r.start[c+1]; k++ {
-					w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*int(k):])
-					for b := 0; b < interpNodes; b++ {
-						wy, row := w[interpNodes+b], q[b*interpNodes:(b+1)*interpNodes]
-						for a := range row {
-							row[a] += wy * w[a]
-						}
+func (r *fftRepulsion) spreadCells() bool {
+	r.cellQ = grow(r.cellQ, r.nx*r.ny*cellNodes)
+	r.team.For(len(r.parts)-1, r.loops.cellCharges)
+	if r.halt() {
+		return false
+	}
+	clear(r.charge[:r.mx*r.my])
+	for r.pass = 0; r.pass < 2; r.pass++ {
+		r.team.For((r.ny-r.pass+1)/2, r.loops.cellRows)
+	}
+	return !r.halt()
+}
+
+// cellChargesBlock computes the charges on the nodes of the cells of the
+// parts [lo, hi).
+func (r *fftRepulsion) cellChargesBlock(lo, hi, _ int) {
+	for p := lo; p < hi; p++ {
+		for c := r.parts[p]; c < r.parts[p+1]; c++ {
+			q := (*[cellNodes]float64)(r.cellQ[c*cellNodes:])
+			*q = [cellNodes]float64{}
+			for k := r.start[c]; k < r.start[c+1]; k++ {
+				w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*int(k):])
+				for b := 0; b < interpNodes; b++ {
+					wy, row := w[interpNodes+b], q[b*interpNodes:(b+1)*interpNodes]
+					for a := range row {
+						row[a] += wy * w[a]
 					}
 				}
 			}
 		}
-	})
-	if stop() {
-		return false
 	}
+}
+
+// cellRowsBlock adds the charges of the cells of rows 2·row + pass, row in
+// [lo, hi), into the charge grid.
+func (r *fftRepulsion) cellRowsBlock(lo, hi, _ int) {
+	const d = interpNodes - 1
+	nx, mx := r.nx, r.mx
 	charge := r.charge[:mx*r.my]
-	clear(charge)
-	for pass := 0; pass < 2; pass++ {
-		parallel.For((r.ny-pass+1)/2, r.threads, func(lo, hi, _ int) {
-			for row := lo; row < hi; row++ {
-				cy := 2*row + pass
-				for cx := 0; cx < nx; cx++ {
-					c := cy*nx + cx
-					if r.start[c] == r.start[c+1] {
-						continue
-					}
-					q := r.cellQ[c*cellNodes : (c+1)*cellNodes]
-					base := cy*d*mx + cx*d
-					for b := 0; b < interpNodes; b++ {
-						dst := charge[base+b*mx : base+b*mx+interpNodes]
-						for a := range dst {
-							dst[a] += q[b*interpNodes+a]
-						}
-					}
+	for row := lo; row < hi; row++ {
+		cy := 2*row + r.pass
+		for cx := 0; cx < nx; cx++ {
+			c := cy*nx + cx
+			if r.start[c] == r.start[c+1] {
+				continue
+			}
+			q := r.cellQ[c*cellNodes : (c+1)*cellNodes]
+			base := cy*d*mx + cx*d
+			for b := 0; b < interpNodes; b++ {
+				dst := charge[base+b*mx : base+b*mx+interpNodes]
+				for a := range dst {
+					dst[a] += q[b*interpNodes+a]
 				}
 			}
-		})
+		}
 	}
-	return !stop()
 }
 
 // convolve transforms the charge grid, multiplies by the three kernel
 // spectra and transforms back, leaving the potentials in r.pot.
-func (r *fftRepulsion) convolve(stop func() bool) bool {
-	mx, my, ly, hw := r.mx, r.my, r.ly, r.lx/2+1
+func (r *fftRepulsion) convolve() bool {
 	// Rows: real transforms of the my charged rows; the others are zero.
-	parallel.For(my, r.threads, func(lo, hi, block int) {
-		wk := &r.workers[block]
-		clear(wk.line[mx:])
-		for row := lo; row < hi; row++ {
-			copy(wk.line, r.charge[row*mx:(row+1)*mx])
-			wk.rows.Coefficients(r.spec[row*hw:(row+1)*hw], wk.line)
-		}
-	})
-	clear(r.spec[my*hw:])
-	if stop() {
+	r.team.For(r.my, r.loops.rowsForward)
+	clear(r.spec[r.my*(r.lx/2+1):])
+	if r.halt() {
 		return false
 	}
 	// Columns: forward transform, then for each kernel the product and its
 	// inverse, of which only the first my rows are kept.
-	cells := my * hw
-	parallel.For(hw, r.threads, func(lo, hi, block int) {
-		wk := &r.workers[block]
-		for c := lo; c < hi; c++ {
-			for row := 0; row < ly; row++ {
-				wk.col[row] = r.spec[row*hw+c]
-			}
-			wk.cols.Coefficients(wk.col, wk.col)
-			for k := 0; k < 3; k++ {
-				for row := 0; row < ly; row++ {
-					v := wk.col[row]
-					switch k {
-					case 0: // multiply by i·Im K̂_x
-						s := r.kxIm[row*hw+c]
-						wk.product[row] = complex(-imag(v)*s, real(v)*s)
-					case 1:
-						s := r.kyIm[row*hw+c]
-						wk.product[row] = complex(-imag(v)*s, real(v)*s)
-					case 2:
-						s := r.kw[row*hw+c]
-						wk.product[row] = complex(real(v)*s, imag(v)*s)
-					}
-				}
-				wk.cols.Sequence(wk.product, wk.product)
-				out := r.half[k*cells:]
-				for row := 0; row < my; row++ {
-					out[row*hw+c] = wk.product[row]
-				}
-			}
-		}
-	})
-	if stop() {
+	r.team.For(r.lx/2+1, r.loops.columns)
+	if r.halt() {
 		return false
 	}
 	// Rows: inverse real transforms of the rows that hold nodes.
-	parallel.For(3*my, r.threads, func(lo, hi, block int) {
-		wk := &r.workers[block]
-		for kr := lo; kr < hi; kr++ {
-			wk.rows.Sequence(wk.line, r.half[kr*hw:(kr+1)*hw])
-			copy(r.pot[kr*mx:(kr+1)*mx], wk.line[:mx])
-		}
-	})
+	r.team.For(3*r.my, r.loops.rowsInverse)
 	return true
 }
 
-// interpolate evaluates the three potentials at each point with the same
-// Lagrange weights used to spread, writing the repulsive sums to dst and
-// Σ_j w_ij to r.zval.
-func (r *fftRepulsion) interpolate(dst []float64, stop func() bool) bool {
-	const d = interpNodes - 1
-	n, mx, cells := len(dst)/2, r.mx, r.mx*r.my
-	pot := r.pot[:3*cells]
-	var stopped atomic.Bool
-	parallel.For(n, r.threads, func(lo, hi, _ int) {
-		for i := lo; i < hi; i++ {
-			if (i-lo)%stopEvery == stopEvery-1 && stop() {
-				stopped.Store(true)
-				return
-			}
-			c := int(r.cellOf[i])
-			base := (c/r.nx)*d*mx + (c%r.nx)*d
-			w := r.wts[2*interpNodes*i:]
-			var f [3]float64
-			for b := 0; b < interpNodes; b++ {
-				wy := w[interpNodes+b]
-				for a := 0; a < interpNodes; a++ {
-					wt, node := wy*w[a], base+b*mx+a
-					f[0] += wt * pot[node]
-					f[1] += wt * pot[cells+node]
-					f[2] += wt * pot[2*cells+node]
+// rowsForwardBlock transforms the charge grid's rows [lo, hi) into spec.
+func (r *fftRepulsion) rowsForwardBlock(lo, hi, block int) {
+	mx, hw := r.mx, r.lx/2+1
+	wk := &r.workers[block]
+	clear(wk.line[mx:])
+	for row := lo; row < hi; row++ {
+		copy(wk.line, r.charge[row*mx:(row+1)*mx])
+		wk.rows.Coefficients(r.spec[row*hw:(row+1)*hw], wk.line)
+	}
+}
+
+// columnsBlock transforms the columns [lo, hi) of spec, multiplies them by
+// the three kernels' spectra and transforms the products back into half.
+func (r *fftRepulsion) columnsBlock(lo, hi, block int) {
+	my, ly, hw := r.my, r.ly, r.lx/2+1
+	cells := my * hw
+	wk := &r.workers[block]
+	for c := lo; c < hi; c++ {
+		for row := 0; row < ly; row++ {
+			wk.col[row] = r.spec[row*hw+c]
+		}
+		wk.cols.Coefficients(wk.col, wk.col)
+		for k := 0; k < 3; k++ {
+			for row := 0; row < ly; row++ {
+				v := wk.col[row]
+				switch k {
+				case 0: // multiply by i·Im K̂_x
+					s := r.kxIm[row*hw+c]
+					wk.product[row] = complex(-imag(v)*s, real(v)*s)
+				case 1:
+					s := r.kyIm[row*hw+c]
+					wk.product[row] = complex(-imag(v)*s, real(v)*s)
+				case 2:
+					s := r.kw[row*hw+c]
+					wk.product[row] = complex(real(v)*s, imag(v)*s)
 				}
 			}
-			dst[2*i], dst[2*i+1], r.zval[i] = f[0], f[1], f[2]
+			wk.cols.Sequence(wk.product, wk.product)
+			out := r.half[k*cells:]
+			for row := 0; row < my; row++ {
+				out[row*hw+c] = wk.product[row]
+			}
 		}
-	})
-	return !stopped.Load()
+	}
+}
+
+// rowsInverseBlock transforms the rows [lo, hi) of half back into the
+// potentials.
+func (r *fftRepulsion) rowsInverseBlock(lo, hi, block int) {
+	mx, hw := r.mx, r.lx/2+1
+	wk := &r.workers[block]
+	for kr := lo; kr < hi; kr++ {
+		wk.rows.Sequence(wk.line, r.half[kr*hw:(kr+1)*hw])
+		copy(r.pot[kr*mx:(kr+1)*mx], wk.line[:mx])
+	}
+}
+
+// interpolate evaluates the three potentials at each point with the same
+// Lagrange weights used to spread, writing the repulsive sums to r.dst and
+// Σ_j w_ij to r.zval.
+func (r *fftRepulsion) interpolate() bool {
+	r.team.For(len(r.dst)/2, r.loops.interpolate)
+	return !r.stopped.Load()
+}
+
+// interpolateBlock is interpolate for the points [lo, hi).
+func (r *fftRepulsion) interpolateBlock(lo, hi, _ int) {
+	const d = interpNodes - 1
+	mx, cells := r.mx, r.mx*r.my
+	pot := r.pot[:3*cells]
+	for i := lo; i < hi; i++ {
+		if (i-lo)%stopEvery == stopEvery-1 && r.halt() {
+			return
+		}
+		c := int(r.cellOf[i])
+		base := (c/r.nx)*d*mx + (c%r.nx)*d
+		w := r.wts[2*interpNodes*i:]
+		var f [3]float64
+		for b := 0; b < interpNodes; b++ {
+			wy := w[interpNodes+b]
+			for a := 0; a < interpNodes; a++ {
+				wt, node := wy*w[a], base+b*mx+a
+				f[0] += wt * pot[node]
+				f[1] += wt * pot[cells+node]
+				f[2] += wt * pot[2*cells+node]
+			}
+		}
+		r.dst[2*i], r.dst[2*i+1], r.zval[i] = f[0], f[1], f[2]
+	}
 }
 
 // interpolateNear is interpolate with the near field precorrected, for the
@@ -867,97 +980,104 @@ func (r *fftRepulsion) interpolate(dst []float64, stop func() bool) bool {
 // added to both points. The cells are split into one contiguous part per
 // thread with about equal work; each part accumulates into its own arrays,
 // which are summed in part order.
-func (r *fftRepulsion) interpolateNear(dst []float64, stop func() bool) bool {
-	const d = interpNodes - 1
-	n, nx, ny, mx, grid := len(r.sx), r.nx, r.ny, r.mx, r.mx*r.my
-	parts := len(r.parts) - 1
+func (r *fftRepulsion) interpolateNear() bool {
+	n, parts := len(r.sx), len(r.parts)-1
 	r.accX, r.accY, r.accW = growF32(r.accX, parts*n), growF32(r.accY, parts*n), growF32(r.accW, parts*n)
-	var stopped atomic.Bool
-	parallel.For(parts, parts, func(lo, hi, _ int) {
-		for p := lo; p < hi; p++ {
-			ax, ay, aw := r.accX[p*n:(p+1)*n], r.accY[p*n:(p+1)*n], r.accW[p*n:(p+1)*n]
-			clear(ax)
-			clear(ay)
-			clear(aw)
-			for c := r.parts[p]; c < r.parts[p+1]; c++ {
-				if c%64 == 0 && stop() {
-					stopped.Store(true)
-					return
-				}
-				if r.start[c] == r.start[c+1] {
-					continue
-				}
-				cx, cy := c%nx, c/nx
-				// v = grid potentials on the cell's nodes − the near part.
-				// Node t's three potentials are v[3t], v[3t+1], v[3t+2].
-				var v [blockRows]float64
-				base := cy*d*mx + cx*d
-				for t := 0; t < cellNodes; t++ {
-					node := base + (t/interpNodes)*mx + t%interpNodes
-					v[3*t], v[3*t+1], v[3*t+2] = r.pot[node], r.pot[grid+node], r.pot[2*grid+node]
-				}
-				for o := 0; o < 9; o++ {
-					sx, sy := cx+o%3-1, cy+o/3-1
-					if sx < 0 || sx >= nx || sy < 0 || sy >= ny {
-						continue
-					}
-					src := sy*nx + sx
-					if r.start[src] == r.start[src+1] {
-						continue
-					}
-					subBlock(&v, r.nearKernel[o*cellNodes*blockRows:(o+1)*cellNodes*blockRows], r.cellQ[src*cellNodes:(src+1)*cellNodes])
-				}
-				for k := r.start[c]; k < r.start[c+1]; k++ {
-					w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*int(k):])
-					var f [3]float64
-					for b := 0; b < interpNodes; b++ {
-						var g [3]float64
-						row := v[3*interpNodes*b : 3*interpNodes*(b+1)]
-						for a := 0; a < interpNodes; a++ {
-							g[0] += w[a] * row[3*a]
-							g[1] += w[a] * row[3*a+1]
-							g[2] += w[a] * row[3*a+2]
-						}
-						wy := w[interpNodes+b]
-						f[0] += wy * g[0]
-						f[1] += wy * g[1]
-						f[2] += wy * g[2]
-					}
-					ax[k] += float32(f[0])
-					ay[k] += float32(f[1])
-					aw[k] += float32(f[2] + 1) // the exact self term, w_ii = 1
-				}
-				// Exact pairs: within the cell, then with the forward neighbours.
-				r.pairs(ax, ay, aw, r.start[c], r.start[c+1], r.start[c], r.start[c+1], 0, 0, true)
-				for _, o := range [4][2]int{{1, 0}, {-1, 1}, {0, 1}, {1, 1}} {
-					sx, sy := cx+o[0], cy+o[1]
-					if sx < 0 || sx >= nx || sy >= ny {
-						continue
-					}
-					src := sy*nx + sx
-					// In the neighbour's frame, the cell's corner lies at −o·h.
-					ox, oy := float32(-float64(o[0])*r.h), float32(-float64(o[1])*r.h)
-					r.pairs(ax, ay, aw, r.start[c], r.start[c+1], r.start[src], r.start[src+1], ox, oy, false)
-				}
-			}
-		}
-	})
-	if stopped.Load() {
+	r.team.For(parts, r.loops.near)
+	if r.stopped.Load() {
 		return false
 	}
-	parallel.For(n, r.threads, func(lo, hi, _ int) {
-		for k := lo; k < hi; k++ {
-			var f [3]float64
-			for p := 0; p < parts; p++ {
-				f[0] += float64(r.accX[p*n+k])
-				f[1] += float64(r.accY[p*n+k])
-				f[2] += float64(r.accW[p*n+k])
-			}
-			i := r.order[k]
-			dst[2*i], dst[2*i+1], r.zval[i] = f[0], f[1], f[2]
-		}
-	})
+	r.team.For(n, r.loops.gather)
 	return true
+}
+
+// nearBlock is interpolateNear's work for the parts [lo, hi).
+func (r *fftRepulsion) nearBlock(lo, hi, _ int) {
+	const d = interpNodes - 1
+	n, nx, ny, mx, grid := len(r.sx), r.nx, r.ny, r.mx, r.mx*r.my
+	for p := lo; p < hi; p++ {
+		ax, ay, aw := r.accX[p*n:(p+1)*n], r.accY[p*n:(p+1)*n], r.accW[p*n:(p+1)*n]
+		clear(ax)
+		clear(ay)
+		clear(aw)
+		for c := r.parts[p]; c < r.parts[p+1]; c++ {
+			if c%64 == 0 && r.halt() {
+				return
+			}
+			if r.start[c] == r.start[c+1] {
+				continue
+			}
+			cx, cy := c%nx, c/nx
+			// v = grid potentials on the cell's nodes − the near part.
+			// Node t's three potentials are v[3t], v[3t+1], v[3t+2].
+			var v [blockRows]float64
+			base := cy*d*mx + cx*d
+			for t := 0; t < cellNodes; t++ {
+				node := base + (t/interpNodes)*mx + t%interpNodes
+				v[3*t], v[3*t+1], v[3*t+2] = r.pot[node], r.pot[grid+node], r.pot[2*grid+node]
+			}
+			for o := 0; o < 9; o++ {
+				sx, sy := cx+o%3-1, cy+o/3-1
+				if sx < 0 || sx >= nx || sy < 0 || sy >= ny {
+					continue
+				}
+				src := sy*nx + sx
+				if r.start[src] == r.start[src+1] {
+					continue
+				}
+				subBlock(&v, r.nearKernel[o*cellNodes*blockRows:(o+1)*cellNodes*blockRows], r.cellQ[src*cellNodes:(src+1)*cellNodes])
+			}
+			for k := r.start[c]; k < r.start[c+1]; k++ {
+				w := (*[2 * interpNodes]float64)(r.wts[2*interpNodes*int(k):])
+				var f [3]float64
+				for b := 0; b < interpNodes; b++ {
+					var g [3]float64
+					row := v[3*interpNodes*b : 3*interpNodes*(b+1)]
+					for a := 0; a < interpNodes; a++ {
+						g[0] += w[a] * row[3*a]
+						g[1] += w[a] * row[3*a+1]
+						g[2] += w[a] * row[3*a+2]
+					}
+					wy := w[interpNodes+b]
+					f[0] += wy * g[0]
+					f[1] += wy * g[1]
+					f[2] += wy * g[2]
+				}
+				ax[k] += float32(f[0])
+				ay[k] += float32(f[1])
+				aw[k] += float32(f[2] + 1) // the exact self term, w_ii = 1
+			}
+			// Exact pairs: within the cell, then with the forward neighbours.
+			r.pairs(ax, ay, aw, r.start[c], r.start[c+1], r.start[c], r.start[c+1], 0, 0, true)
+			for _, o := range [4][2]int{{1, 0}, {-1, 1}, {0, 1}, {1, 1}} {
+				sx, sy := cx+o[0], cy+o[1]
+				if sx < 0 || sx >= nx || sy >= ny {
+					continue
+				}
+				src := sy*nx + sx
+				// In the neighbour's frame, the cell's corner lies at −o·h.
+				ox, oy := float32(-float64(o[0])*r.h), float32(-float64(o[1])*r.h)
+				r.pairs(ax, ay, aw, r.start[c], r.start[c+1], r.start[src], r.start[src+1], ox, oy, false)
+			}
+		}
+	}
+}
+
+// gatherBlock sums the parts' accumulators for the sorted points [lo, hi)
+// in part order and writes them to the points' own places in r.dst and
+// r.zval.
+func (r *fftRepulsion) gatherBlock(lo, hi, _ int) {
+	n, parts := len(r.sx), len(r.parts)-1
+	for k := lo; k < hi; k++ {
+		var f [3]float64
+		for p := 0; p < parts; p++ {
+			f[0] += float64(r.accX[p*n+k])
+			f[1] += float64(r.accY[p*n+k])
+			f[2] += float64(r.accW[p*n+k])
+		}
+		i := r.order[k]
+		r.dst[2*i], r.dst[2*i+1], r.zval[i] = f[0], f[1], f[2]
+	}
 }
 
 // pairs adds the exact kernel sums between the sorted points [alo, ahi) and

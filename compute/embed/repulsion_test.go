@@ -86,7 +86,7 @@ func TestFFTRepulsionAgainstExact(t *testing.T) {
 			}
 			exact := make([]float64, 2*n)
 			zExact := ExactRepulsion(exact, c.y, tail, 0)
-			r := newFFTRepulsion(0, tail)
+			r := newFFTRepulsion(testTeam(t, 0), tail)
 			got := make([]float64, 2*n)
 			z, ok := r.compute(got, c.y, bbox(c.y), never)
 			if !ok {
@@ -114,7 +114,7 @@ func TestFFTRepulsionAgainstExact(t *testing.T) {
 func TestFFTRepulsionOnNodes(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 5))
 	const n = 1500
-	r := newFFTRepulsion(0, 1)
+	r := newFFTRepulsion(testTeam(t, 0), 1)
 	// A layout of extent 2 uses the grid alone with 8 cells of width 1/4
 	// (a power of 2^(1/8), so not rounded); nodes lie 1/16 apart.
 	y := make([]float64, 2*n)
@@ -144,7 +144,7 @@ func TestFFTRepulsionOnNodes(t *testing.T) {
 // reproducible parallel code).
 func TestFFTRepulsionDeterministic(t *testing.T) {
 	a, b := clusteredLayout(3000, 40, 7), clusteredLayout(3000, 90, 8)
-	r := newFFTRepulsion(3, 1)
+	r := newFFTRepulsion(testTeam(t, 3), 1)
 	first := make([]float64, len(a))
 	z1, _ := r.compute(first, a, bbox(a), never)
 	other := make([]float64, len(b))

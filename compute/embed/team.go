@@ -1,0 +1,76 @@
+package embed
+
+import (
+	"sync"
+
+	"lodestone/compute/parallel"
+)
+
+// team runs the parallel loops of a run on goroutines it keeps for the
+// run's length: the caller's and threads − 1 workers. A loop costs no
+// allocation when its body is a function value made once (a method value
+// stored when the run starts), which is how the optimiser's iterations
+// allocate nothing. The blocks of [0, n) are those of parallel.Blocks, so
+// sums reduced block by block in block order are those of parallel.For.
+type team struct {
+	threads int
+	work    []chan teamTask
+	done    *sync.WaitGroup
+}
+
+// teamTask is one block of a loop for a worker.
+type teamTask struct {
+	body          func(lo, hi, block int)
+	lo, hi, block int
+}
+
+// newTeam starts the workers for threads goroutines (threads < 1 means all
+// processors). close must be called when the team is no longer needed.
+func newTeam(threads int) *team {
+	t := &team{threads: parallel.Threads(threads), done: new(sync.WaitGroup)}
+	t.work = make([]chan teamTask, t.threads-1)
+	for w := range t.work {
+		work, done := make(chan teamTask), t.done
+		t.work[w] = work
+		go func() {
+			for task := range work {
+				task.body(task.lo, task.hi, task.block)
+				done.Done()
+			}
+		}()
+	}
+	return t
+}
+
+// blockBound returns the start of block b of [0, n) split into parts
+// blocks, as parallel.Blocks computes it.
+func blockBound(n, b, parts int) int {
+	return int(int64(n) * int64(b) / int64(parts))
+}
+
+// For calls body(lo, hi, block) for the blocks of [0, n) split for the
+// team's goroutines, as parallel.For does, and waits for all of them. Block
+// 0 runs on the caller's goroutine.
+func (t *team) For(n int, body func(lo, hi, block int)) {
+	if n <= 0 {
+		return
+	}
+	parts := min(t.threads, n)
+	if parts == 1 {
+		body(0, n, 0)
+		return
+	}
+	t.done.Add(parts - 1)
+	for b := 1; b < parts; b++ {
+		t.work[b-1] <- teamTask{body: body, lo: blockBound(n, b, parts), hi: blockBound(n, b+1, parts), block: b}
+	}
+	body(0, blockBound(n, 1, parts), 0)
+	t.done.Wait()
+}
+
+// close ends the workers. The team must not be used afterwards.
+func (t *team) close() {
+	for _, w := range t.work {
+		close(w)
+	}
+}

@@ -1,0 +1,82 @@
+package embed
+
+import (
+	"slices"
+	"sync"
+	"testing"
+
+	"lodestone/compute/parallel"
+)
+
+// TestTeamBlocks checks that a team splits a range into the blocks of
+// parallel.Blocks, each passed once with its block number, so that sums
+// reduced in block order are those of parallel.For.
+func TestTeamBlocks(t *testing.T) {
+	for _, threads := range []int{1, 2, 3, 8} {
+		tm := testTeam(t, threads)
+		for _, n := range []int{0, 1, 2, 5, 7, 1000, 4097} {
+			var mu sync.Mutex
+			var got [][3]int
+			tm.For(n, func(lo, hi, block int) {
+				mu.Lock()
+				got = append(got, [3]int{lo, hi, block})
+				mu.Unlock()
+			})
+			slices.SortFunc(got, func(a, b [3]int) int { return a[2] - b[2] })
+			var want [][3]int
+			if n > 0 {
+				bounds := parallel.Blocks(n, threads)
+				for b := 0; b+1 < len(bounds); b++ {
+					want = append(want, [3]int{bounds[b], bounds[b+1], b})
+				}
+			}
+			if !slices.Equal(got, want) {
+				t.Fatalf("threads %d, n %d: blocks %v, want %v", threads, n, got, want)
+			}
+		}
+	}
+}
+
+// TestIterationAllocatesNothing checks that an iteration of the optimiser
+// allocates nothing once its buffers fit the map: with the exact repulsion
+// (under exactBelow points), the grid alone and the grid with the near
+// field, with and without the KL estimate. The learning rate is 0 so that
+// the map, and with it the grid, stays as it is between the measured
+// iterations (a grid that grows must grow its buffers); every stage of the
+// iteration still runs.
+func TestIterationAllocatesNothing(t *testing.T) {
+	cases := []struct {
+		name   string
+		n      int
+		extent float64
+		near   bool
+	}{
+		{"exact", 600, 30, false},
+		{"grid", 3000, 6, false},
+		{"near field", 5000, 60, true},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			P := mixtureAffinity(t, c.n)
+			a, err := checkAffinity(P, c.n, 2)
+			if err != nil {
+				t.Fatal(err)
+			}
+			p := Params{Attraction: 1, Threads: 2}
+			if err := p.check(); err != nil {
+				t.Fatal(err)
+			}
+			o := newOptimizer(a, clusteredLayout(c.n, c.extent, 4), p)
+			defer o.close()
+			for _, kl := range []bool{false, true} {
+				o.iterate(1, lateMomentum, 0, kl, never)
+				if o.fft != nil && o.fft.near != c.near {
+					t.Fatalf("near field %v, want %v", o.fft.near, c.near)
+				}
+				if allocs := testing.AllocsPerRun(5, func() { o.iterate(1, lateMomentum, 0, kl, never) }); allocs != 0 {
+					t.Errorf("KL %v: %g allocations per iteration", kl, allocs)
+				}
+			}
+		})
+	}
+}
