@@ -190,20 +190,17 @@ func renumber(x *atlas.Dense, trees []*rpTree, threads int) (*atlas.Dense, []int
 	return z, order
 }
 
-// restore returns the first k neighbours of each point of g, a graph over
-// renumbered points, in the original numbering: row order[r] of the result
-// is row r of g, with every id mapped through order, and entries of equal
-// distance put back in order of their original ids before the row is cut
-// to k.
+// restore turns g, a graph over renumbered points, into the graph of its
+// first k neighbours in the original numbering, in place (its arrays are
+// reused): row order[r] of the result is row r of g, with every id mapped
+// through order, and entries of equal distance put back in order of their
+// original ids before the row is cut to k.
 func restore(g *Graph, k int, order []int32, threads int) *Graph {
-	out := &Graph{N: g.N, K: k, Index: make([]int32, g.N*k), Dist: make([]float32, g.N*k)}
-	parallel.For(g.N, threads, func(lo, hi, _ int) {
-		idx := make([]int32, g.K)
-		dist := make([]float32, g.K)
+	n, kb := g.N, g.K
+	parallel.For(n, threads, func(lo, hi, _ int) {
 		for r := lo; r < hi; r++ {
-			copy(dist, g.Dist[r*g.K:(r+1)*g.K])
-			for e, id := range g.Index[r*g.K : (r+1)*g.K] {
-				idx[e] = id
+			idx, dist := g.Index[r*kb:(r+1)*kb], g.Dist[r*kb:(r+1)*kb]
+			for e, id := range idx {
 				if id >= 0 {
 					idx[e] = order[id]
 				}
@@ -212,10 +209,40 @@ func restore(g *Graph, k int, order []int32, threads int) *Graph {
 					idx[m-1], idx[m] = idx[m], idx[m-1]
 				}
 			}
-			i := int(order[r])
-			copy(out.Index[i*k:(i+1)*k], idx[:k])
-			copy(out.Dist[i*k:(i+1)*k], dist[:k])
 		}
 	})
-	return out
+	if k < kb {
+		// Rows move towards the front only, so each is read before it
+		// is written over.
+		for r := 1; r < n; r++ {
+			copy(g.Index[r*k:(r+1)*k], g.Index[r*kb:r*kb+k])
+			copy(g.Dist[r*k:(r+1)*k], g.Dist[r*kb:r*kb+k])
+		}
+		g.Index, g.Dist, g.K = g.Index[:n*k], g.Dist[:n*k], k
+	}
+	// Move row r to order[r], one cycle of the permutation at a time.
+	done := make([]bool, n)
+	idx, dist := make([]int32, k), make([]float32, k)
+	for s := range done {
+		if done[s] {
+			continue
+		}
+		copy(idx, g.Index[s*k:(s+1)*k])
+		copy(dist, g.Dist[s*k:(s+1)*k])
+		// idx and dist hold row r, not yet in place; the cycle closes when
+		// it reaches s again.
+		for r := s; ; {
+			next := int(order[r])
+			for e := range k {
+				idx[e], g.Index[next*k+e] = g.Index[next*k+e], idx[e]
+				dist[e], g.Dist[next*k+e] = g.Dist[next*k+e], dist[e]
+			}
+			done[next] = true
+			if next == s {
+				break
+			}
+			r = next
+		}
+	}
+	return g
 }
