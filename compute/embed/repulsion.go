@@ -680,29 +680,47 @@ func (r *fftRepulsion) resize() {
 func (r *fftRepulsion) kernelSpectra() {
 	r.kernelDelta = r.delta
 	lx, ly, hw := r.lx, r.ly, r.lx/2+1
-	offset := func(i, l int) float64 {
-		if i > l/2 {
-			i -= l
-		}
-		return float64(i) * r.delta
-	}
 	for k, dst := range [][]float64{r.kxIm, r.kyIm, r.kw} {
-		// Rows of the kernel, transformed along x into spec.
-		r.team.For(ly, func(lo, hi, block int) {
+		// Rows 0 … ly/2 of the kernel, transformed along x into spec. Each
+		// kernel is odd or even along each axis (K_x odd in x, K_y odd in y,
+		// even otherwise), so the columns past lx/2 are those before it,
+		// negated for K_x, and the rows past ly/2 have the transforms of the
+		// rows before it, negated for K_y: the values of evaluating them, bit
+		// for bit, at a quarter of the kernel evaluations and half the row
+		// transforms. The Nyquist offsets ±l/2 share one sample; leaving them
+		// zero keeps the odd kernels exactly odd. (The convolution never uses
+		// offsets beyond ±(l/2 − 1).)
+		r.team.For(ly/2+1, func(lo, hi, block int) {
 			wk := &r.workers[block]
+			line := wk.line[:lx]
 			for row := lo; row < hi; row++ {
-				dy := offset(row, ly)
-				for col := 0; col < lx; col++ {
-					kx, ky, kw := r.tail.at(offset(col, lx), dy)
-					wk.line[col] = [3]float64{kx, ky, kw}[k]
-					// The Nyquist offsets ±l/2 share one sample; leaving them
-					// zero keeps the odd kernels exactly odd. (The convolution
-					// never uses offsets beyond ±(l/2 − 1).)
-					if col == lx/2 || row == ly/2 {
-						wk.line[col] = 0
+				clear(line)
+				if row != ly/2 {
+					dy := float64(row) * r.delta
+					for col := 0; col < lx/2; col++ {
+						kx, ky, kw := r.tail.at(float64(col)*r.delta, dy)
+						v := [3]float64{kx, ky, kw}[k]
+						line[col] = v
+						if col > 0 && k == 0 {
+							line[lx-col] = -v
+						} else if col > 0 {
+							line[lx-col] = v
+						}
 					}
 				}
-				wk.rows.Coefficients(r.spec[row*hw:(row+1)*hw], wk.line)
+				wk.rows.Coefficients(r.spec[row*hw:(row+1)*hw], line)
+			}
+		})
+		r.team.For(ly-ly/2-1, func(lo, hi, _ int) {
+			for row := ly/2 + 1 + lo; row < ly/2+1+hi; row++ {
+				src, out := r.spec[(ly-row)*hw:(ly-row+1)*hw], r.spec[row*hw:(row+1)*hw]
+				if k == 1 {
+					for c, v := range src {
+						out[c] = -v
+					}
+				} else {
+					copy(out, src)
+				}
 			}
 		})
 		scale := 1 / float64(lx*ly)

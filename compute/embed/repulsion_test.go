@@ -6,6 +6,8 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"gonum.org/v1/gonum/dsp/fourier"
+
 	"lodestone/compute/synth"
 )
 
@@ -157,6 +159,61 @@ func TestFFTRepulsionDeterministic(t *testing.T) {
 	for i := range first {
 		if first[i] != again[i] {
 			t.Fatalf("component %d changed between identical calls", i)
+		}
+	}
+}
+
+// TestKernelSpectraSymmetry checks that the kernel spectra, built from a
+// quarter of the kernel's samples and half of the row transforms by the
+// kernels' symmetries, equal bit for bit those of every sample evaluated and
+// transformed (rows, then columns, with gonum's transforms), for tails 1, 0.5
+// and 3 on grids of unequal sides.
+func TestKernelSpectraSymmetry(t *testing.T) {
+	for _, tail := range []float64{1, 0.5, 3} {
+		y := clusteredLayout(5000, 60, 9)
+		y[0], y[1] = 45, -10 // a wider than high bounding box
+		r := newFFTRepulsion(testTeam(t, 2), tail)
+		r.compute(make([]float64, len(y)), y, bbox(y), never)
+		lx, ly, hw := r.lx, r.ly, r.lx/2+1
+		if lx == ly {
+			t.Fatalf("tail %g: square grid %d × %d", tail, lx, ly)
+		}
+		offset := func(i, l int) float64 {
+			if i > l/2 {
+				i -= l
+			}
+			return float64(i) * r.delta
+		}
+		rows, cols := fourier.NewFFT(lx), fourier.NewCmplxFFT(ly)
+		spec := make([]complex128, ly*hw)
+		line, col := make([]float64, lx), make([]complex128, ly)
+		for k, got := range [][]float64{r.kxIm, r.kyIm, r.kw} {
+			for row := 0; row < ly; row++ {
+				for c := range line {
+					kx, ky, kw := r.tail.at(offset(c, lx), offset(row, ly))
+					line[c] = [3]float64{kx, ky, kw}[k]
+					if c == lx/2 || row == ly/2 {
+						line[c] = 0
+					}
+				}
+				rows.Coefficients(spec[row*hw:(row+1)*hw], line)
+			}
+			scale := 1 / float64(lx*ly)
+			for c := 0; c < hw; c++ {
+				for row := range col {
+					col[row] = spec[row*hw+c]
+				}
+				cols.Coefficients(col, col)
+				for row, v := range col {
+					want := imag(v) * scale
+					if k == 2 {
+						want = real(v) * scale
+					}
+					if got[row*hw+c] != want {
+						t.Fatalf("tail %g, kernel %d, row %d, column %d: %v, want %v", tail, k, row, c, got[row*hw+c], want)
+					}
+				}
+			}
 		}
 	}
 }
