@@ -3,6 +3,7 @@ package embed
 import (
 	"context"
 	"math"
+	"sort"
 	"sync"
 	"sync/atomic"
 
@@ -112,6 +113,7 @@ type attraction struct {
 	team  *team
 	p     *sparse.CSR
 	alpha float64
+	rows  []int // the blocks of rows (rowBlocks)
 
 	// The inputs and outputs of the current call, for the loops' bodies.
 	y           []float64
@@ -127,9 +129,25 @@ type attraction struct {
 // newAttraction returns the attractive sums of P for the kernel of tail α,
 // computed on the team's goroutines.
 func newAttraction(tm *team, p *sparse.CSR, alpha float64) *attraction {
-	a := &attraction{team: tm, p: p, alpha: alpha}
+	a := &attraction{team: tm, p: p, alpha: alpha, rows: rowBlocks(p, tm.threads)}
 	a.body, a.body32 = a.block, a.block32
 	return a
+}
+
+// rowBlocks splits the rows of P into at most parts blocks of contiguous
+// rows holding about equal numbers of stored entries (the work of the
+// attraction; some rows of a symmetrised neighbour graph hold several times
+// as many as others), and returns their boundaries.
+func rowBlocks(p *sparse.CSR, parts int) []int {
+	parts = max(1, min(parts, p.Rows))
+	bounds := make([]int, parts+1)
+	nnz := p.RowPtr[p.Rows]
+	for b := 1; b < parts; b++ {
+		goal := nnz * int64(b) / int64(parts)
+		bounds[b] = max(bounds[b-1], sort.Search(p.Rows, func(i int) bool { return p.RowPtr[i] >= goal }))
+	}
+	bounds[parts] = p.Rows
+	return bounds
 }
 
 // halt reports whether stop reported true, now or in an earlier check of
@@ -150,16 +168,16 @@ func (a *attraction) halt() bool {
 //
 //	dst_i = Σ_j p_ij u_ij (y_i − y_j),   u_ij = 1 / (1 + |y_i − y_j|²/α) = α / (α + |y_i − y_j|²),
 //
-// over the stored entries of P, one block of rows per goroutine; dst may be
-// nil when only the sums below are wanted. When logs is not nil it also
-// stores in logs[block] the block's Σ p_ij log(α + |y_i − y_j|²) (at α = 1,
+// over the stored entries of P, one block of rows per goroutine
+// (rowBlocks); dst may be nil when only the sums below are wanted. When
+// logs is not nil it also stores in logs[block] the block's Σ p_ij log(α + |y_i − y_j|²) (at α = 1,
 // −Σ p_ij log w_ij), and when plogp is not nil as well the block's
 // Σ p_ij log p_ij, for the KL divergence. It returns false when stop
 // reported true part-way.
 func (a *attraction) sums(dst, y []float64, logs, plogp []float64, stop func() bool) bool {
 	a.dst, a.y, a.logs, a.plogp, a.stop = dst, y, logs, plogp, stop
 	a.stopped.Store(false)
-	a.team.For(a.p.Rows, a.body)
+	a.team.Split(a.rows, a.body)
 	a.dst, a.y, a.logs, a.plogp, a.stop = nil, nil, nil, nil, nil
 	return !a.stopped.Load()
 }
@@ -211,7 +229,7 @@ func (a *attraction) block(lo, hi, block int) {
 func (a *attraction) sums32(dst []float64, y32 []float32, stop func() bool) bool {
 	a.dst, a.y32, a.stop = dst, y32, stop
 	a.stopped.Store(false)
-	a.team.For(a.p.Rows, a.body32)
+	a.team.Split(a.rows, a.body32)
 	a.dst, a.y32, a.stop = nil, nil, nil
 	return !a.stopped.Load()
 }

@@ -68,6 +68,26 @@ func (t *team) For(n int, body func(lo, hi, block int)) {
 	t.done.Wait()
 }
 
+// Split calls body(bounds[b], bounds[b+1], b) for each block b of the given
+// boundaries, at most as many blocks as the team has goroutines, and waits
+// for all of them. Block 0 runs on the caller's goroutine.
+func (t *team) Split(bounds []int, body func(lo, hi, block int)) {
+	parts := len(bounds) - 1
+	if parts <= 0 {
+		return
+	}
+	if parts == 1 {
+		body(bounds[0], bounds[1], 0)
+		return
+	}
+	t.done.Add(parts - 1)
+	for b := 1; b < parts; b++ {
+		t.work[b-1] <- teamTask{body: body, lo: bounds[b], hi: bounds[b+1], block: b}
+	}
+	body(bounds[0], bounds[1], 0)
+	t.done.Wait()
+}
+
 // close ends the workers. The team must not be used afterwards.
 func (t *team) close() {
 	for _, w := range t.work {

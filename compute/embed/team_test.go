@@ -80,3 +80,29 @@ func TestIterationAllocatesNothing(t *testing.T) {
 		})
 	}
 }
+
+// TestRowBlocks checks that the attraction's blocks of rows cover the rows
+// in order and hold about equal numbers of stored entries: each block's
+// count is within one row's entries of the even share.
+func TestRowBlocks(t *testing.T) {
+	P := mixtureAffinity(t, 3000)
+	var widest int64
+	for i := 0; i < P.Rows; i++ {
+		widest = max(widest, P.RowPtr[i+1]-P.RowPtr[i])
+	}
+	for _, parts := range []int{1, 2, 3, 7} {
+		b := rowBlocks(P, parts)
+		if len(b) != parts+1 || b[0] != 0 || b[parts] != P.Rows {
+			t.Fatalf("%d parts: bounds %v", parts, b)
+		}
+		share := P.RowPtr[P.Rows] / int64(parts)
+		for k := 0; k < parts; k++ {
+			if b[k+1] < b[k] {
+				t.Fatalf("%d parts: bounds %v out of order", parts, b)
+			}
+			if got := P.RowPtr[b[k+1]] - P.RowPtr[b[k]]; got < share-widest || got > share+widest {
+				t.Errorf("%d parts: block %d holds %d entries, share %d (widest row %d)", parts, k, got, share, widest)
+			}
+		}
+	}
+}
