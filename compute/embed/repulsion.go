@@ -448,9 +448,15 @@ func (r *fftRepulsion) setGrid(bounds [4]float64) {
 		}
 	}
 	place(best)
-	r.locate(false)
+	if r.near && best != h0 {
+		// The census counted the points in the cells of width h0; these
+		// cells need their own count.
+		r.locate(false)
+		work0, _ = r.tally(n)
+	}
 	if r.near {
-		if work0, _ = r.bin(); work0 > maxNearWork*int64(n) {
+		r.bin()
+		if work0 > maxNearWork*int64(n) {
 			// Only a layout with a few points very far from the rest gets
 			// here (the cells are as narrow as the FFT allows and still
 			// crowded): the grid alone bounds the time of a call, at a loss
@@ -604,16 +610,14 @@ func (r *fftRepulsion) tally(n int) (int64, int) {
 }
 
 // bin sorts the points by cell (counting sort, stable in point id; each
-// block of points placed by its own thread from tally's block offsets) and
-// returns tally's work and occupied cells.
-func (r *fftRepulsion) bin() (int64, int) {
+// block of points placed by its own thread from the block offsets of the
+// last tally, which must have counted the points in the current cells).
+func (r *fftRepulsion) bin() {
 	n := len(r.y) / 2
-	work, occupied := r.tally(n)
 	r.order = grow32(r.order, n)
 	r.sx, r.sy = grow(r.sx, n), grow(r.sy, n)
 	r.rx, r.ry = growF32(r.rx, n), growF32(r.ry, n)
 	r.team.For(n, r.loops.bin)
-	return work, occupied
 }
 
 // binBlock places the points [lo, hi) of block b in the sorted order.
