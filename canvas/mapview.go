@@ -639,20 +639,29 @@ func (r *mapRenderer) placeTip() {
 	r.tipBox.StrokeWidth = 1
 	ts := r.tipText.MinSize()
 	pad := float32(5)
-	pos := fyne.NewPos(m.tipAt.X+14, m.tipAt.Y+10)
-	size := m.Size()
-	if pos.X+ts.Width+2*pad > size.Width {
-		pos.X = m.tipAt.X - 14 - ts.Width - 2*pad
-	}
-	if pos.Y+ts.Height+2*pad > size.Height {
-		pos.Y = m.tipAt.Y - 10 - ts.Height - 2*pad
-	}
+	box := fyne.NewSize(ts.Width+2*pad, ts.Height+2*pad)
+	pos := fyne.NewPos(tipOffset(m.tipAt.X, 14, box.Width, m.Size().Width), tipOffset(m.tipAt.Y, 10, box.Height, m.Size().Height))
 	r.tipBox.Move(pos)
-	r.tipBox.Resize(fyne.NewSize(ts.Width+2*pad, ts.Height+2*pad))
+	r.tipBox.Resize(box)
 	r.tipText.Move(pos.Add(fyne.NewPos(pad, pad)))
 	r.tipText.Resize(ts)
 	r.tipBox.Show()
 	r.tipText.Show()
+}
+
+// tipOffset returns where a tip of length l begins along one axis of a map
+// of length room, for the pointer at p: gap beyond the pointer when the tip
+// fits there, else gap before it when it fits there, else as near that
+// side as the map allows — clamped to [0, room − l], and at 0 when the tip
+// is longer than the map, so that its beginning always shows.
+func tipOffset(p, gap, l, room float32) float32 {
+	if p+gap+l <= room {
+		return p + gap
+	}
+	if p-gap-l >= 0 {
+		return p - gap - l
+	}
+	return max(0, min(p-gap-l, room-l))
 }
 
 // dimmed returns c faded towards the background, for cells outside the

@@ -417,3 +417,63 @@ func TestPercentilesAgreeWithSorting(t *testing.T) {
 		}
 	}
 }
+
+// TestHoverTipStaysInsideTheMap hovers over cells across a map narrower
+// than twice its tip, where the tip fits on neither side of some cells:
+// the tip must lie inside the map every time (its left end was cut off at
+// the map's left edge), and beside the pointer, not over it, wherever it
+// fits there. A tip wider than the map begins at its left edge.
+func TestHoverTipStaysInsideTheMap(t *testing.T) {
+	a := test.NewApp()
+	defer a.Quit()
+	m := NewMap()
+	w := test.NewWindow(m)
+	defer w.Close()
+	w.Resize(fyne.NewSize(300, 200))
+	const n = 41
+	layout := make([]float32, 2*n)
+	for i := 0; i < n; i++ {
+		layout[2*i], layout[2*i+1] = float32(i), float32(i%5)
+	}
+	m.SetLayout(layout)
+	m.SetPaint(make([]uint16, n), []color.NRGBA{{R: 200, A: 255}})
+	w.Canvas().Capture()
+	r := test.WidgetRenderer(m).(*mapRenderer)
+	size := m.Size()
+	for _, text := range []string{"a cell's name, its group and its value", "a tip far wider than the whole of this small map, which cannot show it all"} {
+		m.HoverText = func(int) string { return text }
+		shown := 0
+		for i := 0; i < n; i++ {
+			px, py := m.View().ToPixel(float64(layout[2*i]), float64(layout[2*i+1]))
+			at := fyne.NewPos(float32(px), float32(py))
+			m.MouseMoved(&desktop.MouseEvent{PointEvent: fyne.PointEvent{Position: at}})
+			if m.hover != i {
+				t.Fatalf("pointer at cell %d (%v) hovers %d", i, at, m.hover)
+			}
+			if !r.tipBox.Visible() {
+				t.Fatalf("no tip over cell %d", i)
+			}
+			shown++
+			pos, box := r.tipBox.Position(), r.tipBox.Size()
+			if box.Width <= size.Width {
+				if pos.X < 0 || pos.X+box.Width > size.Width {
+					t.Errorf("tip %q over cell %d at x = %v: spans %v … %v in a map %v wide", text, i, at.X, pos.X, pos.X+box.Width, size.Width)
+				}
+				if fitsBeside := at.X+14+box.Width <= size.Width || at.X-14-box.Width >= 0; fitsBeside && pos.X <= at.X && at.X <= pos.X+box.Width {
+					t.Errorf("tip over cell %d covers the pointer at x = %v although it fits beside it (%v … %v)", i, at.X, pos.X, pos.X+box.Width)
+				}
+			} else if pos.X != 0 {
+				t.Errorf("tip wider than the map over cell %d begins at x = %v, not at the map's left edge", i, pos.X)
+			}
+			if pos.Y < 0 || pos.Y+box.Height > size.Height {
+				t.Errorf("tip over cell %d spans y %v … %v in a map %v high", i, pos.Y, pos.Y+box.Height, size.Height)
+			}
+			if tp := r.tipText.Position(); tp.X != pos.X+5 || tp.Y != pos.Y+5 {
+				t.Errorf("tip text at %v, not inside its box at %v", tp, pos)
+			}
+		}
+		if shown != n {
+			t.Fatalf("tips shown over %d of %d cells", shown, n)
+		}
+	}
+}
