@@ -59,6 +59,16 @@ type Optimizer interface {
 	Spectral(ctx context.Context, like []float32) ([]float32, error)
 }
 
+// Preparer is an Optimizer that can compute ahead the first iteration of
+// runs from given layouts (TSNE does): the engine has it prepare the runs
+// a turn of the dial may start, while the map stands still.
+type Preparer interface {
+	// Prepare prepares runs from each of the layouts with the tail; a
+	// later Run from one of them gives the same layout as without, sooner.
+	// It returns ctx.Err() when cancelled.
+	Prepare(ctx context.Context, tail float64, layouts ...[]float32) error
+}
+
 // Status describes the engine's current run.
 type Status struct {
 	Running    bool
@@ -192,6 +202,8 @@ type Engine struct {
 	gen        uint64
 	cancel     context.CancelFunc
 	done       chan struct{}
+	prepCancel context.CancelFunc // cancels the preparation in flight
+	prepDone   chan struct{}      // closed when the last preparation started has ended
 }
 
 // New returns an engine showing initial until its first run. onFrame, when
@@ -202,7 +214,7 @@ func New(opt Optimizer, setting float64, initial []float32, onFrame func()) *Eng
 	done := make(chan struct{})
 	close(done)
 	return &Engine{opt: opt, setting: setting, tail: 1, initial: initial, layout: initial, onFrame: onFrame, done: done,
-		status: Status{KL: math.NaN(), Tail: 1}}
+		prepDone: done, status: Status{KL: math.NaN(), Tail: 1}}
 }
 
 // Latest returns the newest layout and the status. The layout must not be
@@ -252,6 +264,7 @@ func (e *Engine) SetLayout(layout []float32, history []Step) {
 	if n := len(history); n > 0 {
 		e.status.Iteration, e.status.Settled = history[n-1].Done, history[n-1].Settled
 	}
+	e.prepareLocked()
 	e.mu.Unlock()
 	e.notify()
 }
@@ -289,6 +302,7 @@ func (e *Engine) SetOptimizer(opt Optimizer, setting float64) {
 	e.stopLocked()
 	e.opt = opt
 	e.setting = setting
+	e.prepareLocked()
 	e.mu.Unlock()
 }
 
@@ -300,7 +314,11 @@ func (e *Engine) SetTail(tail float64) {
 		tail = 1
 	}
 	e.mu.Lock()
+	changed := tail != e.tail
 	e.tail = tail
+	if changed && !e.status.Running {
+		e.prepareLocked()
+	}
 	e.mu.Unlock()
 }
 
@@ -332,12 +350,54 @@ func (e *Engine) Stop() {
 	e.mu.Unlock()
 }
 
-// Wait blocks until the current run has returned.
+// Wait blocks until the current run, and the preparation of the next
+// (WaitPrepared), have returned.
 func (e *Engine) Wait() {
 	e.mu.Lock()
 	done := e.done
 	e.mu.Unlock()
 	<-done
+	e.WaitPrepared() // the run, ending, may have started one
+}
+
+// WaitPrepared blocks until the preparation of the next run has ended. When
+// the optimiser is a Preparer, the engine has it prepare the runs a turn
+// may start — from the layout on screen and from its compacted form
+// (Compact), with the tail of the next run — whenever the map comes to
+// rest: at the end of a run, after SetLayout, and after SetTail between
+// runs. A run, or a new preparation, cancels the one in flight.
+func (e *Engine) WaitPrepared() {
+	e.mu.Lock()
+	prep := e.prepDone
+	e.mu.Unlock()
+	<-prep
+}
+
+// prepareLocked starts preparing the runs from the layout on screen (see
+// WaitPrepared). Errors are left to the runs, which meet them again.
+func (e *Engine) prepareLocked() {
+	e.cancelPrepLocked()
+	pr, ok := e.opt.(Preparer)
+	if !ok || len(e.layout) == 0 || len(e.history) == 0 {
+		return
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan struct{})
+	e.prepCancel, e.prepDone = cancel, done
+	layout, tail := e.layout, e.tail
+	go func() {
+		defer close(done)
+		defer cancel()
+		_ = pr.Prepare(ctx, tail, Compact(layout), layout)
+	}()
+}
+
+// cancelPrepLocked cancels the preparation in flight.
+func (e *Engine) cancelPrepLocked() {
+	if e.prepCancel != nil {
+		e.prepCancel()
+		e.prepCancel = nil
+	}
 }
 
 func (e *Engine) stopLocked() {
@@ -346,6 +406,7 @@ func (e *Engine) stopLocked() {
 		e.cancel()
 		e.cancel = nil
 	}
+	e.cancelPrepLocked()
 	e.status.Running = false
 }
 
@@ -379,7 +440,7 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 	e.history = append(e.history, step)
 	ctx, cancel := context.WithCancel(context.Background())
 	e.cancel = cancel
-	prev := e.done
+	prev, prevPrep := e.done, e.prepDone
 	opt := e.opt
 	done := make(chan struct{})
 	e.done = done
@@ -391,6 +452,7 @@ func (e *Engine) start(attraction float64, iterations int, fresh bool) {
 		defer close(done)
 		defer cancel()
 		<-prev
+		<-prevPrep // cancelled: it ends within milliseconds
 		if ctx.Err() != nil {
 			return
 		}
@@ -436,6 +498,9 @@ func (e *Engine) finish(gen uint64, err error) {
 		e.status.Err = err
 	}
 	e.cancel = nil
+	if err == nil {
+		e.prepareLocked()
+	}
 	e.mu.Unlock()
 	e.notify()
 }

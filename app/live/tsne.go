@@ -2,6 +2,7 @@ package live
 
 import (
 	"context"
+	"slices"
 	"sync"
 
 	"lodestone/compute/embed"
@@ -21,6 +22,59 @@ type TSNE struct {
 	info     *embed.SpectralInfo
 	checkMu  sync.Mutex     // guards checked (mu is held through the spectral layout's computation)
 	checked  *embed.Checked // P, checked once for every run
+
+	startMu sync.Mutex
+	starts  []prepared // see Prepare
+}
+
+// prepared is the first iteration of a run from layout, computed ahead.
+type prepared struct {
+	layout []float32
+	start  *embed.Start
+}
+
+// Prepare computes ahead, for each of the layouts in turn, the forces of
+// the first iteration of a run from it with the given tail
+// (embed.PrepareStart), replacing those prepared before: a later Run from
+// one of these layouts (the same values) with that tail begins with its
+// step, and gives the same layout as without. It returns ctx.Err() when
+// cancelled, keeping what it prepared by then.
+func (t *TSNE) Prepare(ctx context.Context, tail float64, layouts ...[]float32) error {
+	c, err := t.check()
+	if err != nil {
+		return err
+	}
+	p := embed.DefaultParams()
+	p.Tail, p.Seed, p.Threads = tail, t.Seed, t.Threads
+	t.startMu.Lock()
+	t.starts = nil
+	t.startMu.Unlock()
+	for _, l := range layouts {
+		s, err := embed.PrepareStart(ctx, c, l, p)
+		if err != nil {
+			return err
+		}
+		t.startMu.Lock()
+		t.starts = append(t.starts, prepared{layout: l, start: s})
+		t.startMu.Unlock()
+	}
+	return nil
+}
+
+// takeStart returns the Start prepared for a run from init, if any, and
+// lets go of all of them: a run moves the map away from every one.
+func (t *TSNE) takeStart(init []float32) *embed.Start {
+	t.startMu.Lock()
+	defer t.startMu.Unlock()
+	var s *embed.Start
+	for _, pr := range t.starts {
+		if slices.Equal(pr.layout, init) {
+			s = pr.start
+			break
+		}
+	}
+	t.starts = nil
+	return s
 }
 
 // Run optimises with embed.Run; see Optimizer. publish may be nil.
@@ -37,6 +91,7 @@ func (t *TSNE) Run(ctx context.Context, init []float32, o RunOptions, publish fu
 	p.Seed = t.Seed
 	p.Threads = t.Threads
 	p.StopSettled = o.Settle
+	p.Start = t.takeStart(init)
 	if o.FrameEvery > 0 {
 		p.SnapshotEvery = o.FrameEvery
 	}

@@ -3,6 +3,7 @@ package live
 import (
 	"context"
 	"math"
+	"slices"
 	"testing"
 	"time"
 
@@ -124,5 +125,45 @@ func TestStopReturnsQuickly(t *testing.T) {
 	t.Logf("the run returned %v after Stop", time.Since(start))
 	if _, st := e.Latest(); st.Running {
 		t.Fatal("still running after Stop and Wait")
+	}
+}
+
+// TestTurnsArePrepared checks the preparation of turns: once a run has
+// ended, the optimiser holds the first iteration of runs from the layout
+// on screen and from its compacted form, and a turn from it (raising the
+// attraction, so from the compacted form; then lowering it) gives the
+// layout, bit for bit, of the same run on an optimiser that prepared
+// nothing.
+func TestTurnsArePrepared(t *testing.T) {
+	opt, init := realOptimizer(t)
+	plain := &TSNE{P: opt.P, Seed: opt.Seed}
+	e := New(opt, 10, init, nil)
+	e.Restart(1, 300)
+	e.Wait()
+	for _, a := range []float64{4, 1.5} {
+		from, _ := e.Latest()
+		opt.startMu.Lock()
+		starts := opt.starts
+		opt.startMu.Unlock()
+		if len(starts) != 2 || !slices.Equal(starts[0].layout, Compact(from)) || !slices.Equal(starts[1].layout, from) {
+			t.Fatalf("before the turn to %v: %d runs prepared, not those from the compacted map and the map", a, len(starts))
+		}
+		e.Turn(a, 300)
+		e.Wait()
+		got, st := e.Latest()
+		if st.Err != nil {
+			t.Fatal(st.Err)
+		}
+		init := from
+		if a == 4 {
+			init = Compact(from)
+		}
+		want, err := plain.Run(context.Background(), init, RunOptions{Attraction: a, Iterations: 300, Settle: true}, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !slices.Equal(got, want) {
+			t.Fatalf("the prepared turn to %v differs from the same run unprepared", a)
+		}
 	}
 }

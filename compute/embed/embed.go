@@ -76,6 +76,12 @@ type Params struct {
 	// ceiling. The iterations done are those of a run without it, so a run
 	// of as many iterations gives the same layout, bit for bit.
 	StopSettled bool
+	// Start, when not nil, holds the forces of the first iteration computed
+	// ahead by PrepareStart; a run from the layout, with the tail and
+	// threads it was made for (on the same checked affinities, through
+	// RunChecked) uses them instead of computing them, and ignores it
+	// otherwise. The layout is the same, bit for bit, with or without it.
+	Start *Start
 }
 
 // Defaults of Params.
@@ -239,6 +245,9 @@ func run(ctx context.Context, a *affinities, init []float32, p Params, publish f
 	}
 	o := newOptimizer(a, y, p)
 	defer o.close()
+	if p.Start.fits(a, init, p) {
+		o.start = p.Start
+	}
 	return o.run(ctx, publish)
 }
 

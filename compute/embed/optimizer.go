@@ -74,6 +74,8 @@ type optimizer struct {
 	attScale, momentum, eta, maxStep, invZ float64
 	mx, my, scale                          float64
 	loops                                  struct{ step, centre, motion func(lo, hi, block int) }
+
+	start *Start // the first iteration's forces, computed ahead (Params.Start), until used
 }
 
 func newOptimizer(a *affinities, y []float64, p Params) *optimizer {
@@ -183,6 +185,27 @@ func (o *optimizer) layout() []float32 {
 // layout before the step (NaN otherwise). It returns false, with the layout
 // unchanged, when stop reported true.
 func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func() bool) (float64, bool) {
+	var kl, z float64
+	if st := o.start; st != nil && !wantKL {
+		// The forces on this very layout, computed ahead by PrepareStart.
+		copy(o.attr, st.attr)
+		copy(o.rep, st.rep)
+		kl, z = math.NaN(), st.z
+	} else {
+		var ok bool
+		if kl, z, ok = o.forces(wantKL, stop); !ok {
+			return 0, false
+		}
+	}
+	o.start = nil
+	o.step(rho, momentum, eta, z)
+	return kl, true
+}
+
+// forces computes the attractive sums (o.attr) and the repulsive sums
+// (o.rep) of the layout and returns Z, with wantKL also the KL divergence
+// of the layout (NaN otherwise). It returns false when stop reported true.
+func (o *optimizer) forces(wantKL bool, stop func() bool) (kl, z float64, ok bool) {
 	var logs []float64
 	if wantKL {
 		logs = o.logs
@@ -193,28 +216,30 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 		plogp = o.plogp
 	}
 	if !o.attract.sums32(o.attr, o.y32, stop) {
-		return 0, false
+		return 0, 0, false
 	}
 	if wantKL && !o.attract.sums(nil, o.y, logs, plogp, stop) {
-		return 0, false
+		return 0, 0, false
 	}
 	if plogp != nil {
 		o.a.setEntropy(plogp)
 	}
-	var z float64
 	if o.fft == nil {
 		z = o.exact.compute(o.rep, o.y)
-	} else {
-		var ok bool
-		if z, ok = o.fft.compute(o.rep, o.y, o.bounds, stop); !ok {
-			return 0, false
-		}
+	} else if z, ok = o.fft.compute(o.rep, o.y, o.bounds, stop); !ok {
+		return 0, 0, false
 	}
-	kl := math.NaN()
+	kl = math.NaN()
 	if wantKL {
 		kl = o.a.kl(logs, z, o.p.Tail)
 	}
+	return kl, z, true
+}
 
+// step moves the layout by one gradient step from the forces in o.attr and
+// o.rep and their Z, with attraction rho, momentum and learning rate eta,
+// and centres it.
+func (o *optimizer) step(rho, momentum, eta, z float64) {
 	// Step: g = ρ/ΣP · attr − rep/Z, the gradient without its factor 4.
 	o.attScale, o.momentum, o.eta, o.maxStep = rho/o.a.sum, momentum, eta, stepCap*o.rms
 	o.invZ = 1 / z
@@ -226,7 +251,6 @@ func (o *optimizer) iterate(rho, momentum, eta float64, wantKL bool, stop func()
 		sy += s[1]
 	}
 	o.centre(sx/float64(o.n), sy/float64(o.n))
-	return kl, true
 }
 
 // stepBlock takes the step of the points [lo, hi): with att = o.attScale (ρ/ΣP)
