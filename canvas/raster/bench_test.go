@@ -5,6 +5,9 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+	"time"
+
+	"lodestone/internal/threadcpu"
 )
 
 // clusteredLayout returns n points in groups of different sizes and spreads,
@@ -54,10 +57,22 @@ func benchmarkDrawOrder(b *testing.B, n, w, h, threads int, order []int32) {
 	}
 	b.ReportAllocs()
 	b.ResetTimer()
+	cpu0, measured := threadcpu.Process()
 	for i := 0; i < b.N; i++ {
 		if err := r.Draw(img, layout, colours, palette, order, v, s, threads); err != nil {
 			b.Fatal(err)
 		}
+	}
+	reportCPU(b, cpu0, measured)
+}
+
+// reportCPU reports the processor time a frame used, on all threads
+// (cpu-ms): unlike the wall time, a loaded machine does not stretch it.
+// One thread's frame takes at least its processor time; frames on several
+// threads take at least the processor time divided by the threads.
+func reportCPU(b *testing.B, cpu0 time.Duration, measured bool) {
+	if cpu1, ok := threadcpu.Process(); ok && measured {
+		b.ReportMetric(float64((cpu1-cpu0).Microseconds())/1000/float64(b.N), "cpu-ms")
 	}
 }
 

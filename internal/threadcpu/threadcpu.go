@@ -28,6 +28,11 @@ func Self() (id int, ok bool) { return self() }
 // Used returns the processor time thread id of this process has used.
 func Used(id int) (time.Duration, bool) { return used(id) }
 
+// Process returns the processor time all threads of the process have
+// used; benchmarks report it beside the wall time, which a loaded machine
+// stretches.
+func Process() (time.Duration, bool) { return process() }
+
 // Foreign returns the threads of the process whose name is not the
 // program's: threads that libraries started and named, such as the
 // rasterising threads of a software OpenGL renderer ("llvmpipe-0").

@@ -26,6 +26,17 @@ func used(tid int) (time.Duration, bool) {
 
 func self() (int, bool) { return syscall.Gettid(), true }
 
+// clockProcessCPUTime is CLOCK_PROCESS_CPUTIME_ID.
+const clockProcessCPUTime = 2
+
+func process() (time.Duration, bool) {
+	var ts syscall.Timespec
+	if _, _, e := syscall.Syscall(syscall.SYS_CLOCK_GETTIME, clockProcessCPUTime, uintptr(unsafe.Pointer(&ts)), 0); e != 0 {
+		return 0, false
+	}
+	return time.Duration(ts.Nano()), true
+}
+
 func section(f func()) (time.Duration, bool) {
 	runtime.LockOSThread()
 	defer runtime.UnlockOSThread()

@@ -88,3 +88,33 @@ func TestForeignThreadsAreFound(t *testing.T) {
 		}
 	}
 }
+
+// TestProcessCountsEveryThread spins on two goroutines at once: the
+// process is charged at least the processor time of both sections, which
+// the per-thread clocks measure.
+func TestProcessCountsEveryThread(t *testing.T) {
+	before, ok := Process()
+	if runtime.GOOS != "linux" {
+		if ok {
+			t.Fatal("the process's time measured without its clock")
+		}
+		t.Skip("the process's processor clock is read on Linux only")
+	}
+	if !ok {
+		t.Fatal("no processor time for the process")
+	}
+	var sections [2]time.Duration
+	done := make(chan int)
+	for k := range sections {
+		go func() {
+			sections[k], _ = Section(func() { spin(40 * time.Millisecond) })
+			done <- k
+		}()
+	}
+	<-done
+	<-done
+	after, _ := Process()
+	if after-before < sections[0]+sections[1] {
+		t.Fatalf("the process used %v while its two sections used %v and %v", after-before, sections[0], sections[1])
+	}
+}
