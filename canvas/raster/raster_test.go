@@ -229,7 +229,8 @@ func randomScene(n, w, h int, seed uint64) (layout []float32, colours []uint16, 
 }
 
 // TestDrawMatchesSlowReference checks Draw, for several radii, opacities,
-// image sizes and thread counts, byte for byte against slowDraw: the bands,
+// image sizes and thread counts, byte for byte against slowDraw, which
+// blends every point's disc in order, pixel by pixel: the bands,
 // the binning, the clipping at image and band edges and the stamps together
 // must give exactly the reference image. The same comparison shows that the
 // image does not depend on the number of threads.
@@ -244,6 +245,9 @@ func TestDrawMatchesSlowReference(t *testing.T) {
 		{160, 75, 2000, Style{Radius: 2.6, Opacity: 1, Background: color.NRGBA{20, 20, 30, 255}}, []int{1, 4}},
 		{64, 200, 500, Style{Radius: 9.5, Opacity: 0.8}, []int{1, 2, 5}},
 		{50, 50, 400, Style{Radius: 1.2, Opacity: 0.7, PixelScale: 2.5}, []int{1, 3}},
+		// A million cells' style over a dense map: about nine discs on every
+		// pixel, each of which must count.
+		{160, 100, 80000, DefaultStyle(1000000), []int{1, 2, 3}},
 	} {
 		layout, colours, palette := randomScene(tc.n, tc.w, tc.h, uint64(tc.n))
 		order := Shuffle(tc.n, int64(tc.w))
