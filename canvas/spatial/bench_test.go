@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"lodestone/internal/threadcpu"
 )
 
 // mapLike returns n points in groups of different sizes and spreads, like a
@@ -85,9 +87,13 @@ func BenchmarkLasso1M(b *testing.B) {
 	}
 	dst := make([]bool, 1000000)
 	b.ResetTimer()
+	cpu0, measured := threadcpu.Process()
 	for i := 0; i < b.N; i++ {
 		if _, err := Inside(poly, layout, dst, 0); err != nil {
 			b.Fatal(err)
 		}
+	}
+	if cpu1, ok := threadcpu.Process(); ok && measured { // unlike the wall time, not stretched by a loaded machine
+		b.ReportMetric(float64((cpu1-cpu0).Microseconds())/1000/float64(b.N), "cpu-ms")
 	}
 }

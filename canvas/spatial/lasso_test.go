@@ -222,3 +222,62 @@ func TestInsideErrors(t *testing.T) {
 		t.Errorf("flat polygon: %v %v", got, err)
 	}
 }
+
+// TestInsideGridAnswersExactly checks the cell grid at the size a million
+// points get (250 cells a side; Inside itself is checked at smaller
+// grids by TestInsideSlowReference): for each polygon, 200,000 random points,
+// points on the lattice of the cells' corners and sides (where rounding
+// puts a point into the neighbouring cell), and points on the polygon's
+// vertices and edges get the answer of the rule itself, the edges of their
+// slab (insideExact, which TestInsideSlowReference checks against exact
+// arithmetic), and most points are answered by their cell alone.
+func TestInsideGridAnswersExactly(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	const n = 200000
+	for name, poly := range randomPolygons(rng) {
+		layout := make([]float32, 0, 2*n)
+		for i := 0; i < n; i++ {
+			layout = append(layout, float32(-10+120*rng.Float64()), float32(-10+120*rng.Float64()))
+		}
+		s := newSlabs(poly)
+		s.classifyCells(poly, 250)
+		if s.state == nil {
+			t.Fatalf("%s: no grid", name)
+		}
+		for i := 0; i <= 250; i += 5 {
+			for j := 0; j <= 250; j += 5 {
+				x, y := s.xmin+float64(i)/s.cx, s.ymin+float64(j)/s.cy
+				for _, d := range []float64{-1e-9, 0, 1e-9} {
+					layout = append(layout, float32(x+d), float32(y), float32(x), float32(y+d))
+				}
+			}
+		}
+		m := len(poly) / 2
+		for k := 0; k < m; k++ {
+			j := (k + 1) % m
+			for f := 0.0; f <= 1; f += 0.125 {
+				layout = append(layout, float32(poly[2*k]+f*(poly[2*j]-poly[2*k])), float32(poly[2*k+1]+f*(poly[2*j+1]-poly[2*k+1])))
+			}
+		}
+		got := make([]bool, len(layout)/2)
+		insideGrid(poly, layout, got, 2, 250)
+		byCell := 0
+		for i := range got {
+			x, y := float64(layout[2*i]), float64(layout[2*i+1])
+			want := false
+			if x >= s.xmin && x < s.xmax && y >= s.ymin && y < s.ymax {
+				want = s.insideExact(x, y)
+				ci, cj := min(int((x-s.xmin)*s.cx), 249), min(int((y-s.ymin)*s.cy), 249)
+				if s.state[cj*250+ci] != cellEdge {
+					byCell++
+				}
+			}
+			if got[i] != want {
+				t.Fatalf("%s: point (%g, %g) inside = %v, the rule says %v", name, x, y, got[i], want)
+			}
+		}
+		if name != "tangle" && byCell < n/4 {
+			t.Errorf("%s: only %d of %d points answered by their cell", name, byCell, len(got))
+		}
+	}
+}
