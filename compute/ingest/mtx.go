@@ -293,8 +293,6 @@ type mtxParser struct {
 	gaps []int64
 
 	dup *duplicate // the first duplicate found
-
-	ahead []aheadEntry // entry lines parsed ahead by fastBlock's second goroutine
 }
 
 // largeEntry is a count of sparse.LargeMark or more, at output (row, col),
@@ -524,181 +522,99 @@ func (p *mtxParser) readEntries() error {
 }
 
 // fastBlock parses, from the start of buf, the entry lines of the common
-// form (see fastLine). It stops at any other line, at the end of buf, at a
-// duplicate, or when the size line's count is reached, and returns the bytes
-// used, which end at a line's end. It allocates nothing but the arrays'
-// growth.
-//
-// A long buf is parsed by two goroutines: this one parses and stores the
-// lines of its first half while another parses those of the second half
-// into p.ahead, which this one then stores in order. Every entry is stored
-// by the same calls, in the same order, with the same line numbers as by one
-// goroutine.
+// form: three fields separated by spaces or tabs, with spaces or tabs also
+// allowed before the first and after the last, ending in "\n" or "\r\n";
+// indices in range; for the integer field a non-negative integer of at
+// most 18 digits, for the real field a non-negative value fastFloat reads.
+// It stops at any other line, at the end of buf, at a duplicate, or when
+// the size line's count is reached, and returns the bytes used, which end
+// at a line's end. It allocates nothing but the arrays' growth.
 func (p *mtxParser) fastBlock(buf []byte) int {
-	if len(buf) < parallelMin || p.h.Entries-p.read < int64(parallelMin/minEntryBytes) {
-		return p.fastLines(buf)
-	}
-	m := bytes.IndexByte(buf[len(buf)/2:], '\n')
-	if m < 0 {
-		return p.fastLines(buf)
-	}
-	cut := len(buf)/2 + m + 1
-	second := buf[cut:]
-	done := make(chan int, 1)
-	go func() { done <- p.parseAhead(second) }()
-	k := p.fastLines(buf[:cut])
-	stop := <-done // the other goroutine no longer reads buf
-	if k < cut || p.dup != nil {
-		return k
-	}
-	start := 0
-	for _, e := range p.ahead {
-		if p.read >= p.h.Entries {
-			return cut + start
-		}
-		i, j := int(e.i), int(e.j)
-		if p.transpose {
-			i, j = j, i
-		}
-		if e.v != 0 && !p.store(i-1, j-1, e.v, p.s.line+1) {
-			return cut + start
-		}
-		p.read++
-		p.s.line++
-		start = int(e.end)
-	}
-	return cut + stop
-}
-
-// parallelMin is the least number of buffered bytes, and of entries still
-// announced (times minEntryBytes), for which fastBlock uses two goroutines.
-var parallelMin = 256 << 10
-
-// aheadEntry is an entry line parsed ahead: its indices as written (from
-// 1), its value, and the offset just past its line's end.
-type aheadEntry struct {
-	i, j uint32
-	v    float32
-	end  int32
-}
-
-// parseAhead parses the entry lines of the common form from the start of
-// buf into p.ahead (reused), without storing them, and returns the bytes
-// parsed: up to the first line of another form, or the end of buf.
-func (p *mtxParser) parseAhead(buf []byte) int {
-	rows, cols := uint64(p.h.Rows), uint64(p.h.Cols)
-	p.ahead = p.ahead[:0]
-	k := 0
-	for {
-		i, j, v, next, ok := fastLine(buf, k, rows, cols, p.h.Integer)
-		if !ok {
-			return k
-		}
-		p.ahead = append(p.ahead, aheadEntry{i: uint32(i), j: uint32(j), v: v, end: int32(next)})
-		k = next
-	}
-}
-
-// fastLines is fastBlock on one goroutine.
-func (p *mtxParser) fastLines(buf []byte) int {
 	rows, cols := uint64(p.h.Rows), uint64(p.h.Cols)
 	integer, transpose := p.h.Integer, p.transpose
+	n := len(buf)
 	k := 0
 	for p.read < p.h.Entries {
-		i, j, v, next, ok := fastLine(buf, k, rows, cols, integer)
-		if !ok {
-			return k
+		start := k
+		for k < n && (buf[k] == ' ' || buf[k] == '\t') {
+			k++
 		}
-		if transpose {
-			i, j = j, i
-		}
-		if v != 0 && !p.store(int(i-1), int(j-1), v, p.s.line+1) {
-			return k
-		}
-		p.read++
-		p.s.line++
-		k = next
-	}
-	return k
-}
-
-// fastLine parses the entry line that starts at buf[k] when it has the
-// common form: three fields separated by spaces or tabs, with spaces or tabs
-// also allowed before the first and after the last, ending in "\n" or
-// "\r\n"; indices in 1 … rows and 1 … cols; for the integer field a
-// non-negative integer of at most 18 digits, for the real field a
-// non-negative value fastFloat reads. It returns the indices, the value and
-// the offset just past the line's end, or ok false for a line of any other
-// form and for a line that buf holds only part of.
-func fastLine(buf []byte, k int, rows, cols uint64, integer bool) (i, j uint64, v float32, next int, ok bool) {
-	n := len(buf)
-	for k < n && (buf[k] == ' ' || buf[k] == '\t') {
-		k++
-	}
-	is := k
-	for ; k < n && k-is < 10; k++ {
-		d := buf[k] - '0'
-		if d > 9 {
-			break
-		}
-		i = i*10 + uint64(d)
-	}
-	if k == is || i-1 >= rows || !isBlank(buf, k) {
-		return 0, 0, 0, 0, false
-	}
-	for k++; k < n && (buf[k] == ' ' || buf[k] == '\t'); k++ {
-	}
-	js := k
-	for ; k < n && k-js < 10; k++ {
-		d := buf[k] - '0'
-		if d > 9 {
-			break
-		}
-		j = j*10 + uint64(d)
-	}
-	if k == js || j-1 >= cols || !isBlank(buf, k) {
-		return 0, 0, 0, 0, false
-	}
-	for k++; k < n && (buf[k] == ' ' || buf[k] == '\t'); k++ {
-	}
-	vs := k
-	if integer {
-		var x uint64
-		for ; k < n && k-vs < 18; k++ {
+		var i, j uint64
+		is := k
+		for ; k < n && k-is < 10; k++ {
 			d := buf[k] - '0'
 			if d > 9 {
 				break
 			}
-			x = x*10 + uint64(d)
+			i = i*10 + uint64(d)
 		}
-		if k == vs {
-			return 0, 0, 0, 0, false // a sign, or no digit: the general path
+		if k == is || i-1 >= rows || !isBlank(buf, k) {
+			return start
 		}
-		v = float32(x)
-	} else {
-		for k < n && buf[k] != '\n' && buf[k] != ' ' && buf[k] != '\t' && buf[k] != '\r' {
-			k++
+		for k++; k < n && (buf[k] == ' ' || buf[k] == '\t'); k++ {
 		}
-		x, good := fastFloat(buf[vs:k])
-		if !good || x < 0 {
-			return 0, 0, 0, 0, false
+		js := k
+		for ; k < n && k-js < 10; k++ {
+			d := buf[k] - '0'
+			if d > 9 {
+				break
+			}
+			j = j*10 + uint64(d)
 		}
-		if v, good = toFloat32(x); !good {
-			return 0, 0, 0, 0, false
+		if k == js || j-1 >= cols || !isBlank(buf, k) {
+			return start
 		}
+		for k++; k < n && (buf[k] == ' ' || buf[k] == '\t'); k++ {
+		}
+		vs := k
+		var v float32
+		if integer {
+			var x uint64
+			for ; k < n && k-vs < 18; k++ {
+				d := buf[k] - '0'
+				if d > 9 {
+					break
+				}
+				x = x*10 + uint64(d)
+			}
+			if k == vs {
+				return start // a sign, or no digit: the general path
+			}
+			v = float32(x)
+		} else {
+			for k < n && buf[k] != '\n' && buf[k] != ' ' && buf[k] != '\t' && buf[k] != '\r' {
+				k++
+			}
+			x, ok := fastFloat(buf[vs:k])
+			if !ok || x < 0 {
+				return start
+			}
+			if v, ok = toFloat32(x); !ok {
+				return start
+			}
+		}
+		if k < n && buf[k] != '\n' {
+			for k < n && (buf[k] == ' ' || buf[k] == '\t' || buf[k] == '\r') {
+				k++
+			}
+			if k >= n || buf[k] != '\n' {
+				return start
+			}
+		}
+		if k >= n {
+			return start
+		}
+		k++ // past the line's end
+		if transpose {
+			i, j = j, i
+		}
+		if v != 0 && !p.store(int(i-1), int(j-1), v, p.s.line+1) {
+			return start
+		}
+		p.read++
+		p.s.line++
 	}
-	if k < n && buf[k] != '\n' {
-		for k < n && (buf[k] == ' ' || buf[k] == '\t' || buf[k] == '\r') {
-			k++
-		}
-		if k >= n || buf[k] != '\n' {
-			return 0, 0, 0, 0, false
-		}
-	}
-	if k >= n {
-		return 0, 0, 0, 0, false
-	}
-	return i, j, v, k + 1, true
+	return k
 }
 
 // isBlank reports whether buf[k] is a space or a tab.

@@ -8,8 +8,6 @@ import (
 	"io"
 	"math"
 	"math/rand/v2"
-	"reflect"
-	"slices"
 	"strings"
 	"testing"
 
@@ -540,71 +538,5 @@ func TestGzipTrailingDataIsNamedAsSuch(t *testing.T) {
 				t.Fatalf("message %q", err)
 			}
 		})
-	}
-}
-
-// Two goroutines read what one reads: for entries grouped by row or not,
-// with comments, blank lines, zeros and untidy blanks, and for files with a
-// repeated entry, a bad line, one entry too few or too many, reading with
-// fastBlock's split at several sizes gives the same matrix (tally included)
-// or the same error as reading on one goroutine.
-func TestReadMatrixMarketTwoGoroutinesEqualOne(t *testing.T) {
-	defer func(n int) { parallelMin = n }(parallelMin)
-	read := func(text string, split int) (*sparse.Counts, string) {
-		parallelMin = split
-		m, err := ReadMatrixMarket(bg, strings.NewReader(text), "s.mtx", MatrixOptions{})
-		if err != nil {
-			return nil, err.Error()
-		}
-		return m, ""
-	}
-	rng := rand.New(rand.NewPCG(5, 6))
-	var inputs []string
-	for trial := 0; trial < 24; trial++ {
-		rows, cols := 1+rng.IntN(200), 1+rng.IntN(200)
-		text, _ := randomEntries(rng, rows, cols, 0.05+0.3*rng.Float64(), trial%2 == 0)
-		lines := strings.Split(strings.TrimSuffix(text, "\n"), "\n")
-		if trial%3 == 0 {
-			// Grouped by row, as most files are.
-			slices.SortStableFunc(lines[2:], func(a, b string) int {
-				var i, j int
-				fmt.Sscan(a, &i)
-				fmt.Sscan(b, &j)
-				return i - j
-			})
-		}
-		if trial%4 == 1 {
-			for k := 2; k < len(lines); k += 1 + rng.IntN(40) {
-				lines[k] += []string{"\n% a comment", "\n", "\n1 1 0"}[rng.IntN(3)]
-			}
-		}
-		text = strings.Join(lines, "\n") + "\n"
-		if trial%4 >= 2 {
-			text = messy(rng, text)
-		}
-		inputs = append(inputs, text)
-		if len(lines) < 6 {
-			continue
-		}
-		k := 2 + rng.IntN(len(lines)-2)
-		at := func(k int, s string) string {
-			l := slices.Clone(lines)
-			l[k] = s
-			return strings.Join(l, "\n") + "\n"
-		}
-		inputs = append(inputs,
-			at(k, lines[k]+"\n"+lines[2+rng.IntN(len(lines)-2)]), // an entry twice (or one too many)
-			at(k, "1 x 3"), // a bad line
-			strings.Join(lines[:len(lines)-1], "\n")+"\n", // one entry too few
-			text+lines[2]+"\n")                            // one too many
-	}
-	for n, in := range inputs {
-		want, wantErr := read(in, math.MaxInt)
-		for _, split := range []int{8, 64, 1000} {
-			got, gotErr := read(in, split)
-			if gotErr != wantErr || !reflect.DeepEqual(got, want) {
-				t.Fatalf("input %d, split at %d bytes: error %q, one goroutine %q; matrices equal %v", n, split, gotErr, wantErr, reflect.DeepEqual(got, want))
-			}
-		}
 	}
 }
