@@ -26,7 +26,7 @@ type params struct {
 // (k = 90, two cores), where sampling up to 180 new and 180 old candidates
 // per point and step instead of 80 and 80 raised the recall from 0.946 to
 // 0.980 in the same time: the descent converges in 6 steps instead of 7.
-var defaults = params{trees: 16, leafMin: 256, buildMin: 60, maxNew: 180, maxOld: 180, maxSteps: 20, stop: 0.001, renumber: true}
+var defaults = params{trees: 16, leafMin: 256, buildMin: 60, maxNew: 180, maxOld: 180, maxSteps: 20, stop: 0.0005, renumber: true}
 
 // pointBatch is the number of points joined between two applications of
 // updates.
@@ -54,7 +54,7 @@ func Find(ctx context.Context, x *atlas.Dense, opt Options) (*Graph, error) {
 // with the pairs that share a leaf in a forest of random-projection trees
 // (Dasgupta & Freund 2008), then refines the lists by nearest-neighbour
 // descent (Dong, Charikar & Li 2011) until a step changes fewer than
-// δ = 0.001 of the entries, and keeps the first k. Points whose lists are
+// δ = 0.0005 of the entries, and keeps the first k. Points whose lists are
 // still not full at the end (possible only with many duplicate points) are
 // completed by exhaustive search. The result depends only on x, opt.K,
 // opt.Metric and opt.Seed: the same graph comes back for any number of
