@@ -220,8 +220,9 @@ func (a *attraction) block(lo, hi, block int) {
 	}
 }
 
-// sums32 is sums without the logarithms, for the optimiser: the same sums
-// computed in float32 from y32, the layout rounded to float32
+// sums32 is sums without the logarithms, for the optimiser, its rows in
+// chunks handed out as the goroutines come free: the same sums computed in
+// float32 from y32, the layout rounded to float32
 // (attractRow32), then scaled by α in float64. Against the float64 sums of
 // sums the relative error is about 1e-7 over a layout (the float32
 // rounding of the coordinates, of the order of 1e-7 of the map's extent,
@@ -229,19 +230,22 @@ func (a *attraction) block(lo, hi, block int) {
 func (a *attraction) sums32(dst []float64, y32 []float32, stop func() bool) bool {
 	a.dst, a.y32, a.stop = dst, y32, stop
 	a.stopped.Store(false)
-	a.team.Split(a.rows, a.body32)
+	a.team.Chunks(a.p.Rows, attractChunk, a.body32)
 	a.dst, a.y32, a.stop = nil, nil, nil
 	return !a.stopped.Load()
 }
 
-// block32 is sums32 for the rows [lo, hi).
+// attractChunk is the number of rows in a chunk of sums32 (team.Chunks).
+const attractChunk = 1024
+
+// block32 is sums32 for the rows [lo, hi), a chunk.
 func (a *attraction) block32(lo, hi, _ int) {
+	if a.halt() {
+		return
+	}
 	p, y32, alpha := a.p, a.y32, a.alpha
 	af := float32(alpha)
 	for i := lo; i < hi; i++ {
-		if (i-lo)%stopEvery == stopEvery-1 && a.halt() {
-			return
-		}
 		start, end := p.RowPtr[i], p.RowPtr[i+1]
 		fx, fy := attractRow32(y32[2*i], y32[2*i+1], af, y32, p.ColIdx[start:end], p.Val[start:end])
 		a.dst[2*i], a.dst[2*i+1] = alpha*fx, alpha*fy

@@ -87,6 +87,12 @@ func (e *exactRepulsion) block(lo, hi, block int) {
 	e.partial[block] = z
 }
 
+// rowChunk and columnChunk are the lines per chunk of the FFT's passes.
+const (
+	rowChunk    = 8
+	columnChunk = 4
+)
+
 // Settings of the interpolated repulsion, chosen by measuring the relative
 // error of the forces against ExactRepulsion on clustered and t-SNE layouts
 // of 5,000 points (repulsion_test.go): about 1e-4 with these values, against
@@ -883,29 +889,33 @@ func (r *fftRepulsion) cellRowsBlock(lo, hi, _ int) {
 }
 
 // convolve transforms the charge grid, multiplies by the three kernel
-// spectra and transforms back, leaving the potentials in r.pot.
+// spectra and transforms back, leaving the potentials in r.pot. The rows
+// and columns go in chunks handed out as the goroutines come free
+// (team.Chunks; each line is transformed on its own, with the worker's
+// buffers).
 func (r *fftRepulsion) convolve() bool {
 	// Rows: real transforms of the my charged rows; the others are zero.
-	r.team.For(r.my, r.loops.rowsForward)
+	r.team.Chunks(r.my, rowChunk, r.loops.rowsForward)
 	clear(r.spec[r.my*(r.lx/2+1):])
 	if r.halt() {
 		return false
 	}
 	// Columns: forward transform, then for each kernel the product and its
 	// inverse, of which only the first my rows are kept.
-	r.team.For(r.lx/2+1, r.loops.columns)
+	r.team.Chunks(r.lx/2+1, columnChunk, r.loops.columns)
 	if r.halt() {
 		return false
 	}
 	// Rows: inverse real transforms of the rows that hold nodes.
-	r.team.For(3*r.my, r.loops.rowsInverse)
+	r.team.Chunks(3*r.my, rowChunk, r.loops.rowsInverse)
 	return true
 }
 
-// rowsForwardBlock transforms the charge grid's rows [lo, hi) into spec.
-func (r *fftRepulsion) rowsForwardBlock(lo, hi, block int) {
+// rowsForwardBlock transforms the charge grid's rows [lo, hi) into spec,
+// with worker's buffers.
+func (r *fftRepulsion) rowsForwardBlock(lo, hi, worker int) {
 	mx, hw := r.mx, r.lx/2+1
-	wk := &r.workers[block]
+	wk := &r.workers[worker]
 	clear(wk.line[mx:])
 	for row := lo; row < hi; row++ {
 		copy(wk.line, r.charge[row*mx:(row+1)*mx])
@@ -915,10 +925,10 @@ func (r *fftRepulsion) rowsForwardBlock(lo, hi, block int) {
 
 // columnsBlock transforms the columns [lo, hi) of spec, multiplies them by
 // the three kernels' spectra and transforms the products back into half.
-func (r *fftRepulsion) columnsBlock(lo, hi, block int) {
+func (r *fftRepulsion) columnsBlock(lo, hi, worker int) {
 	my, ly, hw := r.my, r.ly, r.lx/2+1
 	cells := my * hw
-	wk := &r.workers[block]
+	wk := &r.workers[worker]
 	for c := lo; c < hi; c++ {
 		for row := 0; row < ly; row++ {
 			wk.col[row] = r.spec[row*hw+c]
@@ -950,9 +960,9 @@ func (r *fftRepulsion) columnsBlock(lo, hi, block int) {
 
 // rowsInverseBlock transforms the rows [lo, hi) of half back into the
 // potentials.
-func (r *fftRepulsion) rowsInverseBlock(lo, hi, block int) {
+func (r *fftRepulsion) rowsInverseBlock(lo, hi, worker int) {
 	mx, hw := r.mx, r.lx/2+1
-	wk := &r.workers[block]
+	wk := &r.workers[worker]
 	for kr := lo; kr < hi; kr++ {
 		wk.rows.Sequence(wk.line, r.half[kr*hw:(kr+1)*hw])
 		copy(r.pot[kr*mx:(kr+1)*mx], wk.line[:mx])

@@ -2,6 +2,7 @@ package embed
 
 import (
 	"sync"
+	"sync/atomic"
 
 	"lodestone/compute/parallel"
 )
@@ -16,12 +17,19 @@ type team struct {
 	threads int
 	work    []chan teamTask
 	done    *sync.WaitGroup
+
+	// The loop of Chunks: its length, chunk size, body and next chunk.
+	n, chunk  int
+	chunkBody func(lo, hi, worker int)
+	next      atomic.Int64
 }
 
-// teamTask is one block of a loop for a worker.
+// teamTask is one block of a loop for a worker, or with claim, a share of
+// the chunks of Chunks as worker block.
 type teamTask struct {
 	body          func(lo, hi, block int)
 	lo, hi, block int
+	claim         bool
 }
 
 // newTeam starts the workers for threads goroutines (threads < 1 means all
@@ -30,12 +38,16 @@ func newTeam(threads int) *team {
 	t := &team{threads: parallel.Threads(threads), done: new(sync.WaitGroup)}
 	t.work = make([]chan teamTask, t.threads-1)
 	for w := range t.work {
-		work, done := make(chan teamTask), t.done
+		work := make(chan teamTask)
 		t.work[w] = work
 		go func() {
 			for task := range work {
-				task.body(task.lo, task.hi, task.block)
-				done.Done()
+				if task.claim {
+					t.claim(task.block)
+				} else {
+					task.body(task.lo, task.hi, task.block)
+				}
+				t.done.Done()
 			}
 		}()
 	}
@@ -86,6 +98,41 @@ func (t *team) Split(bounds []int, body func(lo, hi, block int)) {
 	}
 	body(bounds[0], bounds[1], 0)
 	t.done.Wait()
+}
+
+// Chunks calls body(lo, hi, worker) for the chunks [k·chunk, (k+1)·chunk)
+// of [0, n), handed out to the team's goroutines as they come free
+// (worker numbers the goroutine: 0 the caller's, 1 … threads − 1 the
+// workers'), and waits for all of them. On a machine whose cores run at
+// unequal speed, or are shared, the fast ones take more chunks. Which
+// goroutine takes a chunk depends on timing, so body must write only to
+// outputs of its own indices and to per-worker scratch: then the results
+// do not depend on it.
+func (t *team) Chunks(n, chunk int, body func(lo, hi, worker int)) {
+	if n <= 0 {
+		return
+	}
+	workers := min(t.threads, (n+chunk-1)/chunk)
+	t.n, t.chunk, t.chunkBody = n, chunk, body
+	t.next.Store(0)
+	t.done.Add(workers - 1)
+	for w := 1; w < workers; w++ {
+		t.work[w-1] <- teamTask{block: w, claim: true}
+	}
+	t.claim(0)
+	t.done.Wait()
+	t.chunkBody = nil
+}
+
+// claim runs the chunks of Chunks that are left, as worker.
+func (t *team) claim(worker int) {
+	for {
+		lo := int(t.next.Add(int64(t.chunk))) - t.chunk
+		if lo >= t.n {
+			return
+		}
+		t.chunkBody(lo, min(lo+t.chunk, t.n), worker)
+	}
 }
 
 // close ends the workers. The team must not be used afterwards.

@@ -3,6 +3,7 @@ package embed
 import (
 	"slices"
 	"sync"
+	"sync/atomic"
 	"testing"
 
 	"lodestone/compute/parallel"
@@ -102,6 +103,34 @@ func TestRowBlocks(t *testing.T) {
 			}
 			if got := P.RowPtr[b[k+1]] - P.RowPtr[b[k]]; got < share-widest || got > share+widest {
 				t.Errorf("%d parts: block %d holds %d entries, share %d (widest row %d)", parts, k, got, share, widest)
+			}
+		}
+	}
+}
+
+// TestTeamChunks checks that Chunks passes every index of [0, n) once, in
+// chunks of the given size, with worker numbers below the team's size.
+func TestTeamChunks(t *testing.T) {
+	for _, threads := range []int{1, 2, 3} {
+		tm := testTeam(t, threads)
+		for _, c := range []struct{ n, chunk int }{{0, 4}, {1, 4}, {4, 4}, {5, 4}, {1000, 7}, {70000, 1024}} {
+			seen := make([]int32, c.n)
+			var bad atomic.Bool
+			tm.Chunks(c.n, c.chunk, func(lo, hi, worker int) {
+				if worker < 0 || worker >= threads || lo%c.chunk != 0 || hi != min(lo+c.chunk, c.n) {
+					bad.Store(true)
+				}
+				for i := lo; i < hi; i++ {
+					atomic.AddInt32(&seen[i], 1)
+				}
+			})
+			if bad.Load() {
+				t.Fatalf("threads %d, n %d: a chunk or worker out of range", threads, c.n)
+			}
+			for i, v := range seen {
+				if v != 1 {
+					t.Fatalf("threads %d, n %d: index %d passed %d times", threads, c.n, i, v)
+				}
 			}
 		}
 	}
