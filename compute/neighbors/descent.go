@@ -163,35 +163,28 @@ func (j *joiner) run(ctx context.Context, n, batch int, join func(lo, hi, worker
 	return total, nil
 }
 
-// Flags of list entries during descent. insert flags an entry newEntry;
-// the start of a step turns newEntry into stepEntry, so that entries that
-// enter a list during a step wait for the next one, as if the step drew its
-// candidates from a copy of the lists taken at its start.
-const (
-	oldEntry  uint8 = 0 // joined already from this list
-	newEntry  uint8 = 1 // entered since the step started: not a candidate yet
-	stepEntry uint8 = 2 // new at the start of the step: a new candidate
-)
-
-// reverse holds the transpose of the lists as they were at the start of a
-// descent step: the points whose lists held p are revs[start[p]:start[p+1]],
-// in ascending order, each stored as id<<1 | 1 if its entry was new.
+// reverse holds a copy of the lists' ids and flags as they were at the
+// start of a descent step, and their transpose: the points whose lists
+// held p are revs[start[p]:start[p+1]], in ascending order, each stored as
+// id<<1 | flag of its entry.
 type reverse struct {
+	idx   []int32
+	flag  []uint8
 	start []int
 	revs  []uint32
 	count [][]int32 // per block of sources: per point, entries that name it
 }
 
 func newReverse(n, entries, threads int) *reverse {
-	r := &reverse{start: make([]int, n+1), revs: make([]uint32, entries), count: make([][]int32, threads)}
+	r := &reverse{idx: make([]int32, entries), flag: make([]uint8, entries),
+		start: make([]int, n+1), revs: make([]uint32, entries), count: make([][]int32, threads)}
 	for b := range r.count {
 		r.count[b] = make([]int32, n)
 	}
 	return r
 }
 
-// build fills r from the lists l and flags the new entries of l stepEntry.
-// Sources are
+// build fills r from the lists l. Sources are
 // cut into blocks, one per thread; each block counts the entries that name
 // each point, and then writes them after those of the blocks before it, so
 // the order within a point's range is that of the sources whatever the
@@ -200,6 +193,8 @@ func (r *reverse) build(l *lists, threads int) {
 	n, k := len(r.start)-1, l.k
 	nb := len(parallel.Blocks(n, threads)) - 1
 	parallel.For(n, threads, func(lo, hi, b int) {
+		copy(r.idx[lo*k:hi*k], l.idx[lo*k:hi*k])
+		copy(r.flag[lo*k:hi*k], l.flag[lo*k:hi*k])
 		c := r.count[b]
 		clear(c)
 		for _, q := range l.idx[lo*k : hi*k] {
@@ -225,25 +220,12 @@ func (r *reverse) build(l *lists, threads int) {
 			base := p * k
 			for e, q := range l.idx[base : base+k] {
 				if q >= 0 {
-					f := l.flag[base+e]
-					if f == newEntry {
-						f = stepEntry
-						l.flag[base+e] = f
-					}
-					r.revs[c[q]] = uint32(p)<<1 | b2u(f != oldEntry)
+					r.revs[c[q]] = uint32(p)<<1 | uint32(l.flag[base+e])
 					c[q]++
 				}
 			}
 		}
 	})
-}
-
-// b2u is 1 for true, 0 for false.
-func b2u(b bool) uint32 {
-	if b {
-		return 1
-	}
-	return 0
 }
 
 // of returns the reverse entries of p.
@@ -303,22 +285,18 @@ func selectSmallest(c []candidate, m int) {
 }
 
 // candidates collects in g.cand the candidates of p for step step: its
-// neighbours that were in its list at the start of the step and still are,
-// and the points that listed it at the start of the step, each once,
-// flagged new when either entry was new then. It returns the number of new
-// ones, which come first, at most maxNew of them, followed by at most
-// maxOld old ones; when there are more, those of smallest priority (a hash
-// of the pair and the step) are kept. The old ones are dropped when no
+// neighbours and the points that list it, as they were at the start of the
+// step, each once, flagged new when either entry is. It returns the number
+// of new ones, which come first, at most maxNew of them, followed by at
+// most maxOld old ones; when there are more, those of smallest priority (a
+// hash of the pair and the step) are kept. The old ones are dropped when no
 // candidate is new. Entries of p sampled as new are flagged old in its
-// list.
-//
-// It runs in the join phase, in which no list changes but for the flags
-// that the worker of p clears in p's own list; p's list holds what the
-// batches before p's applied, the same whatever the number of threads.
+// list, where they are found at their position at the start of the step
+// or further on (entries only move back), if they are still there.
 func (j *joiner) candidates(g *group, s *scratch, rev *reverse, p int, seed uint64, step, maxNew, maxOld int) int {
 	k := j.l.k
 	base := p * k
-	idx, flag := j.l.idx[base:base+k], j.l.flag[base:base+k]
+	idx, flag := rev.idx[base:base+k], rev.flag[base:base+k]
 	rv := rev.of(p)
 	size := 1
 	for size < 2*(k+len(rv)) {
@@ -347,8 +325,8 @@ func (j *joiner) candidates(g *group, s *scratch, rev *reverse, p int, seed uint
 		slot[h] = int32(len(cand))
 	}
 	for e, q := range idx {
-		if q >= 0 && flag[e] != newEntry {
-			add(q, int32(e), flag[e] == stepEntry)
+		if q >= 0 {
+			add(q, int32(e), flag[e] == 1)
 		}
 	}
 	for _, v := range rv {
@@ -379,9 +357,18 @@ func (j *joiner) candidates(g *group, s *scratch, rev *reverse, p int, seed uint
 	}
 	fresh := keep(cand[:nNew], maxNew)
 	old := keep(cand[nNew:], maxOld)
+	cur, curFlag := j.l.idx[base:base+k], j.l.flag[base:base+k]
 	for _, c := range fresh {
-		if c.entry >= 0 {
-			flag[c.entry] = oldEntry
+		if c.entry < 0 || flag[c.entry] != 1 {
+			continue
+		}
+		for e := int(c.entry); e < k; e++ {
+			if cur[e] == c.id {
+				if curFlag[e] == 1 {
+					curFlag[e] = 0
+				}
+				break
+			}
 		}
 	}
 	n := copy(cand, fresh)

@@ -60,13 +60,11 @@ func randomLists(n, k int, seed uint64) *lists {
 }
 
 // TestReverse checks the transpose of the lists against a direct one: for
-// every point, the points that list it, in ascending order, each marked
-// when its entry is new; on one thread and on several. The new entries are
-// flagged new at the start of the step afterwards.
+// every point, the points that list it, in ascending order, with their
+// entries' flags; on one thread and on several.
 func TestReverse(t *testing.T) {
 	const n, k = 600, 9
 	l := randomLists(n, k, 3)
-	before := slices.Clone(l.flag) // oldEntry or newEntry
 	want := make([][]uint32, n)
 	for p := 0; p < n; p++ {
 		for e := 0; e < k; e++ {
@@ -78,10 +76,8 @@ func TestReverse(t *testing.T) {
 	for _, threads := range []int{1, 3, 8} {
 		r := newReverse(n, n*k, threads)
 		r.build(l, threads)
-		for e, f := range l.flag {
-			if wantFlag := stepEntry * before[e]; f != wantFlag {
-				t.Fatalf("%d threads: entry %d flagged %d after build, want %d", threads, e, f, wantFlag)
-			}
+		if !slices.Equal(r.idx, l.idx) || !slices.Equal(r.flag, l.flag) {
+			t.Fatalf("%d threads: the copy of the lists differs from them", threads)
 		}
 		for p := 0; p < n; p++ {
 			if got := r.of(p); !slices.Equal(got, want[p]) {
@@ -92,12 +88,11 @@ func TestReverse(t *testing.T) {
 }
 
 // TestCandidates checks a point's candidates against their definition: its
-// neighbours that were in its list at the start of the step and still are
-// (the list has changed since), and the points that listed it at the
-// start, each once, new when either entry was new then, new ones first, at
-// most maxNew new and maxOld old ones, and no old ones without a new one.
-// The entries sampled as new are flagged old afterwards in the list; the
-// others keep their flags.
+// neighbours and the points that list it, as at the start of the step, each
+// once, new when either entry is new, new ones first, at most maxNew new and
+// maxOld old ones, and no old ones without a new one. The entries sampled as
+// new are flagged old afterwards in the list, which has changed since the
+// start of the step.
 func TestCandidates(t *testing.T) {
 	const n, k = 400, 12
 	x := randomMatrix(n, 3, 1)
@@ -118,9 +113,9 @@ func TestCandidates(t *testing.T) {
 		for p := 0; p < n; p++ {
 			flagsBefore := slices.Clone(l.flag[p*k : (p+1)*k])
 			wantNew, wantOld := map[int32]bool{}, map[int32]bool{}
-			for e, q := range l.idx[p*k : (p+1)*k] {
-				if q >= 0 && flagsBefore[e] != newEntry {
-					if flagsBefore[e] == stepEntry {
+			for e, q := range r.idx[p*k : (p+1)*k] {
+				if q >= 0 {
+					if r.flag[p*k+e] == 1 {
 						wantNew[q] = true
 					} else {
 						wantOld[q] = true
@@ -153,11 +148,13 @@ func TestCandidates(t *testing.T) {
 				}
 				sampled[c.id] = i < nNew
 			}
-			// An entry new before and sampled as new is old now; every
-			// other entry keeps its flag.
+			// An entry new at the start of the step and sampled as new is
+			// old now; every other entry keeps its flag.
 			for e, q := range l.idx[p*k : (p+1)*k] {
+				at := slices.Index(r.idx[p*k:(p+1)*k], q)
+				wasNew := at >= 0 && r.flag[p*k+at] == 1 && l.dist[p*k+e] >= 0
 				f, was := l.flag[p*k+e], flagsBefore[e]
-				if was == stepEntry && sampled[q] {
+				if wasNew && sampled[q] {
 					if f != 0 {
 						t.Fatalf("caps %v, point %d: entry %d (%d) sampled as new but still flagged new", caps, p, e, q)
 					}

@@ -6,7 +6,7 @@ import "math"
 // point in flat arrays: point p owns entries [p·k, (p+1)·k), kept in
 // ascending order of distance and, among equal distances, of id, so that
 // the arrays can become a Graph's without copying. Empty slots at the end
-// hold (+Inf, −1). flag, when not nil, marks entries as new or old
+// hold (+Inf, −1). flag, when not nil, marks entries as new (1) or old (0)
 // for nearest-neighbour descent.
 //
 // A point's own id is never offered to its list by the callers. Because all
@@ -80,7 +80,7 @@ func (l *lists) insert(p int, q int32, d float32) bool {
 	if l.flag != nil {
 		flag := l.flag[base : base+l.k]
 		copy(flag[pos+1:], flag[pos:last])
-		flag[pos] = newEntry
+		flag[pos] = 1
 	}
 	return true
 }
