@@ -116,10 +116,11 @@ func (o *optimizer) close() {
 	o.team.close()
 }
 
-// run iterates and publishes; see Run.
-func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32, error) {
+// cancelled returns a function that reports, without blocking, whether
+// ctx is done.
+func cancelled(ctx context.Context) func() bool {
 	done := ctx.Done()
-	stop := func() bool {
+	return func() bool {
 		select {
 		case <-done:
 			return true
@@ -127,6 +128,11 @@ func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32,
 			return false
 		}
 	}
+}
+
+// run iterates and publishes; see Run.
+func (o *optimizer) run(ctx context.Context, publish func(Snapshot)) ([]float32, error) {
+	stop := cancelled(ctx)
 	var lastPublish, lastKL time.Time
 	lastKLAt := 0
 	kl := math.NaN()

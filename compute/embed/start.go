@@ -45,15 +45,7 @@ func PrepareStart(ctx context.Context, c *Checked, init []float32, p Params) (*S
 	}
 	o := newOptimizer(&affinities{CSR: c.p, sum: c.sum}, y, p)
 	defer o.close()
-	done := ctx.Done()
-	stop := func() bool {
-		select {
-		case <-done:
-			return true
-		default:
-			return false
-		}
-	}
+	stop := cancelled(ctx)
 	_, z, ok := o.forces(false, stop)
 	if !ok {
 		return nil, ctx.Err()
