@@ -4,8 +4,6 @@ import (
 	"math"
 	"sort"
 	"sync/atomic"
-
-	"gonum.org/v1/gonum/dsp/fourier"
 )
 
 // ExactRepulsion computes the repulsive sums of the layout y (interleaved
@@ -224,6 +222,8 @@ type fftRepulsion struct {
 	pot    []float64    // 3 × my × mx potentials: K_x, K_y, K_w
 	zpart  []float64    // per block partial sums of Σ_j w_ij
 
+	rows    *rplan // transforms of the padded grid's rows (length lx)
+	cols    *cplan // and columns (length ly)
 	workers []fftWorker
 
 	// The inputs and outputs of the current call, for the loops' bodies:
@@ -245,13 +245,12 @@ type fftLoops struct {
 	rowsForward, columns, rowsInverse, interpolate, near, gather func(lo, hi, block int)
 }
 
-// fftWorker holds one goroutine's transforms and line buffers.
+// fftWorker holds one goroutine's line buffers and the transforms' scratch.
 type fftWorker struct {
-	rows    *fourier.FFT
-	cols    *fourier.CmplxFFT
 	line    []float64
 	col     []complex128
 	product []complex128
+	work    []complex128
 }
 
 // newFFTRepulsion returns a repulsion engine that runs on the team's
@@ -667,21 +666,18 @@ func (r *fftRepulsion) resize() {
 	r.kw = grow(r.kw, r.ly*hw)
 	r.kxIm = grow(r.kxIm, r.ly*hw)
 	r.kyIm = grow(r.kyIm, r.ly*hw)
+	if r.rows == nil || r.rows.n != r.lx {
+		r.rows = newRPlan(r.lx)
+	}
+	if r.cols == nil || r.cols.n != r.ly {
+		r.cols = newCPlan(r.ly)
+	}
 	for w := range r.workers {
 		wk := &r.workers[w]
-		if wk.rows == nil {
-			wk.rows, wk.cols = fourier.NewFFT(r.lx), fourier.NewCmplxFFT(r.ly)
-		} else {
-			if wk.rows.Len() != r.lx {
-				wk.rows.Reset(r.lx)
-			}
-			if wk.cols.Len() != r.ly {
-				wk.cols.Reset(r.ly)
-			}
-		}
 		wk.line = grow(wk.line, r.lx)
 		wk.col = growComplex(wk.col, r.ly)
 		wk.product = growComplex(wk.product, r.ly)
+		wk.work = growComplex(wk.work, max(r.lx, r.ly))
 	}
 }
 
@@ -718,7 +714,7 @@ func (r *fftRepulsion) kernelSpectra() {
 						}
 					}
 				}
-				wk.rows.Coefficients(r.spec[row*hw:(row+1)*hw], line)
+				r.rows.coefficients(r.spec[row*hw:(row+1)*hw], line, wk.work)
 			}
 		})
 		r.team.For(ly-ly/2-1, func(lo, hi, _ int) {
@@ -740,7 +736,7 @@ func (r *fftRepulsion) kernelSpectra() {
 				for row := 0; row < ly; row++ {
 					wk.col[row] = r.spec[row*hw+c]
 				}
-				wk.cols.Coefficients(wk.col, wk.col)
+				r.cols.transform(wk.col, wk.work, false)
 				for row := 0; row < ly; row++ {
 					if k == 2 {
 						dst[row*hw+c] = real(wk.col[row]) * scale
@@ -896,7 +892,6 @@ func (r *fftRepulsion) cellRowsBlock(lo, hi, _ int) {
 func (r *fftRepulsion) convolve() bool {
 	// Rows: real transforms of the my charged rows; the others are zero.
 	r.team.Chunks(r.my, rowChunk, r.loops.rowsForward)
-	clear(r.spec[r.my*(r.lx/2+1):])
 	if r.halt() {
 		return false
 	}
@@ -916,10 +911,8 @@ func (r *fftRepulsion) convolve() bool {
 func (r *fftRepulsion) rowsForwardBlock(lo, hi, worker int) {
 	mx, hw := r.mx, r.lx/2+1
 	wk := &r.workers[worker]
-	clear(wk.line[mx:])
 	for row := lo; row < hi; row++ {
-		copy(wk.line, r.charge[row*mx:(row+1)*mx])
-		wk.rows.Coefficients(r.spec[row*hw:(row+1)*hw], wk.line)
+		r.rows.coefficients(r.spec[row*hw:(row+1)*hw], r.charge[row*mx:(row+1)*mx], wk.work)
 	}
 }
 
@@ -930,10 +923,12 @@ func (r *fftRepulsion) columnsBlock(lo, hi, worker int) {
 	cells := my * hw
 	wk := &r.workers[worker]
 	for c := lo; c < hi; c++ {
-		for row := 0; row < ly; row++ {
+		// Rows my … ly−1 of the padded grid are zero.
+		for row := 0; row < my; row++ {
 			wk.col[row] = r.spec[row*hw+c]
 		}
-		wk.cols.Coefficients(wk.col, wk.col)
+		clear(wk.col[my:ly])
+		r.cols.transform(wk.col, wk.work, false)
 		for k := 0; k < 3; k++ {
 			for row := 0; row < ly; row++ {
 				v := wk.col[row]
@@ -949,7 +944,7 @@ func (r *fftRepulsion) columnsBlock(lo, hi, worker int) {
 					wk.product[row] = complex(real(v)*s, imag(v)*s)
 				}
 			}
-			wk.cols.Sequence(wk.product, wk.product)
+			r.cols.transform(wk.product, wk.work, true)
 			out := r.half[k*cells:]
 			for row := 0; row < my; row++ {
 				out[row*hw+c] = wk.product[row]
@@ -964,8 +959,7 @@ func (r *fftRepulsion) rowsInverseBlock(lo, hi, worker int) {
 	mx, hw := r.mx, r.lx/2+1
 	wk := &r.workers[worker]
 	for kr := lo; kr < hi; kr++ {
-		wk.rows.Sequence(wk.line, r.half[kr*hw:(kr+1)*hw])
-		copy(r.pot[kr*mx:(kr+1)*mx], wk.line[:mx])
+		r.rows.sequence(r.pot[kr*mx:(kr+1)*mx], r.half[kr*hw:(kr+1)*hw], wk.work)
 	}
 }
 

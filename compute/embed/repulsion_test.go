@@ -6,8 +6,6 @@ import (
 	"math/rand/v2"
 	"testing"
 
-	"gonum.org/v1/gonum/dsp/fourier"
-
 	"lodestone/compute/synth"
 )
 
@@ -166,7 +164,7 @@ func TestFFTRepulsionDeterministic(t *testing.T) {
 // TestKernelSpectraSymmetry checks that the kernel spectra, built from a
 // quarter of the kernel's samples and half of the row transforms by the
 // kernels' symmetries, equal bit for bit those of every sample evaluated and
-// transformed (rows, then columns, with gonum's transforms), for tails 1, 0.5
+// transformed (rows, then columns, with the same transforms), for tails 1, 0.5
 // and 3 on grids of unequal sides.
 func TestKernelSpectraSymmetry(t *testing.T) {
 	for _, tail := range []float64{1, 0.5, 3} {
@@ -184,9 +182,9 @@ func TestKernelSpectraSymmetry(t *testing.T) {
 			}
 			return float64(i) * r.delta
 		}
-		rows, cols := fourier.NewFFT(lx), fourier.NewCmplxFFT(ly)
+		rows, cols := newRPlan(lx), newCPlan(ly)
 		spec := make([]complex128, ly*hw)
-		line, col := make([]float64, lx), make([]complex128, ly)
+		line, col, work := make([]float64, lx), make([]complex128, ly), make([]complex128, max(lx, ly))
 		for k, got := range [][]float64{r.kxIm, r.kyIm, r.kw} {
 			for row := 0; row < ly; row++ {
 				for c := range line {
@@ -196,14 +194,14 @@ func TestKernelSpectraSymmetry(t *testing.T) {
 						line[c] = 0
 					}
 				}
-				rows.Coefficients(spec[row*hw:(row+1)*hw], line)
+				rows.coefficients(spec[row*hw:(row+1)*hw], line, work)
 			}
 			scale := 1 / float64(lx*ly)
 			for c := 0; c < hw; c++ {
 				for row := range col {
 					col[row] = spec[row*hw+c]
 				}
-				cols.Coefficients(col, col)
+				cols.transform(col, work, false)
 				for row, v := range col {
 					want := imag(v) * scale
 					if k == 2 {

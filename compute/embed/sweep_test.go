@@ -152,7 +152,7 @@ func TestAttractionSweep(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	const warmIterations = 500
+	const warmIterations = 1000
 	share := map[float64]float64{}
 	for _, rho := range []float64{1, 0.5, 4, 30, 100} {
 		var (
