@@ -14,6 +14,7 @@ import (
 
 	"lodestone/canvas/raster"
 	"lodestone/canvas/spatial"
+	"lodestone/compute/parallel"
 	"lodestone/internal/threadcpu"
 
 	"lodestone/internal/order"
@@ -59,11 +60,12 @@ type Map struct {
 	// paint.
 	OnDrawn func(cost time.Duration)
 
-	layout  []float32
-	colours []uint16
-	palette []color.NRGBA
-	order   []int32
-	style   raster.Style
+	layout    []float32
+	layoutGen uint64 // counts the calls of SetLayout
+	colours   []uint16
+	palette   []color.NRGBA
+	order     []int32
+	style     raster.Style
 
 	tool      Tool
 	selection []bool
@@ -92,8 +94,9 @@ type Map struct {
 	grid      *spatial.Grid
 	gridStale bool
 
-	drawColours []uint16 // colours with the selection dimming applied
+	drawColours []uint16 // colours with the selection dimming applied: colours, or dimBuf
 	drawPalette []color.NRGBA
+	dimBuf      []uint16
 
 	renderer *mapRenderer // the renderer, for what it drew (Snapshot)
 }
@@ -134,6 +137,7 @@ func (m *Map) SetLayout(layout []float32) {
 		m.updateDrawColours()
 	}
 	m.layout = layout
+	m.layoutGen++
 	m.gridStale = true
 	m.follow()
 	m.refreshPoints()
@@ -195,13 +199,24 @@ func (m *Map) SetSelection(sel []bool) {
 
 func (m *Map) applySelection(sel []bool) {
 	m.selection = sel
-	m.selCount = 0
-	for _, s := range sel {
-		if s {
-			m.selCount++
+	counts := make([]int, parallel.Threads(0))
+	parallel.For(len(sel), 0, func(lo, hi, block int) {
+		for _, s := range sel[lo:hi] {
+			if s {
+				counts[block]++
+			}
 		}
+	})
+	m.selCount = 0
+	for _, c := range counts {
+		m.selCount += c
 	}
 	m.updateDrawColours()
+	m.selectionChanged()
+}
+
+// selectionChanged redraws the points and tells OnSelection.
+func (m *Map) selectionChanged() {
 	m.refreshPoints()
 	if m.OnSelection != nil {
 		m.OnSelection(m.selCount)
@@ -467,27 +482,50 @@ func (m *Map) DragEnd() {
 
 // ApplyLasso adds the visible cells inside poly (x0,y0,x1,y1,… in data
 // coordinates) to the selection, or removes them when subtract is set.
+//
+// After the test of every point against the loop, one pass on all
+// processors makes the new selection: it leaves out hidden cells, combines
+// the loop with the selection, counts the selected cells and dims the
+// colours of the others.
 func (m *Map) ApplyLasso(poly []float64, subtract bool) {
 	inside, err := spatial.Inside(poly, m.layout, nil, 0)
 	if err != nil {
 		fyne.LogError("lasso", err)
 		return
 	}
-	for i, c := range m.colours {
-		if c == raster.Hidden {
-			inside[i] = false // hidden cells are never selected by a lasso
-		}
+	if len(inside) != len(m.selection) || len(m.colours) != len(inside) {
+		return
 	}
 	mode := spatial.Add
 	if subtract {
 		mode = spatial.Subtract
 	}
-	sel, err := spatial.Combine(nil, m.selection, inside, mode)
-	if err != nil {
-		fyne.LogError("lasso", err)
-		return
+	k := uint16(len(m.palette))
+	dim := m.dimBuffer()
+	sel, current, colours := inside, m.selection, m.colours // sel is written over inside
+	counts := make([]int, parallel.Threads(0))
+	parallel.For(len(sel), 0, func(lo, hi, block int) {
+		count := 0
+		for i := lo; i < hi; i++ {
+			c := colours[i]
+			s := mode.Apply(current[i], inside[i] && c != raster.Hidden) // hidden cells are never selected by a lasso
+			sel[i] = s
+			if s {
+				count++
+			} else if c != raster.Hidden {
+				c += k
+			}
+			dim[i] = c
+		}
+		counts[block] = count
+	})
+	m.pushUndo()
+	m.selection, m.selCount = sel, 0
+	for _, c := range counts {
+		m.selCount += c
 	}
-	m.SetSelection(sel)
+	m.setDrawColours(dim)
+	m.selectionChanged()
 }
 
 // Scrolled zooms about the pointer and pins the view.
@@ -571,6 +609,16 @@ func (m *Map) CreateRenderer() fyne.WidgetRenderer {
 	return r
 }
 
+// drawnFrame says what a frame drew the points of: the layout (by the
+// generation of the map's SetLayout, which also sets the drawing order),
+// the view and style in device pixels, and whether it was drawn.
+type drawnFrame struct {
+	layoutGen uint64
+	view      raster.View
+	style     raster.Style
+	ok        bool
+}
+
 // mapRenderer draws a Map. It reads the widget's state and writes only its
 // own: the images it draws into.
 type mapRenderer struct {
@@ -580,8 +628,9 @@ type mapRenderer struct {
 	tipText         *fynecanvas.Text
 	overlayImg      *image.NRGBA
 
-	rend raster.Renderer
-	img  *image.RGBA
+	rend  raster.Renderer
+	img   *image.RGBA
+	drawn drawnFrame // what rend last drew, when it can be drawn again with new colours
 
 	pointsGen, pathGen uint64 // the widget's generations last refreshed
 }
@@ -672,9 +721,40 @@ func dimmed(c, bg color.NRGBA) color.NRGBA {
 }
 
 // updateDrawColours applies the selection to the paint: with cells
-// selected, the others are drawn in faded versions of their colours.
+// selected, the others are drawn in faded versions of their colours, on
+// all processors.
 func (m *Map) updateDrawColours() {
 	if m.selCount == 0 || len(m.selection) != len(m.colours) {
+		m.setDrawColours(nil)
+		return
+	}
+	k := uint16(len(m.palette))
+	dim, colours, sel := m.dimBuffer(), m.colours, m.selection
+	parallel.For(len(colours), 0, func(lo, hi, _ int) {
+		for i := lo; i < hi; i++ {
+			c := colours[i]
+			if c != raster.Hidden && !sel[i] {
+				c += k
+			}
+			dim[i] = c
+		}
+	})
+	m.setDrawColours(dim)
+}
+
+// dimBuffer returns the map's buffer for dimmed colours, one per cell.
+func (m *Map) dimBuffer() []uint16 {
+	if len(m.dimBuf) != len(m.colours) {
+		m.dimBuf = make([]uint16, len(m.colours))
+	}
+	return m.dimBuf
+}
+
+// setDrawColours draws the cells in dim, the paint's colours with those of
+// unselected cells moved to the dimmed half of the palette, when cells are
+// selected; otherwise (or when dim is nil) in the paint itself.
+func (m *Map) setDrawColours(dim []uint16) {
+	if m.selCount == 0 || dim == nil {
 		m.drawColours, m.drawPalette = m.colours, m.palette
 		return
 	}
@@ -684,15 +764,7 @@ func (m *Map) updateDrawColours() {
 	for i, c := range m.palette {
 		m.drawPalette[k+i] = dimmed(c, m.style.Background)
 	}
-	if len(m.drawColours) != len(m.colours) || len(m.colours) > 0 && &m.drawColours[0] == &m.colours[0] {
-		m.drawColours = make([]uint16, len(m.colours))
-	}
-	for i, c := range m.colours {
-		if c != raster.Hidden && !m.selection[i] {
-			c += uint16(k)
-		}
-		m.drawColours[i] = c
-	}
+	m.drawColours = dim
 }
 
 // deviceScale returns the device pixels per logical pixel of an image w
@@ -725,10 +797,20 @@ func (r *mapRenderer) drawPoints(w, h int) image.Image {
 	}
 	start := time.Now()
 	var err error
+	// When only the colours changed since the last frame (a lasso, a new
+	// paint), the renderer draws its points again with the new colours
+	// instead of placing them anew.
+	frame := drawnFrame{layoutGen: m.layoutGen, view: v, style: st, ok: true}
 	cost, measured := threadcpu.Section(func() {
-		err = r.rend.Draw(r.img, m.layout, m.drawColours, m.drawPalette, m.order, v, st, threads)
+		if frame == r.drawn {
+			err = r.rend.Redraw(r.img, m.drawColours, m.drawPalette, threads)
+		} else {
+			err = r.rend.Draw(r.img, m.layout, m.drawColours, m.drawPalette, m.order, v, st, threads)
+		}
 	})
+	r.drawn = frame
 	if err != nil {
+		r.drawn = drawnFrame{}
 		fyne.LogError("drawing the map", err)
 	}
 	if m.OnDrawn != nil {

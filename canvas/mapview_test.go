@@ -477,3 +477,105 @@ func TestHoverTipStaysInsideTheMap(t *testing.T) {
 		}
 	}
 }
+
+// TestFramesEqualFreshDraws changes the map in the ways a user does —
+// lassos that add and remove cells, undo, a paint that hides cells, a new
+// layout in the same slice, a pan, a new point style — and checks after
+// each that the frame equals, byte for byte, a fresh raster.Draw of the
+// map's cells as they are: frames after changes of colour alone are drawn
+// again from the renderer's placed points (raster.Renderer.Redraw), the
+// others placed anew. A lasso never selects hidden cells.
+func TestFramesEqualFreshDraws(t *testing.T) {
+	a := test.NewApp()
+	defer a.Quit()
+	m := NewMap()
+	w := test.NewWindow(m)
+	defer w.Close()
+	w.SetPadded(false)
+	w.Resize(fyne.NewSize(320, 240))
+	const n = 6000
+	layout, colours := clusteredMap(n, 3)
+	palette := make([]color.NRGBA, 20)
+	for i := range palette {
+		palette[i] = color.NRGBA{uint8(40 + 13*i), uint8(200 - 7*i), uint8(90 + 29*i), uint8(255 - 6*i)}
+	}
+	m.SetLayout(layout)
+	m.SetPaint(colours, palette)
+	r := test.WidgetRenderer(m).(*mapRenderer)
+	check := func(what string, redrawn bool) {
+		t.Helper()
+		before := r.drawn
+		w.Canvas().Capture()
+		got := m.Snapshot()
+		if again := r.drawn == before; again != redrawn {
+			t.Errorf("%s: drawn again from placed points %v, want %v", what, again, redrawn)
+		}
+		v := m.View()
+		want := image.NewRGBA(got.Rect)
+		if err := raster.Draw(want, m.layout, m.drawColours, m.drawPalette, m.order, v, m.style, 1); err != nil {
+			t.Fatal(err)
+		}
+		if !slices.Equal(got.Pix, want.Pix) {
+			t.Fatalf("%s: the frame differs from a fresh draw", what)
+		}
+		// Unselected cells are drawn in the dimmed half of the palette
+		// while any cell is selected.
+		sel, k := m.Selection()
+		for i, c := range m.colours {
+			if k > 0 && c != raster.Hidden && !sel[i] {
+				c += uint16(len(m.palette))
+			}
+			if m.drawColours[i] != c || k > 0 && len(m.drawPalette) != 2*len(m.palette) {
+				t.Fatalf("%s: cell %d drawn in colour %d of %d, want %d", what, i, m.drawColours[i], len(m.drawPalette), c)
+			}
+		}
+	}
+	check("first frame", false)
+	box := []float64{-60, -40, 60, -40, 60, 40, -60, 40}
+	loop := []float64{-15, -10, 5, -12, 10, 6, -12, 9}
+	m.ApplyLasso(loop, false)
+	check("lasso", true)
+	m.ApplyLasso([]float64{-5, -30, 0, -30, 0, 30, -5, 30}, true)
+	check("lasso removing cells", true)
+	m.Undo()
+	check("undo", true)
+	hidden := append([]uint16(nil), colours...)
+	for i, c := range hidden {
+		if c%3 == 0 {
+			hidden[i] = raster.Hidden
+		}
+	}
+	m.SetPaint(hidden, palette)
+	check("paint hiding cells", true)
+	m.ClearSelection()
+	m.ApplyLasso(box, false)
+	check("lasso around every cell", true)
+	visible := 0
+	for _, c := range hidden {
+		if c != raster.Hidden {
+			visible++
+		}
+	}
+	if sel, k := m.Selection(); k != visible {
+		t.Errorf("a lasso around every cell selected %d, want the %d visible", k, visible)
+	} else {
+		for i, s := range sel {
+			if s == (hidden[i] == raster.Hidden) {
+				t.Fatalf("cell %d (colour %d) selected: %v", i, hidden[i], s)
+			}
+		}
+	}
+	m.SetPaint(colours, palette)
+	check("paint showing cells", true)
+	for i := range layout {
+		layout[i] *= 0.9
+	}
+	m.SetLayout(layout)
+	check("layout changed in place", false)
+	m.Dragged(&fyne.DragEvent{Dragged: fyne.NewDelta(7, -3)})
+	check("pan", false)
+	m.SetPointStyle(2.5, 0.7)
+	check("point style", false)
+	m.ApplyLasso(loop, true)
+	check("lasso after the style", true)
+}

@@ -30,8 +30,18 @@ type Renderer struct {
 	stamps  *stampSet
 	paints  []paint
 	buckets [][]entry  // buckets[block·bands + band]: the block's points touching the band, in drawing order
+	places  []uint16   // places[k]: the bands the point order[k] was put in (see place), or noPlace
 	errs    []error    // errs[block]: the first bad input the block met
 	bands   [][]uint32 // bands[worker]: the band being drawn, as packed pixels
+	bad     []int      // bad[block]: the first colour outside the palette Redraw found in the block, or −1
+
+	// The last frame Draw drew, which Redraw draws again: valid after a
+	// Draw that succeeded, with its bins, blocks and background.
+	last       frame
+	lastBlocks int
+	lastSplit  int // the threads the last Draw split its order for
+	lastBG     uint32
+	drawn      bool
 }
 
 // entry is one point to draw in one band.
@@ -87,6 +97,7 @@ type frame struct {
 // entry is not a point, a drawn point's colour index lies outside the
 // palette, or the view or style is out of range.
 func (r *Renderer) Draw(dst *image.RGBA, layout []float32, colours []uint16, palette []color.NRGBA, order []int32, v View, s Style, threads int) error {
+	r.drawn = false
 	radius, err := s.deviceRadius()
 	if err != nil {
 		return err
@@ -114,6 +125,10 @@ func (r *Renderer) Draw(dst *image.RGBA, layout []float32, colours []uint16, pal
 	f.bands = (f.h + f.bandH - 1) / f.bandH
 	r.preparePalette(palette)
 	r.prepareBuckets(threads * f.bands)
+	if cap(r.places) < len(order) {
+		r.places = make([]uint16, len(order))
+	}
+	r.places = r.places[:len(order)]
 	if cap(r.errs) < threads {
 		r.errs = make([]error, threads)
 	}
@@ -131,13 +146,96 @@ func (r *Renderer) Draw(dst *image.RGBA, layout []float32, colours []uint16, pal
 
 	bg := premultiplied(s.Background)
 	blocks := min(threads, len(order)) // the number of blocks parallel.For made
+	r.drawBands(dst, &f, blocks, bg, threads)
+	r.last, r.lastBlocks, r.lastSplit, r.lastBG, r.drawn = f, blocks, threads, bg, true
+	return nil
+}
+
+// Redraw draws the points of the last frame Draw drew into dst again with
+// new colours: the image equals that of Draw with the same layout, order,
+// view and style and these colours and palette, byte for byte, but the
+// points are not transformed and sorted into bands again, which is most
+// of the work of a frame when only the colours change (a new selection or
+// paint). The layout and order given to that Draw must not have changed
+// since. Redraw works on threads goroutines (threads < 1: all processors),
+// and may follow a Redraw.
+//
+// Redraw returns an *InputError (and leaves dst unchanged) when no Draw
+// has succeeded since the Renderer was made or since a Draw failed
+// (ErrNoFrame), when dst is not the size of that frame, when colours is not
+// one per point of its layout, when the palette has Hidden or more
+// entries, or when a colour index, of any point (unlike Draw, which checks
+// those of the points in its order), is neither Hidden nor in the palette;
+// the first such point is named.
+func (r *Renderer) Redraw(dst *image.RGBA, colours []uint16, palette []color.NRGBA, threads int) error {
+	f := &r.last
+	switch {
+	case !r.drawn:
+		return &InputError{Arg: "renderer", Index: -1, Err: ErrNoFrame}
+	case dst == nil || dst.Rect.Dx() != f.w || dst.Rect.Dy() != f.h:
+		return &InputError{Arg: "view size", Index: -1, Err: ErrView}
+	case len(colours) != len(f.layout)/2:
+		return &InputError{Arg: "colours", Index: -1, Err: ErrLength}
+	case len(palette) >= Hidden:
+		return &InputError{Arg: "palette", Index: -1, Err: ErrPaletteSize}
+	}
+	threads = parallel.Threads(threads)
+	if cap(r.bad) < threads {
+		r.bad = make([]int, threads)
+	}
+	r.bad = r.bad[:threads]
+	npal := len(palette)
+	parallel.For(len(colours), threads, func(lo, hi, block int) {
+		r.bad[block] = -1
+		for i, c := range colours[lo:hi] {
+			if c != Hidden && int(c) >= npal {
+				r.bad[block] = lo + i
+				return
+			}
+		}
+	})
+	for _, i := range r.bad[:min(threads, len(colours))] {
+		if i >= 0 {
+			return &InputError{Arg: "colours", Index: i, Err: ErrPaletteIndex}
+		}
+	}
+	f.colours, f.npal = colours, npal
+	r.preparePalette(palette)
+	parallel.For(len(f.order), r.lastSplit, func(lo, hi, block int) {
+		r.recolour(f, lo, hi, r.buckets[block*f.bands:(block+1)*f.bands])
+	})
+	r.drawBands(dst, f, r.lastBlocks, r.lastBG, threads)
+	return nil
+}
+
+// recolour gives the entries of the points order[lo:hi], which Draw put
+// in buckets (the block's buckets, band by band), their points' colours
+// from f.colours. A block's entries in a band are its points placed in
+// that band, in order, so each band's next entry is the next such point's.
+func (r *Renderer) recolour(f *frame, lo, hi int, buckets [][]entry) {
+	var next [MaxSize >> minBandShift]int32 // next[band]: the band's next entry
+	for k, code := range r.places[lo:hi] {
+		if code == noPlace {
+			continue
+		}
+		c := f.colours[f.order[lo+k]]
+		b0 := int(code >> 1)
+		for b := b0; b <= b0+int(code&1); b++ {
+			buckets[b][next[b]].colour = c
+			next[b]++
+		}
+	}
+}
+
+// drawBands draws every band of frame f on threads goroutines, handing the
+// bands out as the goroutines come free.
+func (r *Renderer) drawBands(dst *image.RGBA, f *frame, blocks int, bg uint32, threads int) {
 	r.prepareBandBuffers(threads, f.w*f.bandH)
 	parallel.ForChunks(context.Background(), f.bands, 1, threads, func(lo, hi, worker int) {
 		for band := lo; band < hi; band++ {
-			r.drawBand(dst, &f, band, blocks, bg, r.bands[worker])
+			r.drawBand(dst, f, band, blocks, bg, r.bands[worker])
 		}
 	})
-	return nil
 }
 
 // Draw draws like Renderer.Draw with a Renderer of its own, which it
@@ -207,8 +305,11 @@ func (r *Renderer) prepareBandBuffers(threads, size int) {
 
 // bin transforms the points order[lo:hi] to pixels and appends each one
 // that touches the image to the buckets of the bands it touches, keeping the
-// drawing order. It returns an error for the first order entry, in order,
-// that is not a point or names a point whose colour is outside the palette.
+// drawing order, and notes in r.places[lo:hi] which bands each point went
+// to. Hidden points are binned too (and skipped when drawn), so that Redraw
+// can show them with new colours. It returns an error for the first order
+// entry, in order, that is not a point or names a point whose colour is
+// outside the palette.
 //
 // Points are first gathered from layout and colours in small batches by a
 // tight loop, so that the processor can fetch many scattered points at once.
@@ -240,22 +341,21 @@ func (r *Renderer) bin(f *frame, lo, hi int, buckets [][]entry) error {
 		if badIndex >= 0 {
 			return &InputError{Arg: "order", Index: start + badIndex, Err: ErrIndex}
 		}
-		r.binBatch(f, xs[:len(ord)], ys[:len(ord)], cs[:len(ord)], buckets)
+		r.binBatch(f, xs[:len(ord)], ys[:len(ord)], cs[:len(ord)], buckets, r.places[start:end])
 	}
 	return nil
 }
 
-// binBatch bins gathered points whose indices and colours are valid.
-func (r *Renderer) binBatch(f *frame, xs, ys []float32, cs []uint16, buckets [][]entry) {
+// binBatch bins gathered points whose indices and colours are valid, and
+// notes the bands each was put in in places.
+func (r *Renderer) binBatch(f *frame, xs, ys []float32, cs []uint16, buckets [][]entry, places []uint16) {
 	const bias = MaxRadius + 4 // makes px + bias positive for every centre kept
 	stamps := &r.stamps.stamps
 	for k, c := range cs {
-		if c == Hidden {
-			continue
-		}
 		px := float64(xs[k])*f.scale + f.ox
 		py := f.oy - float64(ys[k])*f.scale
 		if !(px > f.lo && px < f.hiX && py > f.lo && py < f.hiY) {
+			places[k] = noPlace
 			continue
 		}
 		qx := int((px+bias)*subdiv) - bias*subdiv
@@ -265,6 +365,7 @@ func (r *Renderer) binBatch(f *frame, xs, ys []float32, cs []uint16, buckets [][
 		x := qx>>subdivShift + st.dx
 		y := qy>>subdivShift + st.dy
 		if st.w == 0 || x+st.w <= 0 || x >= f.w || y+st.h <= 0 || y >= f.h {
+			places[k] = noPlace
 			continue
 		}
 		e := entry{x: int16(x), y: int16(y), colour: c, sub: uint8(sub)}
@@ -273,8 +374,18 @@ func (r *Renderer) binBatch(f *frame, xs, ys []float32, cs []uint16, buckets [][
 		for b := b0; b <= b1; b++ {
 			buckets[b] = append(buckets[b], e)
 		}
+		places[k] = place(b0, b1)
 	}
 }
+
+// noPlace marks a point placed in no band.
+const noPlace = math.MaxUint16
+
+// place returns the note of a point put in bands b0 … b1: b0·2, plus 1 when
+// it went to the next band as well. A stamp is at most a quarter of a band
+// high (see Draw), so it touches at most two bands, and there are at most
+// MaxSize >> minBandShift bands, so the note stays below noPlace.
+func place(b0, b1 int) uint16 { return uint16(b0<<1 | (b1 - b0)) }
 
 // premultiplied returns c as the four bytes of a premultiplied RGBA pixel,
 // packed little-endian.
@@ -297,6 +408,9 @@ func (r *Renderer) drawBand(dst *image.RGBA, f *frame, band, blocks int, bg uint
 	stamps := &r.stamps.stamps
 	for b := 0; b < blocks; b++ {
 		for _, e := range r.buckets[b*f.bands+band] {
+			if e.colour == Hidden {
+				continue
+			}
 			st := &stamps[e.sub]
 			x, y := int(e.x), int(e.y)
 			p := r.paints[e.colour]

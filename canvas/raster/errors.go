@@ -14,6 +14,7 @@ var (
 	ErrPaletteSize  = errors.New("palette too large")
 	ErrView         = errors.New("view does not fit the image")
 	ErrStyle        = errors.New("style out of range")
+	ErrNoFrame      = errors.New("no frame drawn to draw again")
 )
 
 // InputError describes a bad argument: which one, at which element (Index is

@@ -557,3 +557,109 @@ func equalInt32(a, b []int32) bool {
 	}
 	return true
 }
+
+// TestRedrawMatchesSlowReference draws a scene, then draws it again with
+// other colours by Redraw (points hidden and shown, colours changed,
+// translucent ones included), and checks each image byte for byte against
+// slowDraw with those colours, for Redraw on as many threads as the Draw
+// and on others.
+func TestRedrawMatchesSlowReference(t *testing.T) {
+	for _, tc := range []struct {
+		w, h    int
+		n       int
+		style   Style
+		threads [][2]int // threads of the Draw, then of the Redraws
+	}{
+		{97, 131, 3000, Style{Radius: 0.8, Opacity: 0.55, Background: color.NRGBA{255, 255, 255, 255}}, [][2]int{{1, 1}, {2, 3}, {3, 1}}},
+		{64, 200, 500, Style{Radius: 9.5, Opacity: 0.8}, [][2]int{{2, 2}, {1, 5}}},
+		{160, 100, 80000, DefaultStyle(1000000), [][2]int{{2, 2}, {3, 1}}},
+	} {
+		layout, colours, palette := randomScene(tc.n, tc.w, tc.h, uint64(tc.n))
+		order := Shuffle(tc.n, int64(tc.w))
+		v := pixelView(tc.w, tc.h)
+		rng := rand.New(rand.NewPCG(uint64(tc.n), 3))
+		var later [][]uint16
+		for range 2 {
+			c := make([]uint16, tc.n)
+			for i := range c {
+				c[i] = uint16(rng.IntN(len(palette)))
+				if rng.IntN(7) == 0 {
+					c[i] = Hidden
+				}
+			}
+			later = append(later, c)
+		}
+		for _, th := range tc.threads {
+			var r Renderer
+			got := newImage(tc.w, tc.h)
+			if err := r.Draw(got, layout, colours, palette, order, v, tc.style, th[0]); err != nil {
+				t.Fatal(err)
+			}
+			for k, c := range later {
+				if err := r.Redraw(got, c, palette, th[1]); err != nil {
+					t.Fatal(err)
+				}
+				want := newImage(tc.w, tc.h)
+				slowDraw(want, layout, c, palette, order, v, tc.style)
+				if !bytes.Equal(got.Pix, want.Pix) {
+					t.Fatalf("%dx%d r=%g threads %v, redraw %d: image differs from the slow reference at %d bytes",
+						tc.w, tc.h, tc.style.Radius, th, k, countDiff(got.Pix, want.Pix))
+				}
+			}
+		}
+	}
+}
+
+// TestRedrawErrors checks that Redraw refuses to draw without a frame (none
+// yet, or the last Draw failed), into an image of another size, or with
+// colours that do not fit, names the first bad colour of any point, and
+// leaves the image unchanged.
+func TestRedrawErrors(t *testing.T) {
+	img := newImage(10, 10)
+	v := pixelView(10, 10)
+	s := DefaultStyle(3)
+	pal := []color.NRGBA{{1, 2, 3, 255}}
+	layout := []float32{1, 1, 2, 2, 3, 3}
+	cols := []uint16{0, 0, 0}
+	var r Renderer
+	if err := r.Redraw(img, cols, pal, 1); !errors.Is(err, ErrNoFrame) {
+		t.Errorf("before any frame: got %v", err)
+	}
+	if err := r.Draw(img, layout, cols, pal, []int32{0, 2}, v, s, 2); err != nil {
+		t.Fatal(err)
+	}
+	before := append([]uint8(nil), img.Pix...)
+	for _, tc := range []struct {
+		name  string
+		err   error
+		arg   string
+		index int
+		img   *image.RGBA
+		cols  []uint16
+		pal   []color.NRGBA
+	}{
+		{"image size", ErrView, "view size", -1, newImage(10, 11), cols, pal},
+		{"nil image", ErrView, "view size", -1, nil, cols, pal},
+		{"short colours", ErrLength, "colours", -1, img, cols[:2], pal},
+		{"palette size", ErrPaletteSize, "palette", -1, img, cols, make([]color.NRGBA, Hidden)},
+		{"first bad colour", ErrPaletteIndex, "colours", 1, img, []uint16{Hidden, 1, 2}, pal},
+	} {
+		err := r.Redraw(tc.img, tc.cols, tc.pal, 2)
+		var ie *InputError
+		if !errors.Is(err, tc.err) || !errors.As(err, &ie) || ie.Arg != tc.arg || ie.Index != tc.index {
+			t.Errorf("%s: got %v, want %v at %s[%d]", tc.name, err, tc.err, tc.arg, tc.index)
+		}
+	}
+	if !bytes.Equal(img.Pix, before) {
+		t.Error("a refused Redraw changed the image")
+	}
+	if err := r.Redraw(img, []uint16{0, Hidden, 0}, pal, 2); err != nil {
+		t.Errorf("after refusals: %v", err)
+	}
+	if err := r.Draw(img, layout, cols, pal, []int32{0, 7}, v, s, 2); !errors.Is(err, ErrIndex) {
+		t.Fatalf("bad order: got %v", err)
+	}
+	if err := r.Redraw(img, cols, pal, 2); !errors.Is(err, ErrNoFrame) {
+		t.Errorf("after a failed Draw: got %v", err)
+	}
+}

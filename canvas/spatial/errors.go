@@ -1,7 +1,7 @@
 // Package spatial answers geometric questions about the points of a map:
 // which point is nearest the pointer (Grid), which points a lasso encloses
 // (Inside), and how a new lasso combines with the current selection
-// (Combine).
+// (Mode).
 package spatial
 
 import (
@@ -14,7 +14,6 @@ var (
 	ErrOddLength = errors.New("odd number of coordinates")
 	ErrLength    = errors.New("length does not match")
 	ErrPolygon   = errors.New("not a polygon")
-	ErrMode      = errors.New("unknown selection mode")
 )
 
 // InputError describes a bad argument: which one, at which element (Index is

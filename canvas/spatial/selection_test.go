@@ -1,12 +1,10 @@
 package spatial
 
-import (
-	"errors"
-	"testing"
-)
+import "testing"
 
-// TestCombine checks every mode against its truth table.
-func TestCombine(t *testing.T) {
+// TestModeApply checks every mode against its truth table, and that an
+// unknown mode keeps the selection.
+func TestModeApply(t *testing.T) {
 	current := []bool{false, false, true, true}
 	lasso := []bool{false, true, false, true}
 	for _, tc := range []struct {
@@ -17,29 +15,12 @@ func TestCombine(t *testing.T) {
 		{Add, []bool{false, true, true, true}},
 		{Subtract, []bool{false, false, true, false}},
 		{Intersect, []bool{false, false, false, true}},
+		{Mode(9), current},
 	} {
-		got, err := Combine(nil, current, lasso, tc.mode)
-		if err != nil {
-			t.Fatal(err)
-		}
-		for i := range got {
-			if got[i] != tc.want[i] {
-				t.Errorf("mode %d: %v, want %v", tc.mode, got, tc.want)
-				break
+		for i := range current {
+			if got := tc.mode.Apply(current[i], lasso[i]); got != tc.want[i] {
+				t.Errorf("mode %d, current %v, lasso %v: %v, want %v", tc.mode, current[i], lasso[i], got, tc.want[i])
 			}
 		}
-	}
-	in := append([]bool(nil), current...)
-	if got, _ := Combine(in, in, lasso, Add); &got[0] != &in[0] || !got[1] {
-		t.Error("Combine in place failed")
-	}
-	if _, err := Combine(nil, current, lasso[:3], Add); !errors.Is(err, ErrLength) {
-		t.Errorf("length mismatch: %v", err)
-	}
-	if _, err := Combine(make([]bool, 2), current, lasso, Add); !errors.Is(err, ErrLength) {
-		t.Errorf("short dst: %v", err)
-	}
-	if _, err := Combine(nil, current, lasso, Mode(9)); !errors.Is(err, ErrMode) {
-		t.Errorf("bad mode: %v", err)
 	}
 }
