@@ -166,9 +166,25 @@ func benchKNN(ctx context.Context, w io.Writer, sizes []int, threads int, seed i
 		runtime.GC()
 		d := benchData(n, seed)
 		var g *neighbors.Graph
+		var stages []string
 		start, cpu := time.Now(), cputime.Used()
+		last, lastCPU := start, cpu
+		// Each stage of the approximate search: its wall and processor
+		// time, the list entries it changed (per entry of the N×90 lists),
+		// the distances it computed, and the points whose candidates the
+		// descent's sample cut.
+		stage := func(st neighbors.Stage) {
+			now, c := time.Now(), cputime.Used()
+			name := st.Name
+			if st.Step > 0 {
+				name = fmt.Sprintf("%s %d", name, st.Step)
+			}
+			stages = append(stages, fmt.Sprintf("%23s %8.2f s %8.2f s %10.4f %10.3g %10d", name, now.Sub(last).Seconds(), (c-lastCPU).Seconds(),
+				float64(st.Changed)/(float64(n)*90), float64(st.Distances), st.Cut))
+			last, lastCPU = now, c
+		}
 		peak, err := peakHeap(func() (err error) {
-			g, err = neighbors.Find(ctx, d.x, neighbors.Options{K: 90, Seed: seed, Threads: threads})
+			g, err = neighbors.Find(ctx, d.x, neighbors.Options{K: 90, Seed: seed, Threads: threads, Stages: stage})
 			return err
 		})
 		if err != nil {
@@ -189,6 +205,12 @@ func benchKNN(ctx context.Context, w io.Writer, sizes []int, threads int, seed i
 			method = "exact"
 		}
 		fmt.Fprintf(w, "%10d %12s %8.2f s %8.2f s %8.4f ± %.4f %12s\n", n, method, elapsed.Seconds(), cpu.Seconds(), recall, se, mib(peak))
+		if len(stages) > 0 {
+			fmt.Fprintf(w, "%23s %10s %10s %10s %10s %10s\n", "stage", "time", "cpu time", "changed", "distances", "cut")
+			for _, l := range stages {
+				fmt.Fprintln(w, l)
+			}
+		}
 	}
 	fmt.Fprintln(w)
 	return nil

@@ -107,6 +107,12 @@ func approximate(ctx context.Context, x *atlas.Dense, opt Options, par params) (
 		y, order = renumber(y, trees, threads)
 	}
 	pf.Report(int64(par.trees), total)
+	stage := func(st Stage) {
+		if opt.Stages != nil {
+			opt.Stages(st)
+		}
+	}
+	stage(Stage{Name: "forest"})
 
 	l := newLists(n, kb, true)
 	j := newJoiner(y, l, threads, max(leafSize, par.maxNew+par.maxOld))
@@ -117,8 +123,12 @@ func approximate(ctx context.Context, x *atlas.Dense, opt Options, par params) (
 		trees[t] = nil
 		pf.Report(int64(par.trees+t+1), total)
 	}
-	err = j.descend(ctx, uint64(opt.Seed), par.maxNew, par.maxOld, par.maxSteps, par.stop, func(s int) {
+	dists, changed, _ := j.counts()
+	stage(Stage{Name: "leaves", Changed: changed, Distances: dists})
+	err = j.descend(ctx, uint64(opt.Seed), par, func(s int, changed int64) {
 		pf.Report(int64(2*par.trees+2*s), total)
+		dists, _, cut := j.counts()
+		stage(Stage{Name: "descent", Step: s, Changed: changed, Distances: dists, Cut: cut})
 	})
 	if err != nil {
 		return nil, err
@@ -135,6 +145,7 @@ func approximate(ctx context.Context, x *atlas.Dense, opt Options, par params) (
 		g = g.Truncate(k)
 	}
 	finish(g, opt.Metric, threads)
+	stage(Stage{Name: "finish"})
 	pf.Report(total, total)
 	return g, nil
 }

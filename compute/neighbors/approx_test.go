@@ -3,6 +3,7 @@ package neighbors
 import (
 	"context"
 	"errors"
+	"reflect"
 	"slices"
 	"sync"
 	"testing"
@@ -256,6 +257,47 @@ func TestProgress(t *testing.T) {
 		}
 		if last != total || total == 0 {
 			t.Fatalf("progress ended at %d of %d", last, total)
+		}
+	}
+}
+
+// TestStages checks the stages an approximate search reports: forest,
+// leaves, descent steps 1, 2, … and finish, in order; the leaves fill every
+// list (at least N·k entries enter); every step but the last changes at
+// least the stop rule's share of entries and the last one less (or is the
+// last allowed); and the counts are the same for any number of threads.
+func TestStages(t *testing.T) {
+	x := randomMatrix(3000, 8, 4)
+	const k = 70 // kb = k, above defaults.buildMin
+	var runs [][]Stage
+	for _, threads := range []int{1, 3} {
+		var got []Stage
+		if _, err := Approximate(context.Background(), x, Options{K: k, Seed: 5, Threads: threads, Stages: func(s Stage) {
+			got = append(got, s)
+		}}); err != nil {
+			t.Fatal(err)
+		}
+		runs = append(runs, got)
+	}
+	got := runs[0]
+	if !reflect.DeepEqual(runs[0], runs[1]) {
+		t.Fatalf("stages differ with 1 and 3 threads:\n%v\n%v", runs[0], runs[1])
+	}
+	if len(got) < 4 || got[0].Name != "forest" || got[1].Name != "leaves" || got[len(got)-1].Name != "finish" {
+		t.Fatalf("stages %v", got)
+	}
+	if got[1].Changed < int64(x.Rows*k) || got[1].Distances == 0 {
+		t.Errorf("leaves: %+v, want at least %d entries changed", got[1], x.Rows*k)
+	}
+	steps := got[2 : len(got)-1]
+	limit := defaults.stop * float64(x.Rows*k)
+	for i, s := range steps {
+		if s.Name != "descent" || s.Step != i+1 || s.Distances == 0 {
+			t.Fatalf("stage %d: %+v", i+2, s)
+		}
+		last := i == len(steps)-1
+		if !last && float64(s.Changed) < limit || last && float64(s.Changed) >= limit && s.Step < defaults.maxSteps {
+			t.Errorf("step %d changed %d entries (stop below %.0f), last %v", s.Step, s.Changed, limit, last)
 		}
 	}
 }

@@ -58,6 +58,8 @@ type scratch struct {
 	thr    []float32 // thresholds of a group's points
 	below  []uint8   // pairs that may enter a list, four to a byte
 	slot   []int32   // open-addressing table: index in cand + 1, or 0
+	// Counts for Stage reports, summed and cleared by counts.
+	dists, changed, cut int64
 }
 
 // group is the candidates of one point in a descent step.
@@ -102,20 +104,34 @@ func (j *joiner) joinLeaves(ctx context.Context, t *rpTree) error {
 		ids := t.leaf(l)
 		rows := j.gather(w, ids)
 		for a := 1; a < len(ids); a++ {
-			dist := j.work[w].dist[:a]
+			s := j.work[w]
+			dist := s.dist[:a]
 			sqDistRows(rows[a*dim:(a+1)*dim], rows[:a*dim], dist)
+			s.dists += int64(a)
 			p := ids[a]
 			for b, d := range dist {
 				q := ids[b]
 				if d <= j.thr[p] && j.l.insert(int(p), q, d) {
 					j.thr[p] = j.l.worst(int(p))
+					s.changed++
 				}
 				if d <= j.thr[q] && j.l.insert(int(q), p, d) {
 					j.thr[q] = j.l.worst(int(q))
+					s.changed++
 				}
 			}
 		}
 	})
+}
+
+// counts returns the workers' counts of distances, changed entries and cut
+// candidate sets since the last call, and clears them.
+func (j *joiner) counts() (dists, changed, cut int64) {
+	for _, s := range j.work {
+		dists, changed, cut = dists+s.dists, changed+s.changed, cut+s.cut
+		s.dists, s.changed, s.cut = 0, 0, 0
+	}
+	return dists, changed, cut
 }
 
 // run calls join(lo, hi, worker, buf) for items [0, n) in batches of batch
@@ -345,10 +361,12 @@ func (j *joiner) candidates(g *group, s *scratch, rev *reverse, p int, seed uint
 		g.cand = cand[:0]
 		return 0
 	}
+	cut := false
 	keep := func(part []candidate, m int) []candidate {
 		if len(part) <= m {
 			return part
 		}
+		cut = true
 		for i := range part {
 			part[i].key = uint64(pairPriority(seed, step, int32(p), part[i].id))<<32 | uint64(uint32(part[i].id))
 		}
@@ -357,6 +375,9 @@ func (j *joiner) candidates(g *group, s *scratch, rev *reverse, p int, seed uint
 	}
 	fresh := keep(cand[:nNew], maxNew)
 	old := keep(cand[nNew:], maxOld)
+	if cut {
+		s.cut++
+	}
 	cur, curFlag := j.l.idx[base:base+k], j.l.flag[base:base+k]
 	for _, c := range fresh {
 		if c.entry < 0 || flag[c.entry] != 1 {
@@ -399,16 +420,16 @@ func pairPriority(seed uint64, step int, a, b int32) uint32 {
 // neighbour is likely a neighbour"). Entries sampled as new are flagged old,
 // so each pair is joined about once. Old candidates are gathered only for
 // points that have new ones, since only those are joined. It stops when a
-// step changes fewer than delta·N·k list entries or after maxSteps steps,
-// and reports each step to step(done).
+// step changes fewer than par.stop·N·k list entries or after par.maxSteps steps,
+// and reports each step to step(done, changed).
 //
 // Points are joined in batches in order of id, each batch's offers applied
 // before the next batch is joined; candidates are drawn from the lists as
 // they stood at the start of the step.
-func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSteps int, delta float64, step func(int)) error {
+func (j *joiner) descend(ctx context.Context, seed uint64, par params, step func(done int, changed int64)) error {
 	n, k := j.x.Rows, j.l.k
 	rev := newReverse(n, n*k, j.threads)
-	for s := 0; s < maxSteps; s++ {
+	for s := 0; s < par.maxSteps; s++ {
 		rev.build(j.l, j.threads)
 		if err := ctx.Err(); err != nil {
 			return err
@@ -416,7 +437,7 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 		// prepare finds the candidates of p and asks for their rows and
 		// lists to be fetched while the previous group is joined.
 		prepare := func(g *group, p, w int) {
-			g.nNew = j.candidates(g, j.work[w], rev, p, seed, s, maxNew, maxOld)
+			g.nNew = j.candidates(g, j.work[w], rev, p, seed, s, par.maxNew, par.maxOld)
 			g.ids = g.ids[:0]
 			if g.nNew == 0 {
 				return
@@ -444,8 +465,8 @@ func (j *joiner) descend(ctx context.Context, seed uint64, maxNew, maxOld, maxSt
 		if err != nil {
 			return err
 		}
-		step(s + 1)
-		if float64(changed) < delta*float64(n)*float64(k) {
+		step(s+1, changed)
+		if float64(changed) < par.stop*float64(n)*float64(k) {
 			break
 		}
 	}
@@ -478,6 +499,7 @@ func (j *joiner) localJoin(g *group, w int, buf []update) []update {
 		u, tu := ids[a], thr[a]
 		vs, tv := ids[a+1:], thr[a+1:]
 		dist := sc.dist[:len(vs)]
+		sc.dists += int64(len(vs))
 		below := sc.below[:(len(vs)+3)/4]
 		sqDistRowsBelow(rows[a*dim:(a+1)*dim], rows[(a+1)*dim:], dist, tu, tv, below)
 		for g, m := range below {

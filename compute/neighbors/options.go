@@ -82,6 +82,19 @@ type Options struct {
 	Seed     int64         // seed of the approximate search's random choices
 	Threads  int           // goroutines; < 1 means all processors
 	Progress progress.Func // called from time to time; may be nil
+	// Stages, when not nil, is called as each stage of an approximate
+	// search ends, from the goroutine that called the search, so that a
+	// benchmark can tell where the time goes.
+	Stages func(Stage)
+}
+
+// Stage describes one finished stage of an approximate search.
+type Stage struct {
+	Name      string // "forest" (trees built, rows renumbered), "leaves" (pairs of each leaf joined), "descent" or "finish" (lists put back in the input's numbering)
+	Step      int    // descent step, from 1; 0 for the other stages
+	Changed   int64  // list entries that changed
+	Distances int64  // distances computed
+	Cut       int64  // descent: points with more candidates than the sample keeps
 }
 
 // Sentinel errors wrapped by the errors this package returns; test for them
