@@ -26,7 +26,12 @@ type params struct {
 // (k = 90, two cores), where sampling up to 180 new and 180 old candidates
 // per point and step instead of 80 and 80 raised the recall from 0.946 to
 // 0.980 in the same time: the descent converges in 6 steps instead of 7.
-var defaults = params{trees: 16, leafMin: 256, buildMin: 60, maxNew: 180, maxOld: 180, maxSteps: 20, stop: 0.0005, renumber: true}
+// Up to 1,000 old candidates instead of 180 raised it from 0.9791 to 0.9851
+// (5,000 sampled points) for 6 % more processor time: an old candidate left
+// out of a step meets that step's new ones never again, and the old sets
+// cut are those of hubs, points listed by many others, whose candidates are
+// many (most of them in the third and later steps).
+var defaults = params{trees: 16, leafMin: 256, buildMin: 60, maxNew: 180, maxOld: 1000, maxSteps: 20, stop: 0.0005, renumber: true}
 
 // pointBatch is the number of points joined between two applications of
 // updates.
