@@ -5,6 +5,7 @@ import (
 	"sync"
 	"sync/atomic"
 	"testing"
+	"time"
 
 	"lodestone/compute/parallel"
 )
@@ -130,6 +131,54 @@ func TestTeamChunks(t *testing.T) {
 			for i, v := range seen {
 				if v != 1 {
 					t.Fatalf("threads %d, n %d: index %d passed %d times", threads, c.n, i, v)
+				}
+			}
+		}
+	}
+}
+
+// TestTeamSleepers runs loops of every kind on teams whose workers find the
+// next loop while they watch for it (no pause), after they have gone to
+// sleep (a pause of several teamSpin), and in between, and checks that
+// every index is passed once and that the caller returns only after its
+// workers' blocks: the sums written by the blocks are complete when For,
+// Split and Chunks return. Run with -race it also checks the hand-over of
+// the tasks.
+func TestTeamSleepers(t *testing.T) {
+	for _, threads := range []int{2, 3, 5} {
+		tm := testTeam(t, threads)
+		for round, pause := range []time.Duration{0, 10 * teamSpin, teamSpin, 0, 3 * teamSpin} {
+			time.Sleep(pause)
+			for kind := 0; kind < 3; kind++ {
+				n := 1000 + 37*round
+				sums := make([]int64, threads)
+				body := func(lo, hi, block int) {
+					if kind == 2 && round%2 == 1 {
+						time.Sleep(teamSpin) // the caller sleeps while it waits
+					}
+					for i := lo; i < hi; i++ {
+						sums[block] += int64(i)
+					}
+				}
+				switch kind {
+				case 0:
+					tm.For(n, body)
+				case 1:
+					tm.Split(parallel.Blocks(n, threads), body)
+				case 2:
+					var mu sync.Mutex
+					tm.Chunks(n, 64, func(lo, hi, worker int) {
+						mu.Lock()
+						defer mu.Unlock()
+						body(lo, hi, worker)
+					})
+				}
+				var total int64
+				for _, s := range sums {
+					total += s
+				}
+				if want := int64(n) * int64(n-1) / 2; total != want {
+					t.Fatalf("threads %d, pause %v, loop kind %d: sum %d, want %d", threads, pause, kind, total, want)
 				}
 			}
 		}
