@@ -295,25 +295,51 @@ func (v *View) Column(j int, dst []float32, threads int) []float32 {
 	dst = dst[:n]
 	src := v.cols[j]
 	x := v.x
+	// The column's expected place in a row is the share of a row's
+	// entries that lie in the columns before it: from the tally of rows
+	// per column where the counts have one (genes are stored in very
+	// different numbers of cells), else the column's share of the columns.
+	num, den := uint64(src), uint64(max(1, x.Cols))
+	if t := x.Tally; t != nil && len(t.ColRows) == x.Cols {
+		var before, all int64
+		for c, rows := range t.ColRows {
+			if c < src {
+				before += rows
+			}
+			all += rows
+		}
+		if all > 0 {
+			num, den = uint64(before), uint64(all)
+		}
+	}
 	parallel.For(n, threads, func(lo, hi, _ int) {
 		var touched uint16
 		for i := lo; i < hi; i++ {
+			if x.Col32 != nil {
+				dst[i] = 0
+				if k := x.Find(v.rows[i], src); k >= 0 {
+					dst[i] = v.Value(i, x.Value(k))
+				}
+				continue
+			}
 			// Read where the column is likely to be in the row 8 rows
 			// ahead: that load waits on memory alongside this row's
 			// search instead of after it.
-			if a := i + 8; a < hi && x.Col32 == nil {
+			if a := i + 8; a < hi {
 				r := v.rows[a]
 				s, e := x.RowPtr[r], x.RowPtr[r+1]
 				if e > s {
-					touched ^= x.Col16[s+int64(uint64(src)*uint64(e-s)/uint64(max(1, x.Cols)))]
+					touched ^= x.Col16[s+min(int64(uint64(e-s)*num/den), e-s-1)]
 				}
 			}
-			k := x.Find(v.rows[i], src)
+			r := v.rows[i]
+			s, e := x.RowPtr[r], x.RowPtr[r+1]
+			k := int64(SearchFrom16(x.Col16[s:e], uint16(src), int(uint64(e-s)*num/den)))
 			if k < 0 {
 				dst[i] = 0
 				continue
 			}
-			dst[i] = v.Value(i, x.Value(k))
+			dst[i] = v.Value(i, x.Value(s+k))
 		}
 		sink.Store(uint32(touched))
 	})
