@@ -3,9 +3,14 @@ package neighbors
 import (
 	"context"
 	"math/rand/v2"
+	"unsafe"
 
 	"lodestone/compute/atlas"
 )
+
+// treeAhead is the number of rows a tree's projection asks for ahead of
+// those it reads.
+const treeAhead = 16
 
 // rpTree is one random-projection tree (Dasgupta & Freund 2008) over the rows
 // of a matrix, kept only as its leaves: perm lists the row ids leaf by leaf,
@@ -55,6 +60,11 @@ func buildRPTree(ctx context.Context, x *atlas.Dense, leafSize int, rng *rand.Ra
 		}
 		p := proj[c.lo:c.hi]
 		for i, id := range ids {
+			// The rows are scattered in memory: ask for those of the
+			// next block while this one is projected.
+			if i%treeAhead == 0 && i+treeAhead < len(ids) {
+				prefetchRows(unsafe.Pointer(&x.Data[0]), ids[i+treeAhead:min(i+2*treeAhead, len(ids))], 4*dim)
+			}
 			p[i] = dot(dir, x.Row(int(id)))
 		}
 		mid := len(ids) / 2
