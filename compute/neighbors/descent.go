@@ -100,8 +100,14 @@ func (j *joiner) gather(w int, ids []int32) []float32 {
 // joinLeaves offers every pair of rows that share a leaf of t to both lists.
 func (j *joiner) joinLeaves(ctx context.Context, t *rpTree) error {
 	dim := j.x.Cols
+	k := j.l.k
 	return parallel.ForChunks(ctx, t.leaves(), 1, j.threads, func(l, _, w int) {
 		ids := t.leaf(l)
+		// The leaf's lists are scattered in memory: ask for them all
+		// before the rows are gathered.
+		prefetchRows(unsafe.Pointer(&j.l.dist[0]), ids, 4*k)
+		prefetchRows(unsafe.Pointer(&j.l.idx[0]), ids, 4*k)
+		prefetchRows(unsafe.Pointer(&j.thr[0]), ids, 4)
 		rows := j.gather(w, ids)
 		for a := 1; a < len(ids); a++ {
 			s := j.work[w]
